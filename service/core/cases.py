@@ -1,0 +1,54 @@
+"""The result of a vectorised calculation over many cases.
+
+Every calculation family ends in one ``evaluate_*`` function that returns a
+:class:`CaseResults`: the output arrays, the cases that are physically impossible (each
+with a reason an engineer can act on), and the design checks. Impossible cases hold NaN in
+every output; the HTTP layer turns them into per-case errors.
+"""
+
+from __future__ import annotations
+
+from dataclasses import dataclass, field
+
+import numpy as np
+
+from service.core.checks import RuleCheck
+
+
+@dataclass(frozen=True)
+class CaseResults:
+    """Outputs, failures and checks of one calculation over ``size`` cases.
+
+    Parameters
+    ----------
+    values : dict of str to numpy.ndarray
+        Output arrays, each of shape ``(size,)`` (or ``(size, k)`` for per-stage lists).
+    failures : list of (str, numpy.ndarray)
+        Reasons with a boolean mask of the cases they apply to; the first reason that
+        applies to a case is the one reported.
+    checks : dict of str to RuleCheck
+        Rules of thumb judged on every case.
+    """
+
+    values: dict[str, np.ndarray]
+    failures: list[tuple[str, np.ndarray]] = field(default_factory=list)
+    checks: dict[str, RuleCheck] = field(default_factory=dict)
+
+    @property
+    def size(self) -> int:
+        return int(np.size(next(iter(self.values.values())))) if self.values else 0
+
+    def failed(self) -> np.ndarray:
+        """Boolean mask of the cases that could not be computed."""
+        shape = np.shape(next(iter(self.values.values()))) if self.values else (0,)
+        mask = np.zeros(shape, dtype=bool)
+        for _, where in self.failures:
+            mask |= np.broadcast_to(where, mask.shape)
+        return mask
+
+
+def broadcast_cases(*arrays) -> list[np.ndarray]:
+    """Broadcast inputs to their common shape as float arrays (scalars stay 0-d)."""
+    arrays = [np.asarray(a, dtype=float) for a in arrays]
+    shape = np.broadcast_shapes(*(a.shape for a in arrays))
+    return [np.broadcast_to(a, shape).astype(float, copy=False) for a in arrays]

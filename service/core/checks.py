@@ -1,0 +1,125 @@
+"""Design rules of thumb, judged case by case.
+
+A rule never refuses a design: it reports the value it judged, the limit, a status
+(``ok``, ``warn`` or ``fail``) and the basis of the limit (a published source or
+"common practice"), so the engineer can see why a row was flagged.
+"""
+
+from __future__ import annotations
+
+from dataclasses import dataclass
+
+import numpy as np
+
+STATUSES = ("ok", "warn", "fail")
+COMPARISONS = ("at_least", "at_most")
+
+COMMON_PRACTICE = "common practice"
+
+
+@dataclass(frozen=True)
+class RuleCheck:
+    """One rule of thumb applied to an array of cases.
+
+    Parameters
+    ----------
+    value : numpy.ndarray
+        The judged quantity, one entry per case. [-]
+    limit : float
+        The boundary of the acceptable band; crossing it gives ``beyond_limit``. [-]
+    comparison : str
+        ``at_least`` (the value should not fall below ``limit``) or ``at_most``.
+    basis : str
+        Where the limit comes from: a published source, or ``common practice``.
+    beyond_limit : str, optional
+        Status when ``limit`` is crossed: ``warn`` (default) or ``fail``.
+    fail_limit : float, optional
+        A second, harder boundary beyond which the status is ``fail``. [-]
+    """
+
+    value: np.ndarray
+    limit: float
+    comparison: str
+    basis: str
+    beyond_limit: str = "warn"
+    fail_limit: float | None = None
+
+    def __post_init__(self):
+        if self.comparison not in COMPARISONS:
+            raise ValueError(f"comparison must be one of {COMPARISONS}, not {self.comparison!r}")
+        if self.beyond_limit not in STATUSES[1:]:
+            raise ValueError(f"beyond_limit must be 'warn' or 'fail', not {self.beyond_limit!r}")
+
+    def _crosses(self, boundary: float) -> np.ndarray:
+        value = np.asarray(self.value, dtype=float)
+        if self.comparison == "at_least":
+            return value < boundary
+        return value > boundary
+
+    @property
+    def status(self) -> np.ndarray:
+        """Status of every case: ``ok``, ``warn`` or ``fail``. [-]"""
+        status = np.where(self._crosses(self.limit), self.beyond_limit, "ok")
+        if self.fail_limit is not None:
+            status = np.where(self._crosses(self.fail_limit), "fail", status)
+        return status.astype(f"<U{max(map(len, STATUSES))}")
+
+    def subset(self, index) -> RuleCheck:
+        """The same rule restricted to the cases selected by ``index``."""
+        return RuleCheck(
+            value=np.asarray(self.value)[index],
+            limit=self.limit,
+            comparison=self.comparison,
+            basis=self.basis,
+            beyond_limit=self.beyond_limit,
+            fail_limit=self.fail_limit,
+        )
+
+
+def de_haller_check(velocity_ratio) -> RuleCheck:
+    """De Haller's limit on the deceleration of a blade row.
+
+    Parameters
+    ----------
+    velocity_ratio : array_like
+        Outlet over inlet speed in the row's own frame (W2/W1 for a rotor, V3/V2 for a
+        stator). [-]
+
+    Returns
+    -------
+    RuleCheck
+        Warns below 0.72.
+
+    References
+    ----------
+    1. de Haller, P. (1953), "Das Verhalten von Tragflügelgittern in Axialverdichtern und im
+       Windkanal", Brennstoff-Wärme-Kraft 5(10).
+    """
+    return RuleCheck(
+        value=np.asarray(velocity_ratio, dtype=float),
+        limit=0.72,
+        comparison="at_least",
+        basis="de Haller (1953), Brennstoff-Wärme-Kraft 5(10)",
+    )
+
+
+def deceleration_check(velocity_ratio) -> RuleCheck:
+    """The hard floor on the outlet-to-inlet speed ratio of a decelerating row.
+
+    Parameters
+    ----------
+    velocity_ratio : array_like
+        Outlet over inlet speed in the row's own frame. [-]
+
+    Returns
+    -------
+    RuleCheck
+        Fails below 0.5 (common practice: a row that halves its speed separates).
+    """
+    return RuleCheck(
+        value=np.asarray(velocity_ratio, dtype=float),
+        limit=0.5,
+        comparison="at_least",
+        basis=COMMON_PRACTICE,
+        beyond_limit="fail",
+    )
