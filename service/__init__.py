@@ -1,0 +1,14 @@
+"""Meanline preliminary-design calculations of axial compressors and turbines, over HTTP.
+
+The numerical core (:mod:`service.core`) imports no web framework; the application factory
+is imported lazily so that ``import service.core`` stays free of Flask.
+"""
+
+__version__ = "0.1.0"
+
+
+def create_app(config=None):
+    """Create the Flask application (see :func:`service.api.app.create_app`)."""
+    from service.api.app import create_app as _create_app
+
+    return _create_app(config)

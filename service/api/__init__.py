@@ -1,0 +1,1 @@
+"""The HTTP layer: parses, calls the core, formats. No physics here."""

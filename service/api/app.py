@@ -1,0 +1,141 @@
+"""The Flask application factory and the service's own endpoints."""
+
+from __future__ import annotations
+
+import json
+import math
+import os
+from collections.abc import Mapping
+
+import orjson
+from flask import Blueprint, Flask, Response, current_app, request
+
+from service import __version__
+from service.api.calculation import Calculation, run_calculation
+from service.api.problems import MALFORMED, TOO_LARGE, Problem, register_error_handlers
+from service.api.registry import CALCULATIONS
+from service.api.spec import build_spec
+
+DEFAULTS = {
+    "MAX_BODY_BYTES": 16 * 1024 * 1024,
+    "MAX_CASES": 1_000_000,
+}
+#: Configuration keys read from ``MEANLINE_<KEY>`` environment variables, with their parsers.
+ENVIRONMENT = {
+    "MAX_BODY_BYTES": int,
+    "MAX_CASES": int,
+}
+
+
+def load_config(config: Mapping | None = None) -> dict:
+    """Defaults, then ``MEANLINE_*`` environment variables, then the given mapping."""
+    settings = dict(DEFAULTS)
+    for key, parse in ENVIRONMENT.items():
+        raw = os.environ.get(f"MEANLINE_{key}")
+        if raw is not None:
+            try:
+                settings[key] = parse(raw)
+            except ValueError as error:
+                raise ValueError(f"MEANLINE_{key}={raw!r} is not valid: {error}") from None
+    settings.update(config or {})
+    return settings
+
+
+def create_app(config: Mapping | None = None) -> Flask:
+    """Create the service.
+
+    Parameters
+    ----------
+    config : mapping, optional
+        Settings that override the defaults and the ``MEANLINE_*`` environment variables:
+        ``MAX_BODY_BYTES`` (request body limit, 413 above it) and ``MAX_CASES`` (cases per
+        request, 413 above it).
+    """
+    app = Flask(__name__)
+    app.config.update(load_config(config))
+    # Werkzeug refuses a declared Content-Length above this; a chunked body is cut at it,
+    # which read_json() treats as too large.
+    app.config["MAX_CONTENT_LENGTH"] = app.config["MAX_BODY_BYTES"]
+    register_error_handlers(app)
+
+    spec_bytes = orjson.dumps(build_spec(list(CALCULATIONS), __version__))
+    blueprint = Blueprint("calculations", __name__)
+    for calculation in CALCULATIONS:
+        blueprint.add_url_rule(calculation.path, endpoint=calculation.name,
+                               view_func=_calculation_view(calculation), methods=["POST"])
+    app.register_blueprint(blueprint)
+
+    @app.get("/healthz")
+    def healthz():
+        return _json({"status": "ok"})
+
+    @app.get("/readyz")
+    def readyz():
+        return _json({"status": "ready"}) if _computes_known_case() else _not_ready()
+
+    @app.get("/v1/openapi.json")
+    def openapi():
+        return Response(spec_bytes, mimetype="application/json")
+
+    @app.after_request
+    def security_headers(response: Response) -> Response:
+        response.headers.setdefault("X-Content-Type-Options", "nosniff")
+        if response.status_code >= 400:
+            response.headers["Cache-Control"] = "no-store"
+        return response
+
+    return app
+
+
+def _calculation_view(calculation: Calculation):
+    def view():
+        body, _ = run_calculation(calculation, read_json(), current_app.config["MAX_CASES"])
+        return _json(body)
+
+    view.__name__ = f"calculate_{calculation.name.replace('-', '_')}"
+    return view
+
+
+def _json(body) -> Response:
+    return Response(orjson.dumps(body, option=orjson.OPT_SERIALIZE_NUMPY), mimetype="application/json")
+
+
+def _reject_duplicate_keys(pairs):
+    names = [name for name, _ in pairs]
+    if len(set(names)) != len(names):
+        duplicates = sorted({name for name in names if names.count(name) > 1})
+        raise Problem(400, "Malformed JSON", f"Duplicate keys in one object: {', '.join(duplicates)}.", MALFORMED)
+    return dict(pairs)
+
+
+def read_json():
+    """The request body as JSON, with the statuses of the design brief for every way it can fail."""
+    mimetype = request.mimetype or ""
+    if not (mimetype == "application/json" or mimetype.endswith("+json")):
+        raise Problem(415, "Unsupported Media Type",
+                      f"Send the body as application/json, not {mimetype or 'no Content-Type'}.")
+    limit = current_app.config["MAX_BODY_BYTES"]
+    body = request.get_data(cache=False)
+    if len(body) >= limit:
+        raise Problem(413, "Content Too Large", f"The body reaches the limit of {limit} bytes. Split the batch.",
+                      TOO_LARGE)
+    try:
+        return json.loads(body.decode("utf-8"), object_pairs_hook=_reject_duplicate_keys)
+    except UnicodeDecodeError:
+        raise Problem(400, "Malformed JSON", "The body is not UTF-8 text.", MALFORMED) from None
+    except json.JSONDecodeError as error:
+        raise Problem(400, "Malformed JSON", f"The body is not valid JSON: {error}.", MALFORMED) from None
+    except RecursionError:
+        raise Problem(400, "Malformed JSON", "The body is nested too deeply.", MALFORMED) from None
+
+
+def _computes_known_case() -> bool:
+    # A compressor stage at phi 0.5, psi 0.4, R 0.5: alpha1 = atan(0.6) by hand.
+    calculation = next(c for c in CALCULATIONS if c.name == "triangles")
+    body, _ = run_calculation(calculation, {"machine": "compressor", "flow_coefficient": 0.5,
+                                            "loading_coefficient": 0.4, "reaction": 0.5, "blade_speed": 300.0}, 1)
+    return math.isclose(body["alpha1"], math.degrees(math.atan(0.6)), rel_tol=1e-12)
+
+
+def _not_ready() -> Response:
+    raise Problem(503, "Not ready", "The service failed its known-answer self test.")

@@ -1,0 +1,520 @@
+"""The one mechanism that every calculation endpoint runs through.
+
+A :class:`Calculation` declares its input schema, its input modes, its outputs and the core
+function that computes a batch. :func:`run_calculation` then handles the three request
+shapes (one case, rows, columns), validation with JSON Pointers, grouping of cases that share
+options and a mode, the vectorised core call per group, per-case failures and the response
+layout, identically for every endpoint.
+"""
+
+from __future__ import annotations
+
+from collections.abc import Callable, Mapping
+from dataclasses import dataclass, field
+from typing import Any
+
+import numpy as np
+from marshmallow import Schema, ValidationError
+
+from service.api.fields import CaseSchema, Option, QuantityList
+from service.api.problems import MAX_LISTED_ERRORS, PHYSICALLY_IMPOSSIBLE, Problem, invalid_input
+from service.core.cases import CaseResults
+
+NOT_FINITE = "the result is not a finite number (overflow): check the magnitudes of the inputs"
+
+
+@dataclass(frozen=True)
+class Mode:
+    """One way of specifying a case: the fields it needs and the options it applies to.
+
+    Parameters
+    ----------
+    name : str
+        Short name, used in the OpenAPI component names.
+    description : str
+        What the caller gives in this mode, in words.
+    required, optional : tuple of str
+        Fields this mode needs, and fields only this mode accepts.
+    when : mapping of str to tuple of str
+        Option values this mode applies to, e.g. ``{"machine": ("compressor",)}``.
+    """
+
+    name: str
+    description: str
+    required: tuple[str, ...]
+    optional: tuple[str, ...] = ()
+    when: Mapping[str, tuple[str, ...]] = field(default_factory=dict)
+
+    def applies(self, options: Mapping[str, str]) -> bool:
+        return all(options.get(name) in values for name, values in self.when.items())
+
+
+@dataclass(frozen=True)
+class Calculation:
+    """A calculation endpoint, ``POST /v1/<name>``.
+
+    Parameters
+    ----------
+    name : str
+        URL segment and OpenAPI tag.
+    summary, description : str
+        For the OpenAPI document.
+    schema : type of CaseSchema
+        Every input field.
+    outputs : type of Schema
+        Every output field, for the documentation and for integer formatting.
+    modes : tuple of Mode
+        The ways of specifying a case; fields named by no mode are accepted in every mode.
+    compute : callable
+        ``compute(mode, options, inputs) -> CaseResults`` with ``inputs`` arrays of one length.
+    together : tuple of tuple of str
+        Fields that are given all together or not at all.
+    """
+
+    name: str
+    summary: str
+    description: str
+    schema: type[CaseSchema]
+    outputs: type[Schema]
+    modes: tuple[Mode, ...]
+    compute: Callable[[Mode, dict[str, str], dict[str, Any]], CaseResults]
+    together: tuple[tuple[str, ...], ...] = ()
+
+    def __post_init__(self):
+        declared = set(self.schema().fields)
+        for mode in self.modes:
+            unknown = (set(mode.required) | set(mode.optional) | set(mode.when)) - declared
+            if unknown:
+                raise ValueError(f"mode {mode.name!r} of {self.name!r} names undeclared fields {sorted(unknown)}")
+        # Built once: schema instances and field lookups serve every request.
+        object.__setattr__(self, "_case_schema", self.schema())
+        object.__setattr__(self, "_columns_schema", self.schema(columns=True))
+        object.__setattr__(self, "_integer_outputs", {
+            name for name, f in self.outputs().fields.items() if type(f).__name__ == "Integer"
+        })
+
+    @property
+    def path(self) -> str:
+        return f"/v1/{self.name}"
+
+    @property
+    def mode_fields(self) -> set[str]:
+        return {f for mode in self.modes for f in (*mode.required, *mode.optional)}
+
+    @property
+    def option_fields(self) -> tuple[str, ...]:
+        return tuple(name for name, f in self._case_schema.fields.items() if isinstance(f, Option))
+
+    def allowed_fields(self, mode: Mode) -> set[str]:
+        return (set(self._case_schema.fields) - self.mode_fields) | set(mode.required) | set(mode.optional)
+
+
+@dataclass
+class _Group:
+    """Cases that were given the same fields: loaded columns and where they came from."""
+
+    data: dict[str, Any]
+    present: frozenset[str]
+    index: np.ndarray  # positions of these cases in the whole request
+    pointer: Callable[[str, tuple], str]  # (field, path below it) -> JSON Pointer
+    case_pointers: Callable[[str, np.ndarray], list[str]]  # (field, positions) -> pointers
+
+
+@dataclass
+class _Outcome:
+    index: np.ndarray
+    values: dict[str, np.ndarray]
+    checks: dict[str, Any]
+    failure: np.ndarray  # reason per case, "" where the case succeeded
+
+
+def run_calculation(calculation: Calculation, payload: Any, max_cases: int):
+    """Validate, compute and lay out the response body of one request.
+
+    Returns
+    -------
+    (dict, int)
+        The response body and the number of cases computed.
+
+    Raises
+    ------
+    Problem
+        422 for invalid input (every offending field named), 413 above ``max_cases``, and
+        422 for a single case that is physically impossible.
+    """
+    if not isinstance(payload, dict):
+        raise invalid_input([("", "The request body must be a JSON object: one case, {\"cases\": [...]} "
+                                  "or {\"columns\": {...}}.")])
+    if "cases" in payload:
+        shape = "rows"
+        groups, size, errors = _rows_groups(calculation, payload, max_cases)
+    elif "columns" in payload:
+        shape = "columns"
+        groups, size, errors = _columns_groups(calculation, payload, max_cases)
+    else:
+        shape = "single"
+        groups, size, errors = _single_group(calculation, payload)
+
+    outcomes = []
+    for group in groups:
+        for sub_index, options, data in _split_by_options(calculation, group):
+            mode, mode_errors = _resolve_mode(calculation, group, options, sub_index)
+            errors.extend(mode_errors)
+            if mode is not None and not errors:
+                outcomes.append(_compute(calculation, mode, options, data, group.index[sub_index]))
+    if errors:
+        raise invalid_input(errors)
+
+    if shape == "single":
+        outcome = outcomes[0]
+        if outcome.failure[0]:
+            raise Problem(422, "Physically impossible case", outcome.failure[0], PHYSICALLY_IMPOSSIBLE)
+        return _single_body(calculation, outcome), size
+    case_errors = sorted(
+        ({"index": int(i), "detail": str(reason)}
+         for o in outcomes for i, reason in zip(o.index, o.failure, strict=True) if reason),
+        key=lambda e: e["index"],
+    )
+    if shape == "rows":
+        body = {"results": _rows_body(calculation, outcomes, size), "errors": case_errors}
+    else:
+        body = {"columns": _columns_body(calculation, outcomes, size), "errors": case_errors}
+    return body, size
+
+
+# -- request shapes -> groups -------------------------------------------------------------------
+
+
+def _load(schema: CaseSchema, raw: dict, pointer):
+    try:
+        return schema.load(raw), []
+    except ValidationError as error:
+        return None, list(_flatten(error.messages, pointer))
+
+
+def _flatten(messages, pointer, path=()):
+    """Marshmallow's nested messages -> (JSON Pointer, detail) pairs."""
+    if isinstance(messages, dict):
+        for key, value in messages.items():
+            if key == "_schema":
+                key = None
+            yield from _flatten(value, pointer, path + ((key,) if key is not None else ()))
+    else:
+        for message in messages:
+            yield pointer(path[0] if path else "", path[1:]), message
+
+
+def _single_group(calculation: Calculation, payload: dict):
+    data, errors = _load(calculation._case_schema, payload, lambda f, rest: _join("", f, *rest))
+    if errors:
+        return [], 1, errors
+    return [_Group(data, frozenset(payload), np.zeros(1, dtype=int),
+                   lambda f, rest: _join("", f, *rest), lambda f, positions: [_join("", f)])], 1, []
+
+
+def _columns_groups(calculation: Calculation, payload: dict, max_cases: int):
+    extra = [( _join("", key), "Unknown field: give one of 'cases' or 'columns'.") for key in payload if key != "columns"]
+    columns = payload["columns"]
+    if not isinstance(columns, dict):
+        raise invalid_input([("/columns", "Must be an object of field names to values or lists of values.")])
+    lengths = {name: _column_length(calculation, name, value) for name, value in columns.items()}
+    lengths = {name: n for name, n in lengths.items() if n is not None}
+    size = 1
+    if lengths:
+        values, counts = np.unique(list(lengths.values()), return_counts=True)
+        size = int(values[np.argmax(counts)])
+        extra += [(f"/columns/{name}", f"All lists must have the same length: most have {size}, this has {n}.")
+                  for name, n in lengths.items() if n != size]
+    if size > max_cases:
+        raise _too_many(size, max_cases)
+
+    def pointer(f, rest):
+        return _join("/columns", f, *rest)
+
+    data, errors = _load(calculation._columns_schema, columns, pointer)
+    if errors or extra:
+        return [], size, extra + errors
+    return [_Group(data, frozenset(columns), np.arange(size), pointer,
+                   lambda f, positions: [_join("/columns", f)])], size, []
+
+
+def _column_length(calculation: Calculation, name: str, value) -> int | None:
+    if not isinstance(value, list):
+        return None
+    if isinstance(calculation._case_schema.fields.get(name), QuantityList):
+        return len(value) if value and isinstance(value[0], list) else None
+    return len(value)
+
+
+def _rows_groups(calculation: Calculation, payload: dict, max_cases: int):
+    extra = [(_join("", key), "Unknown field: give one of 'cases' or 'columns'.") for key in payload if key != "cases"]
+    cases = payload["cases"]
+    if not isinstance(cases, list):
+        raise invalid_input([("/cases", "Must be a list of case objects.")])
+    if not cases:
+        raise invalid_input([("/cases", "A batch must hold at least one case.")])
+    if len(cases) > max_cases:
+        raise _too_many(len(cases), max_cases)
+    extra += [(f"/cases/{i}", "Each case must be a JSON object.") for i, case in enumerate(cases)
+              if not isinstance(case, dict)]
+    if extra:
+        raise invalid_input(extra)
+
+    # Rows that name the same fields (and lists of the same length) load as one column block.
+    by_keys: dict[tuple, list[int]] = {}
+    for i, case in enumerate(cases):
+        key = tuple(sorted((name, len(value) if isinstance(value, list) else -1) for name, value in case.items()))
+        by_keys.setdefault(key, []).append(i)
+
+    groups, errors = [], []
+    for key, rows in by_keys.items():
+        names = [name for name, _ in key]
+        raw = {name: [cases[i][name] for i in rows] for name in names}
+        index = np.asarray(rows)
+
+        def pointer(f, rest, rows=rows):
+            if rest and isinstance(rest[0], int):
+                return _join(f"/cases/{rows[rest[0]]}", f, *rest[1:])
+            return _join(f"/cases/{rows[0]}", f, *rest)
+
+        def case_pointers(f, positions, rows=rows):
+            return [_join(f"/cases/{rows[p]}", f) for p in positions[: MAX_LISTED_ERRORS + 1]]
+
+        data, group_errors = _load(calculation._columns_schema, raw, pointer)
+        errors.extend(group_errors)
+        if data is not None:
+            groups.append(_Group(data, frozenset(names), index, pointer, case_pointers))
+    return groups, len(cases), errors
+
+
+def _too_many(size: int, max_cases: int) -> Problem:
+    return Problem(413, "Too many cases",
+                   f"The request holds {size} cases; this service takes at most {max_cases} per request. "
+                   "Split the batch.", "urn:meanline:problem:too-large")
+
+
+def _join(prefix: str, *parts) -> str:
+    escaped = (str(p).replace("~", "~0").replace("/", "~1") for p in parts if p != "")
+    return "/".join([prefix, *escaped]) if parts else prefix
+
+
+# -- options, modes, compute -------------------------------------------------------------------
+
+
+def _split_by_options(calculation: Calculation, group: _Group):
+    """Yield (positions, options, data) for each combination of option values in a group."""
+    size = len(group.index)
+    per_case = {name: group.data[name] for name in calculation.option_fields
+                if isinstance(group.data.get(name), np.ndarray)}
+    fixed = {name: group.data[name] for name in calculation.option_fields
+             if name in group.data and name not in per_case}
+    if not per_case:
+        yield np.arange(size), fixed, group.data
+        return
+    combined = np.stack([np.broadcast_to(v, (size,)) for v in per_case.values()], axis=1)
+    keys, inverse = np.unique(combined, axis=0, return_inverse=True)
+    for code, key in enumerate(keys):
+        positions = np.flatnonzero(inverse.ravel() == code)
+        options = {**fixed, **dict(zip(per_case, (str(k) for k in key), strict=True))}
+        data = {name: (value[positions] if isinstance(value, np.ndarray) and value.ndim and
+                       len(value) == size else value)
+                for name, value in group.data.items()}
+        data.update(options)
+        yield positions, options, data
+
+
+def _resolve_mode(calculation: Calculation, group: _Group, options: dict, positions: np.ndarray):
+    present = group.present
+    errors = []
+    for fields in calculation.together:
+        given = [f for f in fields if f in present]
+        if given and len(given) < len(fields):
+            errors += [(p, f"Required together with {', '.join(given)}.")
+                       for f in fields if f not in present for p in group.case_pointers(f, positions)]
+    candidates = [m for m in calculation.modes if m.applies(options)]
+    scored = []
+    for mode in candidates:
+        missing = [f for f in mode.required if f not in present]
+        extra = sorted((present & calculation.mode_fields) - calculation.allowed_fields(mode))
+        scored.append((len(missing) + len(extra), mode, missing, extra))
+    matches = [mode for score, mode, _, _ in scored if score == 0]
+    if len(matches) == 1 and not errors:
+        return matches[0], []
+    if len(matches) == 1:
+        return None, errors
+    alternatives = "; or ".join(m.description for m in candidates) or "no input mode applies to these options"
+    if not scored:
+        return None, errors + [(p, f"No way to compute this case: {alternatives}.")
+                               for p in group.case_pointers("", positions)]
+    _, best, missing, extra = min(scored, key=lambda item: item[0])
+    errors += [(p, f"Missing data for required field. Give {alternatives}.")
+               for f in missing for p in group.case_pointers(f, positions)]
+    errors += [(p, f"Does not apply here. Give {alternatives}.")
+               for f in extra for p in group.case_pointers(f, positions)]
+    return None, errors
+
+
+def _compute(calculation: Calculation, mode: Mode, options: dict, data: dict, index: np.ndarray) -> _Outcome:
+    size = len(index)
+    inputs = {}
+    for name, value in data.items():
+        if name in options or value is None or isinstance(value, str):
+            inputs[name] = value
+        elif isinstance(value, np.ndarray) and value.ndim == 2:
+            inputs[name] = value if len(value) == size else np.broadcast_to(value, (size, value.shape[-1]))
+        else:
+            inputs[name] = np.broadcast_to(np.asarray(value), (size,)) if np.ndim(value) == 0 else value
+    with np.errstate(all="ignore"):
+        result = calculation.compute(mode, options, inputs)
+    failure = np.full(size, "", dtype=object)
+    for reason, mask in reversed(result.failures):
+        failure[np.broadcast_to(mask, (size,))] = reason
+    values = {}
+    for name, array in result.values.items():
+        array = np.asarray(array, dtype=float)
+        finite = np.isfinite(array) if array.ndim == 1 else _finite_rows(array)
+        failure[(~finite) & (failure == "")] = NOT_FINITE
+        values[name] = array
+    failed = failure != ""
+    values = {name: np.where(failed.reshape((-1,) + (1,) * (a.ndim - 1)), np.nan, a) for name, a in values.items()}
+    checks = {}
+    for name, check in result.checks.items():
+        status = np.asarray(check.status, dtype=object)
+        value = np.asarray(check.value, dtype=float)
+        checks[name] = {
+            "value": np.where(failed, np.nan, value) if value.ndim == 1 else value,
+            "status": np.where(failed, None, status) if status.ndim == 1 else status,
+            "limit": check.limit,
+            "fail_limit": check.fail_limit,
+            "comparison": check.comparison,
+            "basis": check.basis,
+        }
+    return _Outcome(index=index, values=values, checks=checks, failure=failure)
+
+
+def _finite_rows(array: np.ndarray) -> np.ndarray:
+    """Per-stage outputs are NaN-padded after the last stage; only inner NaN or inf is a failure."""
+    finite = np.isfinite(array)
+    has_value = finite.any(axis=1)
+    # A padded row is finite up to its last finite entry and NaN after it.
+    last = np.where(has_value, array.shape[1] - 1 - np.argmax(finite[:, ::-1], axis=1), -1)
+    columns = np.arange(array.shape[1])
+    return has_value & np.all(finite | (columns[None, :] > last[:, None]), axis=1) & ~np.isinf(array).any(axis=1)
+
+
+# -- response layouts ----------------------------------------------------------------------------
+
+
+def _scalar(calculation: Calculation, name: str, value):
+    if isinstance(value, np.ndarray):  # one case's per-stage list, NaN-padded
+        return [_scalar(calculation, name, v) for v in value[np.isfinite(value)]]
+    if not np.isfinite(value):
+        return None
+    return int(value) if name in calculation._integer_outputs else float(value)
+
+
+def _check_entry(check: dict, i: int) -> dict:
+    value = check["value"][i]
+    return {
+        "value": (value[np.isfinite(value)].tolist() if isinstance(value, np.ndarray)
+                  else (float(value) if np.isfinite(value) else None)),
+        "limit": check["limit"],
+        "fail_limit": check["fail_limit"],
+        "comparison": check["comparison"],
+        "status": (check["status"][i].tolist()[: len(value[np.isfinite(value)])]
+                   if isinstance(value, np.ndarray) else check["status"][i]),
+        "basis": check["basis"],
+    }
+
+
+def _case_body(calculation: Calculation, outcome: _Outcome, i: int) -> dict:
+    body = {name: _scalar(calculation, name, array[i]) for name, array in outcome.values.items()}
+    body["checks"] = {name: _check_entry(check, i) for name, check in outcome.checks.items()}
+    return body
+
+
+def _single_body(calculation: Calculation, outcome: _Outcome) -> dict:
+    return _case_body(calculation, outcome, 0)
+
+
+def _rows_body(calculation: Calculation, outcomes: list[_Outcome], size: int) -> list:
+    results: list = [None] * size
+    for outcome in outcomes:
+        names = list(outcome.values)
+        simple = all(a.ndim == 1 for a in outcome.values.values()) and not calculation._integer_outputs
+        if simple:
+            # Fast path: one tolist() per column instead of one numpy scalar per value.
+            columns = [outcome.values[n].tolist() for n in names]
+            check_rows = {name: _check_rows(check) for name, check in outcome.checks.items()}
+            for j, (i, row) in enumerate(zip(outcome.index.tolist(), zip(*columns, strict=True), strict=True)):
+                body = dict(zip(names, row, strict=True))
+                body["checks"] = {name: rows[j] for name, rows in check_rows.items()}
+                results[i] = body
+        else:
+            for j, i in enumerate(outcome.index.tolist()):
+                results[i] = _case_body(calculation, outcome, j)
+    return results
+
+
+def _check_rows(check: dict) -> list[dict]:
+    if check["value"].ndim != 1:
+        return [_check_entry(check, j) for j in range(len(check["value"]))]
+    limit, fail_limit, comparison, basis = (check[k] for k in ("limit", "fail_limit", "comparison", "basis"))
+    return [{"value": v, "limit": limit, "fail_limit": fail_limit, "comparison": comparison, "status": s,
+             "basis": basis}
+            for v, s in zip(check["value"].tolist(), check["status"].tolist(), strict=True)]
+
+
+def _columns_body(calculation: Calculation, outcomes: list[_Outcome], size: int) -> dict:
+    if len(outcomes) == 1 and len(outcomes[0].index) == size:
+        outcome = outcomes[0]
+        columns = {name: _column_out(calculation, name, array) for name, array in outcome.values.items()}
+        columns["checks"] = {name: _check_column(check, size) for name, check in outcome.checks.items()}
+        return columns
+    columns: dict[str, Any] = {}
+    checks: dict[str, dict] = {}
+    for outcome in outcomes:
+        for name, array in outcome.values.items():
+            target = columns.setdefault(name, np.full((size,) + array.shape[1:], np.nan))
+            if target.shape[1:] != array.shape[1:]:  # per-stage lists of different lengths
+                width = max(target.shape[1], array.shape[1])
+                target = columns[name] = _pad(target, width)
+                array = _pad(array, width)
+            target[outcome.index] = array
+        for name, check in outcome.checks.items():
+            merged = checks.setdefault(name, {k: np.full(size, None, dtype=object) for k in check})
+            for key, value in check.items():
+                merged[key][outcome.index] = list(value) if isinstance(value, np.ndarray) else value
+    body = {name: _column_out(calculation, name, array) for name, array in columns.items()}
+    body["checks"] = {name: {k: _nan_to_none(v.tolist()) for k, v in merged.items()} for name, merged in checks.items()}
+    return body
+
+
+def _pad(array: np.ndarray, width: int) -> np.ndarray:
+    return np.pad(array, [(0, 0), (0, width - array.shape[1])], constant_values=np.nan)
+
+
+def _column_out(calculation: Calculation, name: str, array: np.ndarray):
+    if array.ndim == 2:
+        return [_scalar(calculation, name, row) if np.isfinite(row).any() else None for row in array]
+    if name in calculation._integer_outputs:
+        return [int(v) if np.isfinite(v) else None for v in array.tolist()]
+    return array  # orjson writes numpy arrays directly; NaN becomes null
+
+
+def _check_column(check: dict, size: int) -> dict:
+    if check["value"].ndim != 1:
+        rows = [_check_entry(check, j) for j in range(size)]
+        return {k: [r[k] for r in rows] for k in ("value", "limit", "fail_limit", "comparison", "status", "basis")}
+    return {
+        "value": check["value"],
+        "limit": [check["limit"]] * size,
+        "fail_limit": [check["fail_limit"]] * size,
+        "comparison": [check["comparison"]] * size,
+        "status": check["status"].tolist(),
+        "basis": [check["basis"]] * size,
+    }
+
+
+def _nan_to_none(values: list) -> list:
+    return [None if isinstance(v, float) and not np.isfinite(v) else v for v in values]

@@ -1,0 +1,57 @@
+"""Input fields shared by several calculations: one name and one description everywhere."""
+
+from __future__ import annotations
+
+from marshmallow import fields
+
+from service.api.fields import CaseSchema, Option, Quantity
+from service.core.gas import GAS_NAMES
+from service.core.triangles import MACHINES
+
+ANGLE_LIMITS = {"minimum": -90.0, "maximum": 90.0, "exclusive_minimum": True, "exclusive_maximum": True}
+POSITIVE = {"minimum": 0.0, "exclusive_minimum": True}
+
+
+def angle(description: str, **kwargs) -> Quantity:
+    """A flow angle from the axial direction, positive in the direction of rotor motion."""
+    return Quantity(f"{description} Measured from axial, positive in the direction of rotor motion. [deg]",
+                    "deg", **ANGLE_LIMITS, **kwargs)
+
+
+def positive(description: str, unit: str, **kwargs) -> Quantity:
+    return Quantity(description, unit, **POSITIVE, **kwargs)
+
+
+def machine_field(**kwargs) -> Option:
+    return Option("Kind of machine: `compressor` (work in) or `turbine` (work out).", MACHINES, **kwargs)
+
+
+class GasInputs(CaseSchema):
+    """The working fluid: a named perfect gas, optionally with its cp or gamma replaced."""
+
+    gas = Option(
+        "Named perfect gas: `air` (cp 1005 J/(kg K), gamma 1.40) or `combustion_products` "
+        "(cp 1148 J/(kg K), gamma 1.333).",
+        GAS_NAMES,
+        load_default="air",
+    )
+    cp = positive("Specific heat at constant pressure, replacing the named gas's value. [J kg^-1 K^-1]",
+                  "J kg^-1 K^-1", load_default=None)
+    gamma = Quantity("Ratio of specific heats, replacing the named gas's value; greater than 1. [-]", "-",
+                     minimum=1.0, exclusive_minimum=True, maximum=5.0 / 3.0, load_default=None)
+
+
+class InletStateInputs(CaseSchema):
+    """The total (stagnation) state at the inlet of the stage or machine."""
+
+    total_temperature = positive("Total (stagnation) temperature at the inlet (station 1). [K]", "K")
+    total_pressure = positive("Total (stagnation) pressure at the inlet (station 1). [Pa]", "Pa")
+
+
+def output(description: str, unit: str) -> fields.Float:
+    """An output number, documented with its unit."""
+    return fields.Float(metadata={"description": description, "x-unit": unit})
+
+
+def integer_output(description: str) -> fields.Integer:
+    return fields.Integer(metadata={"description": description, "x-unit": "-"})

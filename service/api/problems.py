@@ -1,0 +1,100 @@
+"""Every failure as one RFC 9457 problem document (``application/problem+json``)."""
+
+from __future__ import annotations
+
+import logging
+
+import orjson
+from flask import Flask, Response
+from werkzeug.exceptions import HTTPException
+
+PROBLEM_TYPE = "application/problem+json"
+INVALID_INPUT = "urn:meanline:problem:invalid-input"
+PHYSICALLY_IMPOSSIBLE = "urn:meanline:problem:physically-impossible"
+TOO_LARGE = "urn:meanline:problem:too-large"
+MALFORMED = "urn:meanline:problem:malformed-json"
+UNAUTHORIZED = "urn:meanline:problem:unauthorized"
+INTERNAL = "urn:meanline:problem:internal-error"
+
+#: How many field errors one response lists at most; the rest are counted.
+MAX_LISTED_ERRORS = 200
+
+log = logging.getLogger(__name__)
+
+
+class Problem(Exception):
+    """A failure that the error handler turns into a problem document.
+
+    Parameters
+    ----------
+    status : int
+        HTTP status.
+    title : str
+        Short, fixed summary of the problem type.
+    detail : str
+        What went wrong in this request, in words the caller can act on.
+    type_ : str
+        URI of the problem type.
+    errors : list of (str, str), optional
+        JSON Pointers into the request body with what is wrong there.
+    """
+
+    def __init__(self, status: int, title: str, detail: str, type_: str = "about:blank", errors=None):
+        super().__init__(detail)
+        self.status = status
+        self.title = title
+        self.detail = detail
+        self.type = type_
+        self.errors = list(errors or [])
+
+
+def invalid_input(errors, detail: str | None = None) -> Problem:
+    """422 naming every offending field by JSON Pointer."""
+    errors = sorted(errors, key=lambda item: _pointer_sort_key(item[0]))
+    return Problem(
+        422,
+        "Invalid input",
+        detail or f"{len(errors)} input value(s) are missing, unknown or out of range.",
+        INVALID_INPUT,
+        errors,
+    )
+
+
+def _pointer_sort_key(pointer: str):
+    return [(0, int(part), "") if part.isdigit() else (1, 0, part) for part in pointer.split("/")]
+
+
+def problem_response(problem: Problem, extra_headers=None) -> Response:
+    body = {"type": problem.type, "title": problem.title, "status": problem.status, "detail": problem.detail}
+    if problem.errors:
+        listed = problem.errors[:MAX_LISTED_ERRORS]
+        body["errors"] = [{"pointer": pointer, "detail": detail} for pointer, detail in listed]
+        if len(problem.errors) > len(listed):
+            body["errors_not_listed"] = len(problem.errors) - len(listed)
+    response = Response(orjson.dumps(body), status=problem.status, mimetype=PROBLEM_TYPE)
+    response.headers["Cache-Control"] = "no-store"
+    for name, value in (extra_headers or {}).items():
+        response.headers[name] = value
+    return response
+
+
+def register_error_handlers(app: Flask) -> None:
+    """Turn every exception, expected or not, into a problem document without a traceback."""
+
+    @app.errorhandler(Problem)
+    def _problem(problem: Problem):
+        return problem_response(problem)
+
+    @app.errorhandler(HTTPException)
+    def _http(error: HTTPException):
+        headers = {k: v for k, v in error.get_headers() if k.lower() in ("allow", "www-authenticate")}
+        status = error.code or 500
+        return problem_response(Problem(status, error.name, error.description or error.name), headers)
+
+    @app.errorhandler(Exception)
+    def _unexpected(error: Exception):
+        log.exception("unhandled error")
+        return problem_response(
+            Problem(500, "Internal error", "The service failed to answer; this is a bug and has been logged.",
+                    INTERNAL)
+        )

@@ -1,0 +1,220 @@
+"""The OpenAPI 3.1 document, generated from the calculations' marshmallow schemas."""
+
+from __future__ import annotations
+
+import copy
+
+from apispec import APISpec
+from apispec.ext.marshmallow import MarshmallowPlugin
+
+from service.api.calculation import Calculation, Mode
+from service.api.fields import CaseSchema, Option, Quantity, QuantityList
+from service.core.checks import COMPARISONS, STATUSES
+
+TITLE = "Meanline service"
+CAUTION = (
+    "Results are preliminary-design estimates from mean-radius methods and rules of thumb. They are "
+    "to be confirmed by detailed analysis and test, under the codes and the licensed engineering "
+    "practice that apply where the machine is built and run."
+)
+DESCRIPTION = (
+    "Meanline (mean-radius) preliminary-design calculations of axial compressors and turbines. "
+    "SI units throughout, angles in degrees from the axial direction, tangential quantities positive "
+    "in the direction of rotor motion. Every calculation takes one case (an object), rows "
+    "(`{\"cases\": [...]}`) or columns (`{\"columns\": {...}}`, a single value broadcasting to every "
+    "case). In a batch, a physically impossible case gets null outputs and an entry in `errors`; "
+    "malformed input fails the whole request with 422 and a JSON Pointer to every offending field.\n\n"
+    + CAUTION
+)
+
+
+def _number_schema(field: Quantity) -> dict:
+    schema = {"type": "integer" if field.integer else "number"}
+    if field.minimum is not None:
+        schema["exclusiveMinimum" if field.exclusive_minimum else "minimum"] = field.minimum
+    if field.maximum is not None:
+        schema["exclusiveMaximum" if field.exclusive_maximum else "maximum"] = field.maximum
+    return schema
+
+
+def _one_or_column(schema: dict) -> dict:
+    return {"oneOf": [schema, {"type": "array", "items": schema, "minItems": 1}]}
+
+
+def case_field_property(self, field, ret, **kwargs) -> dict:
+    """apispec attribute function: the JSON Schema of the service's own input fields."""
+    if not isinstance(field, Quantity | Option | QuantityList):
+        return {}
+    ret.pop("default", None) if ret.get("default") is None else None
+    if isinstance(field, Quantity):
+        schema = _number_schema(field)
+    elif isinstance(field, Option):
+        schema = {"type": "string", "enum": list(field.choices)}
+    else:
+        schema = {"type": "array", "items": _number_schema(field.item), "minItems": 1}
+    columns = bool(getattr(field.parent, "columns", False))
+    return _one_or_column(schema) if columns else schema
+
+
+def build_spec(calculations: list[Calculation], version: str) -> dict:
+    """The whole OpenAPI document as a dict."""
+    plugin = MarshmallowPlugin()
+    spec = APISpec(title=TITLE, version=version, openapi_version="3.1.0", plugins=[plugin],
+                   info={"description": DESCRIPTION})
+    plugin.converter.add_attribute_function(case_field_property)
+    _add_common_components(spec)
+    for calculation in calculations:
+        _add_calculation(spec, plugin, calculation)
+    _add_service_paths(spec)
+    return spec.to_dict()
+
+
+def _mode_schema(plugin, calculation: Calculation, mode: Mode, schema: CaseSchema) -> dict:
+    allowed = calculation.allowed_fields(mode)
+    properties, required = {}, []
+    for name, field in schema.fields.items():
+        if name not in allowed:
+            continue
+        prop = plugin.converter.field2property(field)
+        if name in mode.when:
+            prop = copy.deepcopy(prop)
+            for variant in prop.get("oneOf", [prop]):
+                (variant.get("items") or variant)["enum"] = list(mode.when[name])
+        properties[name] = prop
+        if field.required or name in mode.required:
+            required.append(name)
+    body = {"type": "object", "description": f"Give {mode.description}.", "properties": properties,
+            "required": required, "additionalProperties": False}
+    dependent = {f: [g for g in group if g != f] for group in calculation.together for f in group if f in allowed}
+    if dependent:
+        body["dependentRequired"] = dependent
+    return body
+
+
+def _ref(name: str) -> dict:
+    return {"$ref": f"#/components/schemas/{name}"}
+
+
+def _add_calculation(spec: APISpec, plugin, calculation: Calculation) -> None:
+    prefix = "".join(part.capitalize() for part in calculation.name.replace("-", "_").split("_"))
+    case_refs, column_refs = [], []
+    for mode in calculation.modes:
+        spec.components.schema(f"{prefix}Case{mode.name}",
+                               component=_mode_schema(plugin, calculation, mode, calculation._case_schema))
+        spec.components.schema(f"{prefix}Columns{mode.name}",
+                               component=_mode_schema(plugin, calculation, mode, calculation._columns_schema))
+        case_refs.append(_ref(f"{prefix}Case{mode.name}"))
+        column_refs.append(_ref(f"{prefix}Columns{mode.name}"))
+    spec.components.schema(f"{prefix}Case", component={"oneOf": case_refs})
+    spec.components.schema(f"{prefix}Columns", component={"oneOf": column_refs})
+    spec.components.schema(f"{prefix}Request", component={"oneOf": [
+        _ref(f"{prefix}Case"),
+        {"type": "object", "title": "Rows", "properties": {
+            "cases": {"type": "array", "items": _ref(f"{prefix}Case"), "minItems": 1}},
+         "required": ["cases"], "additionalProperties": False},
+        {"type": "object", "title": "Columns", "properties": {"columns": _ref(f"{prefix}Columns")},
+         "required": ["columns"], "additionalProperties": False},
+    ]})
+
+    outputs = {}
+    for name, field in calculation.outputs().fields.items():
+        prop = plugin.converter.field2property(field)
+        outputs[name] = {**prop, "type": [prop.get("type", "number"), "null"]}
+    checks = {"type": "object", "description": "Rules of thumb the case was judged against.",
+              "additionalProperties": _ref("Check")}
+    spec.components.schema(f"{prefix}Result", component={
+        "type": "object", "properties": {**outputs, "checks": checks}, "additionalProperties": False})
+    column_outputs = {name: {"type": "array", "items": prop, "description": prop.get("description", "")}
+                      for name, prop in outputs.items()}
+    spec.components.schema(f"{prefix}ResultColumns", component={
+        "type": "object", "properties": {**column_outputs, "checks": {
+            "type": "object", "additionalProperties": _ref("CheckColumns")}},
+        "additionalProperties": False})
+    spec.components.schema(f"{prefix}Response", component={"oneOf": [
+        _ref(f"{prefix}Result"),
+        {"type": "object", "title": "Rows", "required": ["results", "errors"], "additionalProperties": False,
+         "properties": {"results": {"type": "array", "items": _ref(f"{prefix}Result")},
+                        "errors": {"type": "array", "items": _ref("CaseError")}}},
+        {"type": "object", "title": "Columns", "required": ["columns", "errors"], "additionalProperties": False,
+         "properties": {"columns": _ref(f"{prefix}ResultColumns"),
+                        "errors": {"type": "array", "items": _ref("CaseError")}}},
+    ]})
+
+    problem = {"content": {"application/problem+json": {"schema": _ref("Problem")}}}
+    spec.path(path=calculation.path, operations={"post": {
+        "operationId": calculation.name.replace("-", "_"),
+        "tags": [calculation.name],
+        "summary": calculation.summary,
+        "description": calculation.description + "\n\n" + CAUTION,
+        "requestBody": {"required": True, "content": {"application/json": {"schema": _ref(f"{prefix}Request")}}},
+        "responses": {
+            "200": {"description": "Results, in the shape of the request.",
+                    "content": {"application/json": {"schema": _ref(f"{prefix}Response")}}},
+            "400": {"description": "The body is not valid JSON.", **problem},
+            "401": {"description": "An API key is required and was not given.", **problem},
+            "403": {"description": "The API key is not valid.", **problem},
+            "413": {"description": "The body or the number of cases is over the limit.", **problem},
+            "415": {"description": "The body is not JSON (Content-Type).", **problem},
+            "422": {"description": "Invalid input (every offending field named by JSON Pointer), or one "
+                                   "case that is physically impossible.", **problem},
+        },
+    }})
+
+
+def _add_common_components(spec: APISpec) -> None:
+    spec.components.schema("Problem", component={
+        "type": "object",
+        "description": "RFC 9457 problem details.",
+        "required": ["type", "title", "status", "detail"],
+        "properties": {
+            "type": {"type": "string"},
+            "title": {"type": "string"},
+            "status": {"type": "integer"},
+            "detail": {"type": "string"},
+            "errors": {"type": "array", "items": {
+                "type": "object", "required": ["pointer", "detail"],
+                "properties": {"pointer": {"type": "string", "description": "JSON Pointer into the request body."},
+                               "detail": {"type": "string"}}}},
+            "errors_not_listed": {"type": "integer", "description": "Further errors not listed."},
+        },
+    })
+    spec.components.schema("CaseError", component={
+        "type": "object", "required": ["index", "detail"], "additionalProperties": False,
+        "description": "A case of a batch that could not be computed; its outputs are null.",
+        "properties": {"index": {"type": "integer", "minimum": 0}, "detail": {"type": "string"}},
+    })
+    number_or_list = {"oneOf": [{"type": ["number", "null"]}, {"type": "array", "items": {"type": "number"}}]}
+    status_or_list = {"oneOf": [{"type": ["string", "null"], "enum": [*STATUSES, None]},
+                                {"type": "array", "items": {"type": "string", "enum": list(STATUSES)}}]}
+    check_properties = {
+        "value": {**number_or_list, "description": "The judged value (one per stage for per-stage rules)."},
+        "limit": {"type": "number", "description": "Boundary of the acceptable band."},
+        "fail_limit": {"type": ["number", "null"], "description": "Harder boundary beyond which the status is fail."},
+        "comparison": {"type": "string", "enum": list(COMPARISONS)},
+        "status": {**status_or_list, "description": "ok, warn or fail; null for a case that failed."},
+        "basis": {"type": "string", "description": "Published source of the limit, or common practice."},
+    }
+    spec.components.schema("Check", component={
+        "type": "object", "required": list(check_properties), "additionalProperties": False,
+        "properties": check_properties})
+    spec.components.schema("CheckColumns", component={
+        "type": "object", "required": list(check_properties), "additionalProperties": False,
+        "properties": {name: {"type": "array", "items": {k: v for k, v in prop.items() if k != "description"}}
+                       for name, prop in check_properties.items()}})
+
+
+def _add_service_paths(spec: APISpec) -> None:
+    status = {"type": "object", "properties": {"status": {"type": "string"}}, "required": ["status"]}
+    problem = {"content": {"application/problem+json": {"schema": _ref("Problem")}}}
+    spec.path(path="/healthz", operations={"get": {
+        "operationId": "health", "summary": "Liveness: the process answers.", "tags": ["service"],
+        "responses": {"200": {"description": "Alive.", "content": {"application/json": {"schema": status}}}}}})
+    spec.path(path="/readyz", operations={"get": {
+        "operationId": "ready", "summary": "Readiness: the process computes a known case correctly.",
+        "tags": ["service"],
+        "responses": {"200": {"description": "Ready.", "content": {"application/json": {"schema": status}}},
+                      "503": {"description": "Not ready.", **problem}}}})
+    spec.path(path="/v1/openapi.json", operations={"get": {
+        "operationId": "openapi", "summary": "This OpenAPI document.", "tags": ["service"],
+        "responses": {"200": {"description": "The OpenAPI 3.1 document.",
+                              "content": {"application/json": {"schema": {"type": "object"}}}}}}})
