@@ -402,7 +402,7 @@ def pitch_to_axial_chord_for_zweifel_compressible_from_pressure(
     Returns
     -------
     numpy.ndarray
-        Pitch over axial chord; NaN also unless ``0 < outlet_pressure < inlet_total_pressure``. [-]
+        Pitch over axial chord; NaN also unless ``0 < outlet_pressure <= inlet_total_pressure``. [-]
     """
     mach = outlet_mach_from_pressure(inlet_total_pressure, outlet_pressure, gamma)
     return pitch_to_axial_chord_for_zweifel_compressible(
