@@ -48,6 +48,29 @@ class Mode:
     def applies(self, options: Mapping[str, str]) -> bool:
         return all(options.get(name) in values for name, values in self.when.items())
 
+    def includes(self, part: str) -> bool:
+        """Whether this mode is, or was combined from, the mode named ``part``."""
+        return part in self.name.split("With")
+
+
+def combine_modes(*dimensions: tuple[Mode, ...]) -> tuple[Mode, ...]:
+    """Every combination of one mode from each dimension, e.g. (how the pitch is given) x
+    (how the chord is given) x (which definition), as single modes named ``AWithBWithC``."""
+    combined = [Mode("", "", ())]
+    for dimension in dimensions:
+        combined = [
+            Mode(
+                name=f"{a.name}With{b.name}" if a.name else b.name,
+                description=f"{a.description}, with {b.description}" if a.description else b.description,
+                required=a.required + b.required,
+                optional=a.optional + b.optional,
+                when={**a.when, **b.when},
+            )
+            for a in combined for b in dimension
+            if all(a.when.get(k, v) == v for k, v in b.when.items())
+        ]
+    return tuple(combined)
+
 
 @dataclass(frozen=True)
 class Calculation:
@@ -186,10 +209,18 @@ def run_calculation(calculation: Calculation, payload: Any, max_cases: int):
 
 
 def _load(schema: CaseSchema, raw: dict, pointer):
+    """Loaded fields and errors; where loading fails, the valid option values still come back so
+    that the input mode can be judged too and every offending field is named at once."""
     try:
         return schema.load(raw), []
     except ValidationError as error:
-        return None, list(_flatten(error.messages, pointer))
+        options = {}
+        for name, f in schema.fields.items():
+            if isinstance(f, Option) and name not in error.messages:
+                value = raw.get(name, f.load_default)
+                if isinstance(value, str) or (isinstance(value, list) and all(isinstance(v, str) for v in value)):
+                    options[name] = value if isinstance(value, str) else np.asarray(value, dtype=str)
+        return options, list(_flatten(error.messages, pointer))
 
 
 def _flatten(messages, pointer, path=()):
@@ -206,10 +237,8 @@ def _flatten(messages, pointer, path=()):
 
 def _single_group(calculation: Calculation, payload: dict):
     data, errors = _load(calculation._case_schema, payload, lambda f, rest: _join("", f, *rest))
-    if errors:
-        return [], 1, errors
     return [_Group(data, frozenset(payload), np.zeros(1, dtype=int),
-                   lambda f, rest: _join("", f, *rest), lambda f, positions: [_join("", f)])], 1, []
+                   lambda f, rest: _join("", f, *rest), lambda f, positions: [_join("", f)])], 1, errors
 
 
 def _columns_groups(calculation: Calculation, payload: dict, max_cases: int):
@@ -232,10 +261,10 @@ def _columns_groups(calculation: Calculation, payload: dict, max_cases: int):
         return _join("/columns", f, *rest)
 
     data, errors = _load(calculation._columns_schema, columns, pointer)
-    if errors or extra:
+    if extra:
         return [], size, extra + errors
     return [_Group(data, frozenset(columns), np.arange(size), pointer,
-                   lambda f, positions: [_join("/columns", f)])], size, []
+                   lambda f, positions: [_join("/columns", f)])], size, errors
 
 
 def _column_length(calculation: Calculation, name: str, value) -> int | None:
@@ -282,8 +311,7 @@ def _rows_groups(calculation: Calculation, payload: dict, max_cases: int):
 
         data, group_errors = _load(calculation._columns_schema, raw, pointer)
         errors.extend(group_errors)
-        if data is not None:
-            groups.append(_Group(data, frozenset(names), index, pointer, case_pointers))
+        groups.append(_Group(data, frozenset(names), index, pointer, case_pointers))
     return groups, len(cases), errors
 
 
@@ -305,7 +333,7 @@ def _split_by_options(calculation: Calculation, group: _Group):
     """Yield (positions, options, data) for each combination of option values in a group."""
     size = len(group.index)
     per_case = {name: group.data[name] for name in calculation.option_fields
-                if isinstance(group.data.get(name), np.ndarray)}
+                if isinstance(group.data.get(name), np.ndarray) and len(group.data[name]) == size}
     fixed = {name: group.data[name] for name in calculation.option_fields
              if name in group.data and name not in per_case}
     if not per_case:
@@ -342,11 +370,13 @@ def _resolve_mode(calculation: Calculation, group: _Group, options: dict, positi
         return matches[0], []
     if len(matches) == 1:
         return None, errors
-    alternatives = "; or ".join(m.description for m in candidates) or "no input mode applies to these options"
     if not scored:
-        return None, errors + [(p, f"No way to compute this case: {alternatives}.")
+        return None, errors + [(p, "No way to compute this case with these options.")
                                for p in group.case_pointers("", positions)]
     _, best, missing, extra = min(scored, key=lambda item: item[0])
+    fewest = min(score for score, *_ in scored)
+    nearest = [mode for score, mode, _, _ in scored if score == fewest]
+    alternatives = "; or ".join(m.description for m in nearest)
     errors += [(p, f"Missing data for required field. Give {alternatives}.")
                for f in missing for p in group.case_pointers(f, positions)]
     errors += [(p, f"Does not apply here. Give {alternatives}.")
@@ -486,7 +516,11 @@ def _columns_body(calculation: Calculation, outcomes: list[_Outcome], size: int)
             for key, value in check.items():
                 merged[key][outcome.index] = list(value) if isinstance(value, np.ndarray) else value
     body = {name: _column_out(calculation, name, array) for name, array in columns.items()}
-    body["checks"] = {name: {k: _nan_to_none(v.tolist()) for k, v in merged.items()} for name, merged in checks.items()}
+    body["checks"] = {
+        name: {"value": _nan_to_none(merged["value"].tolist()), **_rule_constants(merged),
+               "status": merged["status"].tolist()}
+        for name, merged in checks.items()
+    }
     return body
 
 
@@ -505,15 +539,21 @@ def _column_out(calculation: Calculation, name: str, array: np.ndarray):
 def _check_column(check: dict, size: int) -> dict:
     if check["value"].ndim != 1:
         rows = [_check_entry(check, j) for j in range(size)]
-        return {k: [r[k] for r in rows] for k in ("value", "limit", "fail_limit", "comparison", "status", "basis")}
-    return {
-        "value": check["value"],
-        "limit": [check["limit"]] * size,
-        "fail_limit": [check["fail_limit"]] * size,
-        "comparison": [check["comparison"]] * size,
-        "status": check["status"].tolist(),
-        "basis": [check["basis"]] * size,
-    }
+        return {"value": [r["value"] for r in rows], **_rule_constants(check), "status": [r["status"] for r in rows]}
+    return {"value": check["value"], **_rule_constants(check), "status": check["status"].tolist()}
+
+
+def _rule_constants(check: dict) -> dict:
+    """The rule's limit, comparison and basis: one value when the whole batch shares it (as a
+    scalar in request columns broadcasts), otherwise one per case."""
+    constants = {}
+    for key in ("limit", "fail_limit", "comparison", "basis"):
+        value = check[key]
+        if isinstance(value, np.ndarray):
+            distinct = {v for v in value.tolist() if v is not None}
+            value = distinct.pop() if len(distinct) == 1 else _nan_to_none(value.tolist())
+        constants[key] = value
+    return constants
 
 
 def _nan_to_none(values: list) -> list:

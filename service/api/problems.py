@@ -50,7 +50,7 @@ class Problem(Exception):
 
 def invalid_input(errors, detail: str | None = None) -> Problem:
     """422 naming every offending field by JSON Pointer."""
-    errors = sorted(errors, key=lambda item: _pointer_sort_key(item[0]))
+    errors = sorted(set(errors), key=lambda item: (_pointer_sort_key(item[0]), item[1]))
     return Problem(
         422,
         "Invalid input",

@@ -2,8 +2,6 @@
 
 from __future__ import annotations
 
-import copy
-
 from apispec import APISpec
 from apispec.ext.marshmallow import MarshmallowPlugin
 
@@ -69,19 +67,32 @@ def build_spec(calculations: list[Calculation], version: str) -> dict:
     return spec.to_dict()
 
 
-def _mode_schema(plugin, calculation: Calculation, mode: Mode, schema: CaseSchema) -> dict:
+def _field_components(spec: APISpec, plugin, prefix: str, calculation: Calculation) -> None:
+    """One component per input field and shape, so the mode schemas only reference them."""
+    for shape, schema in (("", calculation._case_schema), ("Column", calculation._columns_schema)):
+        for name, field in schema.fields.items():
+            spec.components.schema(_field_component(prefix, name, shape), component=plugin.converter.field2property(field))
+
+
+def _field_component(prefix: str, name: str, shape: str) -> str:
+    return f"{prefix}{shape}Field_{name}"
+
+
+def _mode_schema(prefix: str, calculation: Calculation, mode: Mode, shape: str) -> dict:
     allowed = calculation.allowed_fields(mode)
+    schema = calculation._columns_schema if shape else calculation._case_schema
     properties, required = {}, []
     for name, field in schema.fields.items():
         if name not in allowed:
             continue
-        prop = plugin.converter.field2property(field)
+        properties[name] = _ref(_field_component(prefix, name, shape))
         if name in mode.when:
-            prop = copy.deepcopy(prop)
-            for variant in prop.get("oneOf", [prop]):
-                (variant.get("items") or variant)["enum"] = list(mode.when[name])
-        properties[name] = prop
-        if field.required or name in mode.required:
+            enum = list(mode.when[name])
+            properties[name] = {**properties[name], **(
+                {"oneOf": [{"enum": enum}, {"type": "array", "items": {"enum": enum}}]} if shape else {"enum": enum})}
+            if field.load_default not in mode.when[name]:
+                required.append(name)
+        if (field.required or name in mode.required) and name not in required:
             required.append(name)
     body = {"type": "object", "description": f"Give {mode.description}.", "properties": properties,
             "required": required, "additionalProperties": False}
@@ -98,11 +109,11 @@ def _ref(name: str) -> dict:
 def _add_calculation(spec: APISpec, plugin, calculation: Calculation) -> None:
     prefix = "".join(part.capitalize() for part in calculation.name.replace("-", "_").split("_"))
     case_refs, column_refs = [], []
+    _field_components(spec, plugin, prefix, calculation)
     for mode in calculation.modes:
-        spec.components.schema(f"{prefix}Case{mode.name}",
-                               component=_mode_schema(plugin, calculation, mode, calculation._case_schema))
+        spec.components.schema(f"{prefix}Case{mode.name}", component=_mode_schema(prefix, calculation, mode, ""))
         spec.components.schema(f"{prefix}Columns{mode.name}",
-                               component=_mode_schema(plugin, calculation, mode, calculation._columns_schema))
+                               component=_mode_schema(prefix, calculation, mode, "Column"))
         case_refs.append(_ref(f"{prefix}Case{mode.name}"))
         column_refs.append(_ref(f"{prefix}Columns{mode.name}"))
     spec.components.schema(f"{prefix}Case", component={"oneOf": case_refs})
@@ -199,7 +210,11 @@ def _add_common_components(spec: APISpec) -> None:
         "properties": check_properties})
     spec.components.schema("CheckColumns", component={
         "type": "object", "required": list(check_properties), "additionalProperties": False,
-        "properties": {name: {"type": "array", "items": {k: v for k, v in prop.items() if k != "description"}}
+        "description": "A rule judged on every case: value and status per case; limit, fail_limit, comparison "
+                       "and basis once when the whole batch shares them, else per case.",
+        "properties": {name: ({"type": "array", "items": {k: v for k, v in prop.items() if k != "description"}}
+                              if name in ("value", "status") else
+                              {"oneOf": [prop, {"type": "array", "items": prop}]})
                        for name, prop in check_properties.items()}})
 
 

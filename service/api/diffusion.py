@@ -1,0 +1,89 @@
+"""``POST /v1/diffusion-factor``: compressor blade-row loading and solidity sizing."""
+
+from __future__ import annotations
+
+from marshmallow import Schema
+
+from service.api.calculation import Calculation, Mode
+from service.api.common import angle, integer_output, output, positive
+from service.api.fields import CaseSchema, Option, Quantity
+from service.core import diffusion
+
+ROW_FLOW = ("axial_velocity", "inlet_angle", "outlet_angle", "outlet_axial_velocity", "inlet_radius",
+            "outlet_radius", "span_position")
+
+
+class DiffusionInput(CaseSchema):
+    row = Option("Kind of row: `rotor` (give relative angles) or `stator` (absolute angles); selects the "
+                 "diffusion-factor limits of the checks.", diffusion.ROWS, load_default="rotor")
+    span_position = Option("Where along the span the row is judged: `hub`, `mean` or `tip`; the rotor tip is held "
+                           "to a lower diffusion-factor limit (NASA SP-36).", diffusion.SPAN_POSITIONS,
+                           load_default="mean")
+    axial_velocity = positive("Axial velocity at the row inlet. [m s^-1]", "m s^-1")
+    outlet_axial_velocity = positive("Axial velocity at the row outlet (default: the inlet's). [m s^-1]", "m s^-1")
+    inlet_angle = angle("Inlet flow angle in the row's own frame (relative for a rotor, absolute for a stator).")
+    outlet_angle = angle("Outlet flow angle in the row's own frame (relative for a rotor, absolute for a stator).")
+    inlet_radius = positive("Mean radius at the row inlet, for a row whose radius changes (NASA SP-36 form). [m]",
+                            "m")
+    outlet_radius = positive("Mean radius at the row outlet (with inlet_radius). [m]", "m")
+    solidity = positive("Solidity: true chord over pitch. [-]", "-")
+    chord = positive("True (not axial) chord of the blades. [m]", "m")
+    pitch = positive("Blade pitch at the mean radius. [m]", "m")
+    blade_count = Quantity("Number of blades in the row. [-]", "-", minimum=1, integer=True)
+    mean_radius = positive("Mean radius of the row, for the pitch from the blade count. [m]", "m")
+    target_diffusion_factor = Quantity("Diffusion factor to size the solidity for. [-]", "-",
+                                       minimum=0.0, maximum=1.0, exclusive_minimum=True, exclusive_maximum=True)
+
+
+DiffusionOutput = Schema.from_dict(
+    {
+        "diffusion_factor": output("Lieblein diffusion factor of the row. [-]", "-"),
+        "diffusion_factor_achieved": output("Diffusion factor of the whole blade count (sizing). [-]", "-"),
+        "minimum_diffusion_factor": output("Smallest diffusion factor any solidity reaches: 1 - V2/V1. [-]", "-"),
+        "solidity": output("Solidity: chord over pitch (sizing: the solidity the target needs). [-]", "-"),
+        "blade_count": integer_output("Whole number of blades, rounded up (sizing with chord and mean radius). [-]"),
+        "pitch": output("Blade pitch of that blade count at the mean radius. [m]", "m"),
+        "de_haller": output("De Haller number: outlet over inlet speed in the row's frame. [-]", "-"),
+        "velocity_ratio": output("Outlet over inlet speed in the row's frame, judged against the hard floor. [-]", "-"),
+        "tangential_velocity_change": output(
+            "Outlet minus inlet tangential velocity in the row's frame, positive in the direction of rotor "
+            "motion. [m s^-1]", "m s^-1"),
+        "inlet_velocity": output("Inlet speed in the row's frame. [m s^-1]", "m s^-1"),
+        "outlet_velocity": output("Outlet speed in the row's frame. [m s^-1]", "m s^-1"),
+    },
+    name="DiffusionOutput",
+)
+
+
+def _compute(mode: Mode, options: dict, inputs: dict):
+    flow = {name: inputs.get(name) for name in ROW_FLOW}
+    given = {name: inputs[name] for name in (*mode.required, *mode.optional) if name in inputs}
+    if mode.name.startswith("Sizing"):
+        return diffusion.evaluate_diffusion_sizing(options["row"], **{**flow, **given})
+    return diffusion.evaluate_diffusion_analysis(options["row"], **{**flow, **given})
+
+
+CALCULATION = Calculation(
+    name="diffusion-factor",
+    summary="Compressor blade-row diffusion factor, de Haller number and solidity sizing",
+    description=(
+        "Lieblein's diffusion factor DF = 1 - V2/V1 + |dVtheta| / (2 sigma V1) with velocities in the row's own "
+        "frame (relative for a rotor, absolute for a stator) and solidity sigma = true chord / pitch; with inlet "
+        "and outlet radii the tangential term is |r2 Vtheta2 - r1 Vtheta1| / ((r1 + r2) sigma V1) (NASA SP-36). "
+        "Analysis of a row of given solidity (or chord and pitch, or chord, blade count and mean radius), or "
+        "sizing: the solidity for a target diffusion factor and, with chord and mean radius, the blade count "
+        "rounded up. A target at or below 1 - V2/V1 cannot be reached by any solidity."
+    ),
+    schema=DiffusionInput,
+    outputs=DiffusionOutput,
+    modes=(
+        Mode("Solidity", "solidity", required=("solidity",)),
+        Mode("ChordPitch", "chord and pitch", required=("chord", "pitch")),
+        Mode("ChordCount", "chord, blade_count and mean_radius", required=("chord", "blade_count", "mean_radius")),
+        Mode("Sizing", "target_diffusion_factor", required=("target_diffusion_factor",)),
+        Mode("SizingCount", "target_diffusion_factor, chord and mean_radius",
+             required=("target_diffusion_factor", "chord", "mean_radius")),
+    ),
+    compute=_compute,
+    together=(("inlet_radius", "outlet_radius"),),
+)
