@@ -121,9 +121,7 @@ wsgi_app = "service:create_app()"
 worker_class = "sync"
 # One worker per usable CPU, but at least two, so a long batch in one worker does not leave the
 # health probes and short requests waiting.
-workers = _env_int(
-    "MEANLINE_WORKERS", max(MIN_DEFAULT_WORKERS, available_cpus()), minimum=1, maximum=256
-)
+workers = _env_int("MEANLINE_WORKERS", max(MIN_DEFAULT_WORKERS, available_cpus()), minimum=1, maximum=256)
 threads = 1
 # A sync worker is busy for the whole request, so this is the per-request time limit: a worker
 # that has not answered within it is killed and replaced.

@@ -140,9 +140,7 @@ def lint(text, default_port):
     if not healthchecks or healthchecks[-1].arguments.upper().startswith("NONE"):
         problems.append("final stage has no HEALTHCHECK")
 
-    exposed = {
-        int(word.split("/")[0]) for item in final.all("EXPOSE") for word in item.arguments.split()
-    }
+    exposed = {int(word.split("/")[0]) for item in final.all("EXPOSE") for word in item.arguments.split()}
     if exposed != {default_port}:
         problems.append(f"EXPOSE {sorted(exposed)} differs from the default port {default_port}")
 

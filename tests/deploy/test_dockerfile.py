@@ -70,7 +70,7 @@ def test_runtime_environment(stages):
 
 def test_healthcheck_uses_the_standard_library_on_healthz(stages):
     healthcheck = stages[-1].all("HEALTHCHECK")[-1].arguments
-    command = healthcheck[healthcheck.index("CMD") + len("CMD"):]
+    command = healthcheck[healthcheck.index("CMD") + len("CMD") :]
     words = dockerfile_lint.Instruction("CMD", command).exec_form()
     assert words[:2] == ["python", "-c"]
     assert "urllib.request" in words[2] and "/healthz" in words[2]
@@ -119,23 +119,30 @@ CMD ["python", "-m", "service", "serve"]
         ("FROM python:3.11.14-slim-bookworm\n", "FROM python:latest\n", "not pinned"),
         ("FROM python:3.11.14-slim-bookworm\n", "FROM python\n", "not pinned"),
         ("FROM python:3.11.14-slim-bookworm\n", "FROM python:3.11-slim\n", "not pinned"),
-        ("FROM python:3.11.14-slim-bookworm\n", "FROM python:3.11.14-slim@sha256:abc\n",
-         "malformed digest"),
-        ("FROM python:3.11.14-slim-bookworm AS build\n", "ARG BASE=python:3.11\nFROM $BASE AS build\n",
-         "not written out"),
+        ("FROM python:3.11.14-slim-bookworm\n", "FROM python:3.11.14-slim@sha256:abc\n", "malformed digest"),
+        (
+            "FROM python:3.11.14-slim-bookworm AS build\n",
+            "ARG BASE=python:3.11\nFROM $BASE AS build\n",
+            "not written out",
+        ),
         ("USER 10001:10001\n", "USER 0\n", "final USER is root"),
         ("USER 10001:10001\n", "USER meanline\n", "not a numeric uid"),
         ("USER 10001:10001\n", "", "no USER"),
-        ("HEALTHCHECK CMD [\"python\", \"-c\", \"pass\"]\n", "", "no HEALTHCHECK"),
-        ("HEALTHCHECK CMD [\"python\", \"-c\", \"pass\"]\n", "HEALTHCHECK NONE\n", "no HEALTHCHECK"),
+        ('HEALTHCHECK CMD ["python", "-c", "pass"]\n', "", "no HEALTHCHECK"),
+        ('HEALTHCHECK CMD ["python", "-c", "pass"]\n', "HEALTHCHECK NONE\n", "no HEALTHCHECK"),
         ("EXPOSE 8080\n", "EXPOSE 8000\n", "differs from the default port"),
         ("EXPOSE 8080\n", "EXPOSE 8080 9090\n", "differs from the default port"),
-        ("USER 10001:10001\n",
-         "RUN apt-get update && apt-get install -y \\\n    build-essential\nUSER 10001:10001\n",
-         "compilers ['build-essential']"),
+        (
+            "USER 10001:10001\n",
+            "RUN apt-get update && apt-get install -y \\\n    build-essential\nUSER 10001:10001\n",
+            "compilers ['build-essential']",
+        ),
         ("USER 10001:10001\n", "RUN apt-get install -y gcc\nUSER 10001:10001\n", "compilers ['gcc']"),
-        ("COPY --from=build /opt/venv /opt/venv\n",
-         "ADD https://example.invalid/tool.tar.gz /opt/\n", "ADD of a remote source"),
+        (
+            "COPY --from=build /opt/venv /opt/venv\n",
+            "ADD https://example.invalid/tool.tar.gz /opt/\n",
+            "ADD of a remote source",
+        ),
     ],
 )
 def test_rules_catch_bad_examples(old, new, problem):

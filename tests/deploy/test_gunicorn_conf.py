@@ -149,9 +149,21 @@ def test_gunicorn_accepts_every_setting(load_conf):
     for name, value in taken.items():
         config.set(name, value)  # gunicorn's validators raise on a wrong type
     required = {
-        "bind", "workers", "worker_class", "timeout", "graceful_timeout", "keepalive",
-        "max_requests", "max_requests_jitter", "limit_request_line", "limit_request_fields",
-        "limit_request_field_size", "accesslog", "errorlog", "loglevel", "on_starting",
+        "bind",
+        "workers",
+        "worker_class",
+        "timeout",
+        "graceful_timeout",
+        "keepalive",
+        "max_requests",
+        "max_requests_jitter",
+        "limit_request_line",
+        "limit_request_fields",
+        "limit_request_field_size",
+        "accesslog",
+        "errorlog",
+        "loglevel",
+        "on_starting",
         "child_exit",
     }
     assert required <= taken.keys()
@@ -266,16 +278,23 @@ def test_gunicorn_starts_with_the_deploy_file(tmp_path):
     metrics.mkdir()
     (metrics / "gauge_99999.db").write_bytes(b"stale")
     port = _free_port()
-    environment = {
-        key: value for key, value in os.environ.items() if not key.startswith("MEANLINE_")
-    }
-    environment.update(
-        MEANLINE_PORT=str(port), MEANLINE_WORKERS="1", PROMETHEUS_MULTIPROC_DIR=str(metrics)
-    )
+    environment = {key: value for key, value in os.environ.items() if not key.startswith("MEANLINE_")}
+    environment.update(MEANLINE_PORT=str(port), MEANLINE_WORKERS="1", PROMETHEUS_MULTIPROC_DIR=str(metrics))
     server = subprocess.Popen(
-        [sys.executable, "-m", "gunicorn", "-c", "deploy/gunicorn.conf.py",
-         "--pythonpath", str(tmp_path), "stub_app:app"],
-        cwd=REPO_ROOT, env=environment, stdout=subprocess.PIPE, stderr=subprocess.STDOUT,
+        [
+            sys.executable,
+            "-m",
+            "gunicorn",
+            "-c",
+            "deploy/gunicorn.conf.py",
+            "--pythonpath",
+            str(tmp_path),
+            "stub_app:app",
+        ],
+        cwd=REPO_ROOT,
+        env=environment,
+        stdout=subprocess.PIPE,
+        stderr=subprocess.STDOUT,
     )
     try:
         body = None
