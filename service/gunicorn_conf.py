@@ -32,8 +32,8 @@ ENVIRONMENT_VARIABLES = (
 
 # Numerical libraries start one thread per core in every process by default. With one worker
 # process per core that oversubscribes the CPUs (N workers x N threads) and makes latency erratic,
-# so each process gets one thread. This must happen before numpy is first imported: the
-# master imports the app when preload_app is on. setdefault keeps an operator's explicit choice.
+# so each process gets one thread. It takes effect only if it happens before numpy is first
+# imported in the process (workers inherit it). setdefault keeps an operator's explicit choice.
 for _thread_variable in ("OMP_NUM_THREADS", "OPENBLAS_NUM_THREADS", "MKL_NUM_THREADS"):
     os.environ.setdefault(_thread_variable, "1")
 
@@ -138,10 +138,11 @@ keepalive = 2
 # restarting at once.
 max_requests = 1000
 max_requests_jitter = 100
-# Load the app in the master before forking: workers share the imported numpy and scipy pages,
-# a replacement worker starts at once, and an app that fails to import stops the server at start
-# instead of in a loop of dying workers.
-preload_app = True
+# Each worker imports the app after the fork. Preloading it in the master would save a second
+# of start-up per replacement worker, but gunicorn preloads before on_starting runs, so metric
+# files the app creates at import would be deleted under it by the clean-up below. An app that
+# fails to import still stops the server: gunicorn halts when a worker fails to boot.
+preload_app = False
 # The heartbeat file is touched by every worker; on a disk-backed /tmp that can block (see
 # gunicorn's documentation on worker_tmp_dir). /dev/shm is memory-backed in containers and pods.
 worker_tmp_dir = "/dev/shm" if os.path.isdir("/dev/shm") else None

@@ -78,6 +78,8 @@ def test_defaults(load_conf):
     assert conf.errorlog == "-"
     assert conf.max_requests > 0 and 0 < conf.max_requests_jitter < conf.max_requests
     assert conf.wsgi_app == "service:create_app()"
+    # gunicorn preloads the app before calling on_starting, which empties the metrics directory
+    assert conf.preload_app is False
 
 
 def test_worker_count_floor_on_a_single_cpu(load_conf):
