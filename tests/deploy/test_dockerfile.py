@@ -5,7 +5,12 @@ writing Dockerfiles": pin base images, multi-stage builds, don't run as root, pr
 ADD) and the project's own contract (port and settings in service/gunicorn_conf.py).
 """
 
+import http.server
+import os
 import pathlib
+import subprocess
+import sys
+import threading
 
 import pytest
 
@@ -158,3 +163,33 @@ def test_parser_joins_continuations_and_skips_comments():
     )
     assert [(stage.base, stage.name) for stage in stages] == [("a:1.2.3", "one")]
     assert [item.arguments for item in stages[0].instructions] == ["echo a && echo b"]
+
+
+class _HealthHandler(http.server.BaseHTTPRequestHandler):
+    status = 200
+
+    def do_GET(self):
+        self.send_response(self.status if self.path == "/healthz" else 404)
+        self.end_headers()
+
+    def log_message(self, *args):
+        pass
+
+
+@pytest.mark.parametrize(("status", "exit_code"), [(200, 0), (503, 1)])
+def test_healthcheck_command_exit_code(stages, status, exit_code):
+    """Run the image's health check command against a stand-in server on loopback."""
+    healthcheck = stages[-1].all("HEALTHCHECK")[-1].arguments
+    command = dockerfile_lint.Instruction("CMD", healthcheck[healthcheck.index("CMD") + 3 :]).exec_form()
+    handler = type("Handler", (_HealthHandler,), {"status": status})
+    with http.server.HTTPServer(("127.0.0.1", 0), handler) as server:
+        thread = threading.Thread(target=server.serve_forever, daemon=True)
+        thread.start()
+        try:
+            environment = dict(os.environ, MEANLINE_PORT=str(server.server_address[1]))
+            result = subprocess.run(
+                [sys.executable, *command[1:]], env=environment, capture_output=True, timeout=30
+            )
+        finally:
+            server.shutdown()
+    assert result.returncode == exit_code, result.stderr.decode()
