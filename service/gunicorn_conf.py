@@ -1,11 +1,197 @@
 """Gunicorn settings for the meanline service, read from the environment.
 
-`python -m service serve` and deploy/gunicorn.conf.py both load this module, so a single
-host, a container and a cluster run with the same settings.
+`python -m service serve` (as ``-c python:service.gunicorn_conf``) and deploy/gunicorn.conf.py
+(a re-export of this module) both load these settings, so a single host, a container and a
+cluster run with the same values. Configuration is by environment variables only; every variable
+read here is listed in ``ENVIRONMENT_VARIABLES``. A malformed value stops the server at start
+with a ``ValueError`` that names the variable, rather than falling back silently.
+
+Gunicorn takes every module-level name that matches one of its settings and ignores the rest,
+so helpers here carry a leading underscore or an upper-case name.
 """
 
+import math
 import os
+from pathlib import Path
 
-bind = f"{os.environ.get('MEANLINE_HOST', '127.0.0.1')}:{os.environ.get('MEANLINE_PORT', '8080')}"
-workers = int(os.environ.get("MEANLINE_WORKERS", os.cpu_count() or 1))
-timeout = int(os.environ.get("MEANLINE_TIMEOUT", "30"))
+# Names and defaults of the variables read here; the README's configuration table mirrors them.
+DEFAULT_HOST = "127.0.0.1"
+DEFAULT_PORT = 8080
+DEFAULT_TIMEOUT = 30
+MIN_DEFAULT_WORKERS = 2
+LOG_LEVELS = ("debug", "info", "warning", "error", "critical")
+ENVIRONMENT_VARIABLES = (
+    "MEANLINE_HOST",
+    "MEANLINE_PORT",
+    "MEANLINE_WORKERS",
+    "MEANLINE_TIMEOUT",
+    "MEANLINE_GRACEFUL_TIMEOUT",
+    "MEANLINE_LOG_LEVEL",
+    "PROMETHEUS_MULTIPROC_DIR",
+)
+
+# Numerical libraries start one thread per core in every process by default. With one worker
+# process per core that oversubscribes the CPUs (N workers x N threads) and makes latency erratic,
+# so each process gets one thread. It takes effect only if it happens before numpy is first
+# imported in the process (workers inherit it). setdefault keeps an operator's explicit choice.
+for _thread_variable in ("OMP_NUM_THREADS", "OPENBLAS_NUM_THREADS", "MKL_NUM_THREADS"):
+    os.environ.setdefault(_thread_variable, "1")
+
+
+def _env_int(name, default, minimum, maximum=None):
+    """Integer from the environment variable `name`, or `default` when unset or empty."""
+    raw = os.environ.get(name, "").strip()
+    if not raw:
+        return default
+    try:
+        value = int(raw)
+    except ValueError:
+        raise ValueError(f"{name} must be an integer, got {raw!r}") from None
+    if value < minimum or (maximum is not None and value > maximum):
+        upper = f" and at most {maximum}" if maximum is not None else ""
+        raise ValueError(f"{name} must be at least {minimum}{upper}, got {value}")
+    return value
+
+
+def _env_host(name, default):
+    """Listen address from `name`; IPv6 literals come back bracketed for the bind string."""
+    raw = os.environ.get(name, "").strip()
+    if not raw:
+        return default
+    if any(character.isspace() for character in raw) or "/" in raw:
+        raise ValueError(f"{name} must be a host name or IP address, got {raw!r}")
+    if ":" in raw and not raw.startswith("["):
+        return f"[{raw}]"
+    return raw
+
+
+def _env_choice(name, default, choices):
+    raw = os.environ.get(name, "").strip().lower()
+    if not raw:
+        return default
+    if raw not in choices:
+        raise ValueError(f"{name} must be one of {', '.join(choices)}, got {raw!r}")
+    return raw
+
+
+def available_cpus(cgroup_root="/sys/fs/cgroup"):
+    """Number of CPUs this process may use, honouring affinity and a cgroup CPU quota.
+
+    os.cpu_count() reports the host's cores, so a container limited to 2 CPUs on a 64-core
+    node would otherwise start 64 workers, each holding its own copy of numpy and scipy, and
+    have them throttled. The quota (cgroup v2 ``cpu.max``, or v1 ``cpu.cfs_quota_us`` over
+    ``cpu.cfs_period_us``) is rounded up to whole CPUs.
+    """
+    try:
+        cpus = len(os.sched_getaffinity(0))
+    except AttributeError:  # not on Linux
+        cpus = os.cpu_count() or 1
+    root = Path(cgroup_root)
+    quota = period = None
+    try:
+        fields = (root / "cpu.max").read_text().split()
+        if len(fields) == 2 and fields[0] != "max":
+            quota, period = int(fields[0]), int(fields[1])
+    except (OSError, ValueError):
+        try:
+            quota = int((root / "cpu" / "cpu.cfs_quota_us").read_text())
+            period = int((root / "cpu" / "cpu.cfs_period_us").read_text())
+        except (OSError, ValueError):
+            pass
+    if quota is not None and period and quota > 0:
+        cpus = min(cpus, math.ceil(quota / period))
+    return max(cpus, 1)
+
+
+# --- Server socket -------------------------------------------------------------------------
+_host = _env_host("MEANLINE_HOST", DEFAULT_HOST)
+_port = _env_int("MEANLINE_PORT", DEFAULT_PORT, minimum=1, maximum=65535)
+bind = f"{_host}:{_port}"
+wsgi_app = "service:create_app()"
+
+# --- Worker processes ----------------------------------------------------------------------
+# Sync workers: each request is numpy arithmetic plus JSON parsing and serialisation, all of it
+# CPU work that holds the GIL. Green threads (gevent, eventlet) only help while a request waits
+# on I/O, and this service never waits; they would also monkey-patch the standard library under
+# numpy for no gain. gthread workers would run a worker's requests on one core in turn behind
+# the GIL, adding queueing and memory without adding throughput. One single-threaded process per
+# core is the configuration that uses the CPUs fully and keeps a runaway request isolated: the
+# master kills that one worker after `timeout` and the others carry on. Sync workers are held by
+# slow clients, so in production they sit behind a buffering proxy (ingress, load balancer).
+worker_class = "sync"
+# One worker per usable CPU, but at least two, so a long batch in one worker does not leave the
+# health probes and short requests waiting.
+workers = _env_int("MEANLINE_WORKERS", max(MIN_DEFAULT_WORKERS, available_cpus()), minimum=1, maximum=256)
+threads = 1
+# A sync worker is busy for the whole request, so this is the per-request time limit: a worker
+# that has not answered within it is killed and replaced.
+timeout = _env_int("MEANLINE_TIMEOUT", DEFAULT_TIMEOUT, minimum=1, maximum=3600)
+# On SIGTERM, workers get this long to finish the request in hand; by default as long as the
+# longest request may take, so a rolling update drops none. Kubernetes' grace period must exceed
+# it (deploy/kubernetes/deployment.yaml).
+graceful_timeout = _env_int("MEANLINE_GRACEFUL_TIMEOUT", timeout, minimum=1, maximum=3600)
+# Sync workers close the connection after each response and ignore this; it takes effect only if
+# the worker class is ever changed. Two seconds is gunicorn's default.
+keepalive = 2
+# Restart a worker after about this many requests: large batches leave the allocator holding
+# memory it does not hand back, and recycling returns it. The jitter keeps workers from all
+# restarting at once.
+max_requests = 1000
+max_requests_jitter = 100
+# Each worker imports the app after the fork. Preloading it in the master would save a second
+# of start-up per replacement worker, but gunicorn preloads before on_starting runs, so metric
+# files the app creates at import would be deleted under it by the clean-up below. An app that
+# fails to import still stops the server: gunicorn halts when a worker fails to boot.
+preload_app = False
+# The heartbeat file is touched by every worker; on a disk-backed /tmp that can block (see
+# gunicorn's documentation on worker_tmp_dir). /dev/shm is memory-backed in containers and pods.
+worker_tmp_dir = "/dev/shm" if os.path.isdir("/dev/shm") else None
+# gunicorn 25.1 added a control socket that can resize or stop the server; nothing here uses it
+# and the root filesystem of the container is read-only.
+control_socket_disable = True
+
+# --- Request limits ------------------------------------------------------------------------
+# Requests are a short POST line and a few headers; everything else is in the JSON body, whose
+# size the app limits (MEANLINE_MAX_BODY_BYTES). These bound what a client can make a worker
+# parse before the app sees the request.
+limit_request_line = 4094
+limit_request_fields = 50
+limit_request_field_size = 8190
+
+# --- Logging -------------------------------------------------------------------------------
+# The app writes one structured JSON line per request to stdout, so gunicorn's access log would
+# only duplicate it. Gunicorn's own messages (start, worker restarts, timeouts) go to stderr.
+accesslog = None
+errorlog = "-"
+loglevel = _env_choice("MEANLINE_LOG_LEVEL", "info", LOG_LEVELS)
+
+
+# --- Prometheus multiprocess metrics -------------------------------------------------------
+def _prometheus_dir():
+    raw = os.environ.get("PROMETHEUS_MULTIPROC_DIR", "").strip()
+    return Path(raw) if raw else None
+
+
+def on_starting(server):
+    """Start with an empty metrics directory, so counters of a previous run are not summed in.
+
+    Only prometheus_client's ``*.db`` files are removed, never anything else that a
+    misconfigured path might point at.
+    """
+    directory = _prometheus_dir()
+    if directory is None:
+        return
+    directory.mkdir(parents=True, exist_ok=True)
+    for stale in directory.glob("*.db"):
+        stale.unlink()
+
+
+def child_exit(server, worker):
+    """Fold a dead worker's live gauges out of the shared metrics (prometheus_client docs)."""
+    if _prometheus_dir() is None:
+        return
+    try:
+        from prometheus_client import multiprocess
+    except ImportError:
+        return
+    multiprocess.mark_process_dead(worker.pid)
