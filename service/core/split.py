@@ -28,7 +28,7 @@ and an isentropic (total-to-total) efficiency ``eta`` gives
 With a polytropic efficiency the stage temperature ratios multiply to ``Pi^(k/eta_p)``
 (compressor) whatever the split, so the outlet state does not depend on the rule. With the
 same isentropic efficiency in every stage it does: each stage after the first starts hotter
-(compressor: preheat) or hotter than the isentropic path (turbine: reheat), so the overall
+than it would on the isentropic path (compressor: preheat; turbine: reheat), so the overall
 efficiency falls below the stage efficiency in a compressor and rises above it in a turbine
 ([1], sec. 2.3; [2], sec. 2.6).
 
@@ -782,8 +782,15 @@ def evaluate_stage_split(
     Notes
     -----
     Scalars broadcast; the cases are always a 1-D axis (a scalar input gives one case).
-    Invalid options or combinations of inputs raise ValueError; physically impossible
-    cases fail with a reason and NaN outputs.
+    Invalid options or combinations of inputs (both or neither efficiency, not exactly one
+    of the stage-count inputs, a loading limit without a blade speed, weights without rule
+    ``weights`` or the reverse) raise ValueError. A case fails, with NaN outputs, for the
+    first of these reasons that applies: an input out of its physical range (named); no
+    stage count up to ``max_stages`` meets the limit (for rule ``weights``: the weights' own
+    count does not); the number of weights differs from ``stages``; the work split did not
+    converge; a turbine outlet total temperature at or below zero (only reachable by
+    underflow: a perfect gas gives ``T0_in Pi^(-k eta_p) > 0``); a result that is not a
+    finite number.
     """
     _check_option("machine", machine, MACHINES)
     _check_option("rule", rule, SPLIT_RULES)
