@@ -102,6 +102,7 @@ class Calculation:
     modes: tuple[Mode, ...]
     compute: Callable[[Mode, dict[str, str], dict[str, Any]], CaseResults]
     together: tuple[tuple[str, ...], ...] = ()
+    columns: bool = True  # whether the columns request shape is offered
 
     def __post_init__(self):
         declared = set(self.schema().fields)
@@ -171,6 +172,9 @@ def run_calculation(calculation: Calculation, payload: Any, max_cases: int):
     if "cases" in payload:
         shape = "rows"
         groups, size, errors = _rows_groups(calculation, payload, max_cases)
+    elif "columns" in payload and not calculation.columns:
+        raise invalid_input([("/columns", "This calculation takes one case or rows ({\"cases\": [...]}), "
+                                          "not columns.")])
     elif "columns" in payload:
         shape = "columns"
         groups, size, errors = _columns_groups(calculation, payload, max_cases)
@@ -436,8 +440,9 @@ def _finite_rows(array: np.ndarray) -> np.ndarray:
 
 
 def _scalar(calculation: Calculation, name: str, value):
-    if isinstance(value, np.ndarray):  # one case's per-stage list, NaN-padded
-        return [_scalar(calculation, name, v) for v in value[np.isfinite(value)]]
+    if isinstance(value, np.ndarray):  # one case's per-stage list, NaN-padded; all NaN where it failed
+        finite = value[np.isfinite(value)]
+        return [_scalar(calculation, name, v) for v in finite] if finite.size else None
     if not np.isfinite(value):
         return None
     return int(value) if name in calculation._integer_outputs else float(value)

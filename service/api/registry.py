@@ -1,5 +1,5 @@
 """Every calculation the service offers, in the order the OpenAPI document lists them."""
 
-from service.api import diffusion, triangles, zweifel
+from service.api import diffusion, split, triangles, zweifel
 
-CALCULATIONS = (triangles.CALCULATION, zweifel.CALCULATION, diffusion.CALCULATION)
+CALCULATIONS = (triangles.CALCULATION, zweifel.CALCULATION, diffusion.CALCULATION, split.CALCULATION)

@@ -69,7 +69,8 @@ def build_spec(calculations: list[Calculation], version: str) -> dict:
 
 def _field_components(spec: APISpec, plugin, prefix: str, calculation: Calculation) -> None:
     """One component per input field and shape, so the mode schemas only reference them."""
-    for shape, schema in (("", calculation._case_schema), ("Column", calculation._columns_schema)):
+    shapes = (("", calculation._case_schema), ("Column", calculation._columns_schema))
+    for shape, schema in shapes if calculation.columns else shapes[:1]:
         for name, field in schema.fields.items():
             spec.components.schema(_field_component(prefix, name, shape), component=plugin.converter.field2property(field))
 
@@ -112,44 +113,54 @@ def _add_calculation(spec: APISpec, plugin, calculation: Calculation) -> None:
     _field_components(spec, plugin, prefix, calculation)
     for mode in calculation.modes:
         spec.components.schema(f"{prefix}Case{mode.name}", component=_mode_schema(prefix, calculation, mode, ""))
-        spec.components.schema(f"{prefix}Columns{mode.name}",
-                               component=_mode_schema(prefix, calculation, mode, "Column"))
         case_refs.append(_ref(f"{prefix}Case{mode.name}"))
-        column_refs.append(_ref(f"{prefix}Columns{mode.name}"))
+        if calculation.columns:
+            spec.components.schema(f"{prefix}Columns{mode.name}",
+                                   component=_mode_schema(prefix, calculation, mode, "Column"))
+            column_refs.append(_ref(f"{prefix}Columns{mode.name}"))
     spec.components.schema(f"{prefix}Case", component={"oneOf": case_refs})
-    spec.components.schema(f"{prefix}Columns", component={"oneOf": column_refs})
-    spec.components.schema(f"{prefix}Request", component={"oneOf": [
+    if calculation.columns:
+        spec.components.schema(f"{prefix}Columns", component={"oneOf": column_refs})
+    shapes = [
         _ref(f"{prefix}Case"),
         {"type": "object", "title": "Rows", "properties": {
             "cases": {"type": "array", "items": _ref(f"{prefix}Case"), "minItems": 1}},
          "required": ["cases"], "additionalProperties": False},
-        {"type": "object", "title": "Columns", "properties": {"columns": _ref(f"{prefix}Columns")},
-         "required": ["columns"], "additionalProperties": False},
-    ]})
+    ]
+    if calculation.columns:
+        shapes.append({"type": "object", "title": "Columns", "properties": {"columns": _ref(f"{prefix}Columns")},
+                       "required": ["columns"], "additionalProperties": False})
+    spec.components.schema(f"{prefix}Request", component={"oneOf": shapes})
 
     outputs = {}
     for name, field in calculation.outputs().fields.items():
         prop = plugin.converter.field2property(field)
-        outputs[name] = {**prop, "type": [prop.get("type", "number"), "null"]}
+        if prop.pop("x-per-stage", False):
+            outputs[name] = {**prop, "type": ["array", "null"], "items": {"type": prop.get("type", "number")}}
+        else:
+            outputs[name] = {**prop, "type": [prop.get("type", "number"), "null"]}
     checks = {"type": "object", "description": "Rules of thumb the case was judged against.",
               "additionalProperties": _ref("Check")}
     spec.components.schema(f"{prefix}Result", component={
         "type": "object", "properties": {**outputs, "checks": checks}, "additionalProperties": False})
-    column_outputs = {name: {"type": "array", "items": prop, "description": prop.get("description", "")}
-                      for name, prop in outputs.items()}
-    spec.components.schema(f"{prefix}ResultColumns", component={
-        "type": "object", "properties": {**column_outputs, "checks": {
-            "type": "object", "additionalProperties": _ref("CheckColumns")}},
-        "additionalProperties": False})
-    spec.components.schema(f"{prefix}Response", component={"oneOf": [
+    responses = [
         _ref(f"{prefix}Result"),
         {"type": "object", "title": "Rows", "required": ["results", "errors"], "additionalProperties": False,
          "properties": {"results": {"type": "array", "items": _ref(f"{prefix}Result")},
                         "errors": {"type": "array", "items": _ref("CaseError")}}},
-        {"type": "object", "title": "Columns", "required": ["columns", "errors"], "additionalProperties": False,
-         "properties": {"columns": _ref(f"{prefix}ResultColumns"),
-                        "errors": {"type": "array", "items": _ref("CaseError")}}},
-    ]})
+    ]
+    if calculation.columns:
+        column_outputs = {name: {"type": "array", "items": prop, "description": prop.get("description", "")}
+                          for name, prop in outputs.items()}
+        spec.components.schema(f"{prefix}ResultColumns", component={
+            "type": "object", "properties": {**column_outputs, "checks": {
+                "type": "object", "additionalProperties": _ref("CheckColumns")}},
+            "additionalProperties": False})
+        responses.append(
+            {"type": "object", "title": "Columns", "required": ["columns", "errors"], "additionalProperties": False,
+             "properties": {"columns": _ref(f"{prefix}ResultColumns"),
+                            "errors": {"type": "array", "items": _ref("CaseError")}}})
+    spec.components.schema(f"{prefix}Response", component={"oneOf": responses})
 
     problem = {"content": {"application/problem+json": {"schema": _ref("Problem")}}}
     spec.path(path=calculation.path, operations={"post": {
