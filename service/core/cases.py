@@ -51,6 +51,16 @@ class CaseResults:
         return mask
 
 
+    def merged(self, other: CaseResults, prefix: str) -> CaseResults:
+        """These results with ``other``'s added under ``prefix`` (values, checks, and failure reasons)."""
+        failed = other.failed()
+        values = {**{name: np.where(failed, np.nan, array) for name, array in self.values.items()},
+                  **{f"{prefix}_{name}": array for name, array in other.values.items()}}
+        failures = self.failures + [(f"{prefix}: {reason}", mask) for reason, mask in other.failures]
+        checks = {**self.checks, **{f"{prefix}_{name}": check for name, check in other.checks.items()}}
+        return CaseResults(values=values, failures=failures, checks=checks)
+
+
 def broadcast_cases(*arrays) -> list[np.ndarray]:
     """Broadcast inputs to their common shape as float arrays (scalars stay 0-d)."""
     arrays = [np.asarray(a, dtype=float) for a in arrays]
