@@ -130,8 +130,8 @@ def log_level(config_value: str | None = None) -> str:
 
 
 class JsonFormatter(logging.Formatter):
-    """One JSON object per record: time (UTC), level, logger, message, the request id inside a
-    request, the record's ``fields`` and, for an exception, its type and traceback."""
+    """One JSON object per record: time (UTC), level, logger, process id, message, the request id
+    inside a request, the record's ``fields`` and, for an exception, its type and traceback."""
 
     def format(self, record: logging.LogRecord) -> str:
         entry = {
@@ -139,6 +139,7 @@ class JsonFormatter(logging.Formatter):
             .replace("+00:00", "Z"),
             "level": record.levelname.lower(),
             "logger": record.name,
+            "pid": record.process,
             "message": record.getMessage(),
         }
         if has_request_context():
@@ -207,14 +208,14 @@ class Metrics:
             METRIC_NAMES["requests"], "HTTP requests answered, by endpoint and status.",
             ("endpoint", "status"), registry=self.registry)
         self.latency = Histogram(
-            METRIC_NAMES["latency"], "Time from the start of the request's handling to its response, by endpoint. [s]",
-            ("endpoint",), buckets=LATENCY_BUCKETS, registry=self.registry)
+            METRIC_NAMES["latency"], "Time from the start of handling a request to its response, by "
+            "endpoint. [s]", ("endpoint",), buckets=LATENCY_BUCKETS, registry=self.registry)
         self.cases = Counter(
-            METRIC_NAMES["cases"], "Cases computed by successful calculation requests (including the cases of a "
-            "batch that failed individually), by endpoint.", ("endpoint",), registry=self.registry)
+            METRIC_NAMES["cases"], "Cases computed by successful calculation requests (including the cases "
+            "of a batch that failed individually), by endpoint.", ("endpoint",), registry=self.registry)
         self.failures = Counter(
-            METRIC_NAMES["failures"], "Cases of batches that were physically impossible (null outputs and an entry "
-            "in errors), by endpoint.", ("endpoint",), registry=self.registry)
+            METRIC_NAMES["failures"], "Cases of batches that were physically impossible (null outputs and "
+            "an entry in errors), by endpoint.", ("endpoint",), registry=self.registry)
 
     def exposition(self) -> bytes:
         if self.multiprocess_dir:
