@@ -176,11 +176,12 @@ def test_a_request_without_an_id_gets_a_fresh_one_each_time(app):
 
 
 def _problem_requests():
+    json_type = "application/json"
     return {
-        400: lambda c, h: c.post("/v1/triangles", data=b"{not json", content_type="application/json", headers=h),
+        400: lambda c, h: c.post("/v1/triangles", data=b"{not json", content_type=json_type, headers=h),
         404: lambda c, h: c.get("/v1/no-such-calculation", headers=h),
         405: lambda c, h: c.get("/v1/triangles", headers=h),
-        413: lambda c, h: c.post("/v1/triangles", data=b"[" + b" " * 2048 + b"]", content_type="application/json",
+        413: lambda c, h: c.post("/v1/triangles", data=b"[" + b" " * 2048 + b"]", content_type=json_type,
                                  headers=h),
         415: lambda c, h: c.post("/v1/triangles", data=b"{}", content_type="text/plain", headers=h),
         422: lambda c, h: c.post("/v1/triangles", json=_state(IMPOSSIBLE_T0), headers=h),

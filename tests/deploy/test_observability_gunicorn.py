@@ -33,7 +33,8 @@ def _body(number):
 
 def test_metrics_and_logs_of_all_workers(tmp_path):
     metrics_dir = tmp_path / "prometheus"
-    with live_server(tmp_path, workers=2, environment={"PROMETHEUS_MULTIPROC_DIR": str(metrics_dir)}) as server:
+    environment = {"PROMETHEUS_MULTIPROC_DIR": str(metrics_dir)}
+    with live_server(tmp_path, workers=2, environment=environment) as server:
         sent = []  # (request id, cases, failures)
 
         def send(number):
