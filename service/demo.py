@@ -115,6 +115,9 @@ class InProcessClient:
     where = "an app in this process (no service was running)"
 
     def __init__(self):
+        # This app is not one of a server's workers: its metrics must not land in a server's
+        # multiprocess directory (prometheus_client reads the variable when first imported).
+        os.environ.pop("PROMETHEUS_MULTIPROC_DIR", None)
         from service import create_app
 
         self._client = create_app({"LOG_LEVEL": "warning"}).test_client()

@@ -233,10 +233,21 @@ class Metrics:
 def init_app(app: Flask) -> None:
     """Add request ids, request logging and ``GET /metrics`` to ``app``.
 
-    Reads ``LOG_LEVEL`` from the app's configuration (else ``MEANLINE_LOG_LEVEL``).
+    Call it before any other ``after_request`` hook is registered, so that its own runs last and
+    logs and counts the final response. Reads ``LOG_LEVEL`` from the app's configuration (else
+    ``MEANLINE_LOG_LEVEL``).
     """
+    # Imported here: the calculations import problems, which imports this module.
+    from service.api.registry import CALCULATIONS
+
     configure_logging(log_level(app.config.get("LOG_LEVEL")))
-    app.extensions[_EXTENSION] = Metrics(os.environ.get("PROMETHEUS_MULTIPROC_DIR", "").strip() or None)
+    multiprocess_dir = os.environ.get("PROMETHEUS_MULTIPROC_DIR", "").strip() or None
+    metrics = app.extensions[_EXTENSION] = Metrics(multiprocess_dir)
+    # Every calculation's case counters exist from the start at zero, so that a rate over the
+    # first failure is not lost to a series that appears only with it.
+    for calculation in CALCULATIONS:
+        metrics.cases.labels(endpoint=calculation.path)
+        metrics.failures.labels(endpoint=calculation.path)
     # First among the before-request hooks, so the clock starts before any other check runs;
     # the after-request hook registered here early runs last (Flask runs them in reverse), so it
     # sees the final status and headers.

@@ -107,6 +107,10 @@ def test_metrics_count_requests_cases_and_failures(app):
     assert samples[("meanline_cases_computed_total", (("endpoint", "/v1/triangles"),))] == 9
     assert samples[("meanline_case_failures_total", (("endpoint", "/v1/triangles"),))] == 3
     assert ("meanline_cases_computed_total", (("endpoint", "/healthz"),)) not in samples
+    # Every calculation's case counters exist from the start.
+    for endpoint in ("/v1/zweifel", "/v1/diffusion-factor", "/v1/stage-split"):
+        assert samples[("meanline_cases_computed_total", (("endpoint", endpoint),))] == 0
+        assert samples[("meanline_case_failures_total", (("endpoint", endpoint),))] == 0
 
     label = (("endpoint", "/v1/triangles"),)
     assert samples[("meanline_http_request_duration_seconds_count", label)] == 6
