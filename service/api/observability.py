@@ -65,6 +65,8 @@ UNMATCHED = "unmatched"
 #: the default worker timeout of 30 s.
 LATENCY_BUCKETS = (0.001, 0.0025, 0.005, 0.01, 0.025, 0.05, 0.1, 0.25, 0.5, 1.0, 2.5, 5.0, 10.0, 30.0)
 
+#: Base names; prometheus_client exposes the counters with a ``_total`` suffix and the histogram
+#: as ``_bucket``, ``_count`` and ``_sum`` series.
 METRIC_NAMES = {
     "requests": "meanline_http_requests",
     "latency": "meanline_http_request_duration_seconds",
