@@ -198,6 +198,10 @@ def _add_common_components(spec: APISpec) -> None:
                 "properties": {"pointer": {"type": "string", "description": "JSON Pointer into the request body."},
                                "detail": {"type": "string"}}}},
             "errors_not_listed": {"type": "integer", "description": "Further errors not listed."},
+            "request_id": {"type": "string", "description": (
+                "Id of the request, also in the X-Request-ID response header and the service's log: the "
+                "caller's X-Request-ID header if it is 1 to 128 letters, digits or ._~:/+=@- characters, "
+                "otherwise a generated UUID.")},
         },
     })
     spec.components.schema("CaseError", component={
@@ -240,6 +244,11 @@ def _add_service_paths(spec: APISpec) -> None:
         "tags": ["service"],
         "responses": {"200": {"description": "Ready.", "content": {"application/json": {"schema": status}}},
                       "503": {"description": "Not ready.", **problem}}}})
+    spec.path(path="/metrics", operations={"get": {
+        "operationId": "metrics", "summary": "Prometheus metrics of all workers, in the text exposition format.",
+        "tags": ["service"],
+        "responses": {"200": {"description": "Requests, latency, cases computed and per-case failures by endpoint.",
+                              "content": {"text/plain": {"schema": {"type": "string"}}}}}}})
     spec.path(path="/v1/openapi.json", operations={"get": {
         "operationId": "openapi", "summary": "This OpenAPI document.", "tags": ["service"],
         "responses": {"200": {"description": "The OpenAPI 3.1 document.",
