@@ -156,3 +156,15 @@ def test_a_drawing_is_for_one_case_and_json_stays_the_default(client):
     problem = client.post("/v1/machine-design", json={**COMPRESSOR, "stages": 0},
                           headers={"Accept": "image/svg+xml"})
     assert problem.status_code == 422 and problem.get_json()["errors"][0]["pointer"] == "/stages"
+
+
+def test_the_json_path_does_not_import_matplotlib():
+    # matplotlib is imported inside the drawing functions only; checked in a fresh interpreter.
+    import subprocess
+    import sys
+
+    code = ("import sys; from service import create_app; c = create_app().test_client(); "
+            f"r = c.post('/v1/machine-design', json={COMPRESSOR!r}); assert r.status_code == 200; "
+            "print('matplotlib' in sys.modules)")
+    out = subprocess.run([sys.executable, "-c", code], capture_output=True, text=True, check=True)
+    assert out.stdout.strip() == "False"
