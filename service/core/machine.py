@@ -68,9 +68,8 @@ from __future__ import annotations
 
 import numpy as np
 
-from service.core import annulus, diffusion, flowpath, gas, split, triangles, zweifel
+from service.core import annulus, blade_rows, flowpath, gas, split, triangles, zweifel
 from service.core.cases import CaseResults
-from service.core.checks import de_haller_check, deceleration_check
 
 MAX_STAGES = split.MAX_STAGES
 #: The rotor's share of a stage's entropy rise, by default. [-]
@@ -93,12 +92,6 @@ def _exactly_one(**given):
     if len(named) != 1:
         raise ValueError(f"give exactly one of {tuple(given)}, not {tuple(named) or 'none'}")
     return named[0], given[named[0]]
-
-
-def rotor_rows(machine):
-    """Whether each row position (0-based, in flow order) modulo 2 is a rotor: compressor rows start
-    with a rotor, turbine rows with a stator (nozzle)."""
-    return (True, False) if machine == "compressor" else (False, True)
 
 
 def station_total_states(machine, stage_inlet_total_temperature, stage_outlet_total_temperature,
@@ -187,6 +180,7 @@ def _low_swirl(u, flow_coefficient, work, reaction, fixed_angle):
     with np.errstate(all="ignore"):
         swirl = u * (1.0 - reaction) - 0.5 * work / u
         if fixed_angle is not None:
+            # NaN marks the stages whose inlet swirl is not fixed.
             swirl = np.where(np.isnan(fixed_angle), swirl, flow_coefficient * u * np.tan(np.radians(fixed_angle)))
     return swirl
 
@@ -201,7 +195,7 @@ def _stage_radii(machine, held, radius, p, t0, p0, work, phi, reaction):
     if machine == "compressor" and p["inlet_swirl"] is not None:
         fixed = np.full((m, n), np.nan)
         fixed[:, 0] = p["inlet_swirl"]
-    flat = {
+    every = {
         "radius": np.broadcast_to(radius[:, None], (m, n)).ravel(),
         "t0": t0[:, design].ravel(), "p0": p0[:, design].ravel(), "work": work.ravel(),
         "phi": phi.ravel(), "reaction": reaction.ravel(),
@@ -209,28 +203,26 @@ def _stage_radii(machine, held, radius, p, t0, p0, work, phi, reaction):
         "mass_flow": np.broadcast_to(p["mass_flow"][:, None], (m, n)).ravel(),
         "cp": np.broadcast_to(p["cp"][:, None], (m, n)).ravel(),
         "gamma": np.broadcast_to(p["gamma"][:, None], (m, n)).ravel(),
-        "fixed": None if fixed is None else fixed.ravel(),
+        "fixed": np.full(m * n, np.nan) if fixed is None else fixed.ravel(),
     }
+    # Only stages whose duty is defined are solved (a failed split leaves NaN).
+    solved = np.flatnonzero(np.isfinite(every["t0"]) & np.isfinite(every["work"]) & np.isfinite(every["phi"])
+                            & np.isfinite(every["reaction"]))
+    sub = {name: value[solved] for name, value in every.items()}
 
     def flow_ratio(ring, which):
-        u = blade_speed(ring["mean_radius"], flat["speed"][which])
-        vx = flat["phi"][which] * u
-        swirl = _low_swirl(u, flat["phi"][which], flat["work"][which], flat["reaction"][which],
-                           None if flat["fixed"] is None else flat["fixed"][which])
-        state = gas.static_state(flat["t0"][which], flat["p0"][which], np.hypot(vx, swirl),
-                                 flat["cp"][which], flat["gamma"][which])
-        ratio = state["density"] * vx * ring["area"] / flat["mass_flow"][which]
+        u = blade_speed(ring["mean_radius"], sub["speed"][which])
+        vx = sub["phi"][which] * u
+        swirl = _low_swirl(u, sub["phi"][which], sub["work"][which], sub["reaction"][which], sub["fixed"][which])
+        state = gas.static_state(sub["t0"][which], sub["p0"][which], np.hypot(vx, swirl), sub["cp"][which],
+                                 sub["gamma"][which])
+        ratio = state["density"] * vx * ring["area"] / sub["mass_flow"][which]
         return np.where(vx / state["speed_of_sound"] < 1.0, ratio, np.nan)
 
-    good = np.isfinite(flat["t0"]) & np.isfinite(flat["work"]) & np.isfinite(flat["phi"]) & np.isfinite(
-        flat["reaction"])
     ratio = np.full(m * n, np.nan)
-    if good.any():
-        idx = np.flatnonzero(good)
-        sub = {k: (v[idx] if isinstance(v, np.ndarray) else v) for k, v in flat.items()}
-        flat = sub
-        ratio[idx] = annulus.hub_to_tip_ratio_for_flow(held, sub["radius"], flow_ratio)
-    ring = annulus.annulus_from_hub_to_tip_ratio(held, np.broadcast_to(radius[:, None], (m, n)).ravel(), ratio)
+    if solved.size:
+        ratio[solved] = annulus.hub_to_tip_ratio_for_flow(held, sub["radius"], flow_ratio)
+    ring = annulus.annulus_from_hub_to_tip_ratio(held, every["radius"], ratio)
     return ring["mean_radius"].reshape(m, n)
 
 
@@ -332,7 +324,10 @@ def _layout(machine, held, n, p, sp):
         "station_mean_radius": ring["mean_radius"], "station_blade_height": ring["blade_height"],
         "station_hub_to_tip_ratio": ring["hub_to_tip_ratio"],
     }
-    rows, row_failures = _rows(machine, p, stations)
+    rows, row_failures = blade_rows.size_rows(
+        machine, stations, p["rotor_aspect_ratio"], p["stator_aspect_ratio"],
+        zweifel_coefficient=p["zweifel_coefficient"] if machine == "turbine" else None,
+        target_diffusion_factor=p["target_diffusion_factor"], solidity=p["solidity"])
     failures += row_failures
     layout = flowpath.axial_layout(rows["row_axial_chord"], p["axial_gap"])
     stations["station_axial_position"] = layout["station_position"]
@@ -349,66 +344,6 @@ def _layout(machine, held, n, p, sp):
     outline = {"flowpath_x": line["x"], "flowpath_hub_radius": line["hub_radius"],
                "flowpath_tip_radius": line["tip_radius"]}
     return {**overall, **stages, **stations, **rows, **outline}, failures
-
-
-def _rows(machine, p, st):
-    """Row geometry and sizing, (m, 2n), from the station values."""
-    first_is_rotor = machine == "compressor"
-    m, s = st["station_alpha"].shape
-    count = s - 1
-    is_rotor = (np.arange(count) % 2 == 0) == first_is_rotor
-    angle_in = np.where(is_rotor, st["station_beta"][:, :-1], st["station_alpha"][:, :-1])
-    angle_out = np.where(is_rotor, st["station_beta"][:, 1:], st["station_alpha"][:, 1:])
-    speed_in = np.where(is_rotor, st["station_relative_velocity"][:, :-1], st["station_velocity"][:, :-1])
-    speed_out = np.where(is_rotor, st["station_relative_velocity"][:, 1:], st["station_velocity"][:, 1:])
-    vx_in, vx_out = st["station_axial_velocity"][:, :-1], st["station_axial_velocity"][:, 1:]
-    height = flowpath.row_mean(st["station_blade_height"])
-    mean_radius = flowpath.row_mean(st["station_mean_radius"])
-    aspect = np.where(is_rotor, p["rotor_aspect_ratio"][:, None], p["stator_aspect_ratio"][:, None])
-    with np.errstate(all="ignore"):
-        axial_chord = height / aspect
-        stagger = flowpath.stagger_estimate(angle_in, angle_out)
-        chord = flowpath.chord_from_axial_chord(axial_chord, stagger)
-    rows = {
-        "row_blade_count": np.full((m, count), np.nan), "row_pitch": np.full((m, count), np.nan),
-        "row_solidity": np.full((m, count), np.nan), "row_chord": chord, "row_axial_chord": axial_chord,
-        "row_stagger": stagger, "row_blade_height": height, "row_mean_radius": mean_radius,
-        "row_inlet_angle": angle_in, "row_outlet_angle": angle_out, "row_de_haller": speed_out / speed_in,
-    }
-    judged = "row_diffusion_factor" if machine == "compressor" else "row_zweifel_coefficient"
-    rows[judged] = np.full((m, count), np.nan)
-    failures = []
-    for kind, start in (("rotor", 0 if first_is_rotor else 1), ("stator", 1 if first_is_rotor else 0)):
-        cols = slice(start, None, 2)
-        args = (angle_in[:, cols], angle_out[:, cols])
-        with np.errstate(all="ignore"):
-            if machine == "turbine":
-                sized = zweifel.evaluate_zweifel_sizing(*args, axial_chord[:, cols], mean_radius[:, cols],
-                                                        zweifel_coefficient=p["zweifel_coefficient"][:, None])
-                blades = sized.values["blade_count"].astype(float)
-                pitch, value = sized.values["pitch"], sized.values["zweifel_coefficient_achieved"]
-            elif p["target_diffusion_factor"] is not None:
-                sized = diffusion.evaluate_diffusion_sizing(
-                    kind, vx_in[:, cols], *args, p["target_diffusion_factor"][:, None], chord=chord[:, cols],
-                    mean_radius=mean_radius[:, cols], outlet_axial_velocity=vx_out[:, cols])
-                blades, pitch = sized.values["blade_count"], sized.values["pitch"]
-                value = sized.values["diffusion_factor_achieved"]
-            else:
-                blades = diffusion.blade_count_for_solidity(chord[:, cols], mean_radius[:, cols],
-                                                            p["solidity"][:, None])
-                sized = diffusion.evaluate_diffusion_analysis(
-                    kind, vx_in[:, cols], *args, chord=chord[:, cols], blade_count=blades,
-                    mean_radius=mean_radius[:, cols], outlet_axial_velocity=vx_out[:, cols])
-                pitch, value = 2.0 * np.pi * mean_radius[:, cols] / blades, sized.values["diffusion_factor"]
-        rows["row_blade_count"][:, cols] = blades
-        rows["row_pitch"][:, cols] = pitch
-        rows["row_solidity"][:, cols] = chord[:, cols] / pitch
-        rows[judged][:, cols] = value
-        for reason, mask in sized.failures:
-            mask = np.broadcast_to(mask, blades.shape)
-            for i in range(blades.shape[1]):
-                failures.append((f"row {start + 2 * i + 1} ({kind} {i + 1}): {reason}", mask[:, i]))
-    return rows, failures
 
 
 def _cases(values, per_stage, weights):
@@ -704,15 +639,5 @@ def _checks(machine, values):
     if machine == "compressor":
         checks["stage_pressure_ratio"] = split.compressor_stage_pressure_ratio_check(values["stage_pressure_ratio"])
     checks["stage_loading_coefficient"] = split.stage_loading_check(machine, values["stage_loading_coefficient"])
-    rotor_start = 0 if machine == "compressor" else 1
-    for kind, start in (("rotor", rotor_start), ("stator", 1 - rotor_start)):
-        cols = slice(start, None, 2)
-        if machine == "compressor":
-            checks[f"{kind}_diffusion_factor"] = diffusion.diffusion_factor_check(
-                values["row_diffusion_factor"][:, cols], kind, "mean")
-            checks[f"{kind}_de_haller"] = de_haller_check(values["row_de_haller"][:, cols])
-            checks[f"{kind}_velocity_ratio"] = deceleration_check(values["row_de_haller"][:, cols])
-        else:
-            for name, check in zweifel.zweifel_checks(values["row_zweifel_coefficient"][:, cols]).items():
-                checks[f"{kind}_{name}"] = check
+    checks.update(blade_rows.row_checks(machine, values))
     return checks

@@ -2,6 +2,8 @@
 
 import numpy as np
 import pytest
+from hypothesis import given, settings
+from hypothesis import strategies as st
 from numpy.testing import assert_allclose, assert_array_equal
 
 from service.core import annulus, diffusion, flowpath, machine, split, triangles, zweifel
@@ -413,3 +415,39 @@ def test_flowpath_row_mean_and_layout():
     layout = flowpath.axial_layout(np.array([0.02, 0.03, 0.04]), 0.5)
     assert_allclose(layout["leading_edge"], [0.0, 0.03, 0.075])
     assert_allclose(layout["station_position"], [0.0, 0.025, 0.0675, 0.115])
+
+
+# --- Properties ------------------------------------------------------------------------------------------
+
+
+@settings(max_examples=30, deadline=None)
+@given(
+    base=st.sampled_from([COMPRESSOR, TURBINE]),
+    held=st.sampled_from(HELD),
+    stages=st.integers(1, 6),
+    phi=st.floats(0.35, 0.9),
+    reaction=st.floats(0.3, 0.7),
+    speed=st.floats(8000.0, 15000.0),
+    fraction=st.floats(0.0, 1.0),
+)
+def test_every_closed_layout_conserves_mass_and_work(base, held, stages, phi, reaction, speed, fraction):
+    # Whatever the duty, a case either fails with a reason or closes: continuity at every station and the
+    # stages' Euler work adding up to the machine's total temperature change (both derived here).
+    result = design(base, stages=stages, flow_coefficient=phi, reaction=reaction, shaft_speed=speed,
+                    rotor_loss_fraction=fraction, **held)
+    found = reasons(result)[0]
+    v = result.values
+    if found is not None:
+        assert v["stage_count"][0] == 0 and np.all(np.isnan(v["station_alpha"]))
+        return
+    flow = v["station_density"] * v["station_axial_velocity"] * v["station_area"]
+    assert_allclose(flow, base["mass_flow"], rtol=1e-10)
+    swirl, u = v["station_tangential_velocity"][0], v["stage_blade_speed"][0]
+    n = stages
+    if base["machine"] == "compressor":
+        euler = u * (swirl[1:2 * n:2] - swirl[0:2 * n:2])
+    else:
+        euler = u * (swirl[1:2 * n:2] - swirl[2:2 * n + 1:2])
+    assert_allclose(euler.sum(), base["cp"] * abs(v["outlet_total_temperature"][0] - base["total_temperature"]),
+                    rtol=1e-9)
+    assert np.all(v["station_axial_mach"] < 1) and np.all(v["station_hub_radius"] > 0)
