@@ -12,9 +12,9 @@ The pieces are the service's own methods, composed:
    (:func:`service.core.gas.static_state`);
 4. continuity gives the annulus area at every station, ``A = m / (rho V_x)``, and the held radius the
    others (:mod:`service.core.annulus`);
-5. the rows are sized: Zweifel blade counts for turbine rows (:func:`service.core.zweifel.evaluate_zweifel_sizing`),
-   diffusion-factor or solidity blade counts for compressor rows (:mod:`service.core.diffusion`), and
-   stacked along the axis (:mod:`service.core.flowpath`).
+5. the rows are sized (:func:`service.core.blade_rows.size_rows`): Zweifel blade counts for turbine
+   rows, diffusion-factor or solidity blade counts for compressor rows, and stacked along the axis
+   (:mod:`service.core.flowpath`).
 
 Stations and rows, in flow order (``n`` stages, ``2n + 1`` stations, ``2n`` rows, counted from 1):
 
