@@ -12,10 +12,12 @@ from flask import Blueprint, Flask, Response, current_app, request
 
 from service import __version__
 from service.api import observability
-from service.api.calculation import Calculation, run_calculation
+from service.api.calculation import Calculation, run_calculation, run_drawing
 from service.api.problems import MALFORMED, TOO_LARGE, Problem, register_error_handlers
 from service.api.registry import CALCULATIONS
 from service.api.spec import build_spec
+
+JSON, SVG = "application/json", "image/svg+xml"
 
 DEFAULTS = {
     "MAX_BODY_BYTES": 16 * 1024 * 1024,
@@ -92,12 +94,21 @@ def create_app(config: Mapping | None = None) -> Flask:
 
 def _calculation_view(calculation: Calculation):
     def view():
+        if calculation.render_svg is not None and _prefers_svg():
+            svg = run_drawing(calculation, read_json(), current_app.config["MAX_CASES"])
+            observability.record_cases(1, {})
+            return Response(svg, mimetype=SVG)
         body, size = run_calculation(calculation, read_json(), current_app.config["MAX_CASES"])
         observability.record_cases(size, body)
         return _json(body)
 
     view.__name__ = f"calculate_{calculation.name.replace('-', '_')}"
     return view
+
+
+def _prefers_svg() -> bool:
+    """Whether the Accept header ranks an SVG drawing above JSON (absent or */* means JSON)."""
+    return request.accept_mimetypes.best_match([JSON, SVG]) == SVG
 
 
 def _json(body) -> Response:

@@ -103,6 +103,8 @@ class Calculation:
     compute: Callable[[Mode, dict[str, str], dict[str, Any]], CaseResults]
     together: tuple[tuple[str, ...], ...] = ()
     columns: bool = True  # whether the columns request shape is offered
+    # ``render_svg(payload, body) -> str``: a drawing of one case, answered for ``Accept: image/svg+xml``.
+    render_svg: Callable[[dict, dict], str] | None = None
 
     def __post_init__(self):
         declared = set(self.schema().fields)
@@ -207,6 +209,21 @@ def run_calculation(calculation: Calculation, payload: Any, max_cases: int):
     else:
         body = {"columns": _columns_body(calculation, outcomes, size), "errors": case_errors}
     return body, size
+
+
+def run_drawing(calculation: Calculation, payload: Any, max_cases: int) -> str:
+    """The SVG drawing of one case: validated and computed as :func:`run_calculation`, then drawn.
+
+    Raises
+    ------
+    Problem
+        406 for rows or columns (a drawing shows one case), and as :func:`run_calculation`.
+    """
+    if not isinstance(payload, dict) or "cases" in payload or "columns" in payload:
+        raise Problem(406, "Not Acceptable", "An image/svg+xml drawing is made for one case: send one case, or "
+                                             "accept application/json for rows or columns.")
+    body, _ = run_calculation(calculation, payload, max_cases)
+    return calculation.render_svg(payload, body)
 
 
 # -- request shapes -> groups -------------------------------------------------------------------

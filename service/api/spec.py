@@ -6,7 +6,7 @@ from apispec import APISpec
 from apispec.ext.marshmallow import MarshmallowPlugin
 
 from service.api.calculation import Calculation, Mode
-from service.api.fields import CaseSchema, Option, Quantity, QuantityList
+from service.api.fields import CaseSchema, Option, Quantity, QuantityList, QuantityPerStage
 from service.core.checks import COMPARISONS, STATUSES
 
 TITLE = "Meanline service"
@@ -48,6 +48,9 @@ def case_field_property(self, field, ret, **kwargs) -> dict:
         schema = _number_schema(field)
     elif isinstance(field, Option):
         schema = {"type": "string", "enum": list(field.choices)}
+    elif isinstance(field, QuantityPerStage):
+        item = _number_schema(field.item)
+        schema = {"oneOf": [item, {"type": "array", "items": item, "minItems": 1}]}
     else:
         schema = {"type": "array", "items": _number_schema(field.item), "minItems": 1}
     columns = bool(getattr(field.parent, "columns", False))
@@ -163,6 +166,13 @@ def _add_calculation(spec: APISpec, plugin, calculation: Calculation) -> None:
     spec.components.schema(f"{prefix}Response", component={"oneOf": responses})
 
     problem = {"content": {"application/problem+json": {"schema": _ref("Problem")}}}
+    content = {"application/json": {"schema": _ref(f"{prefix}Response")}}
+    drawing = {}
+    if calculation.render_svg is not None:
+        content["image/svg+xml"] = {"schema": {
+            "type": "string", "description": "With `Accept: image/svg+xml` and one case: an SVG drawing of it."}}
+        drawing = {"406": {"description": "An SVG drawing was asked for rows or columns (it shows one case).",
+                           **problem}}
     spec.path(path=calculation.path, operations={"post": {
         "operationId": calculation.name.replace("-", "_"),
         "tags": [calculation.name],
@@ -170,12 +180,12 @@ def _add_calculation(spec: APISpec, plugin, calculation: Calculation) -> None:
         "description": calculation.description + "\n\n" + CAUTION,
         "requestBody": {"required": True, "content": {"application/json": {"schema": _ref(f"{prefix}Request")}}},
         "responses": {
-            "200": {"description": "Results, in the shape of the request.",
-                    "content": {"application/json": {"schema": _ref(f"{prefix}Response")}}},
+            "200": {"description": "Results, in the shape of the request.", "content": content},
             "400": {"description": "The body is not valid JSON.", **problem},
             "401": {"description": "An API key is required and was not given.", **problem},
             "403": {"description": "The API key is not valid.", **problem},
             "413": {"description": "The body or the number of cases is over the limit.", **problem},
+            **drawing,
             "415": {"description": "The body is not JSON (Content-Type).", **problem},
             "422": {"description": "Invalid input (every offending field named by JSON Pointer), or one "
                                    "case that is physically impossible.", **problem},

@@ -129,6 +129,12 @@ def _compute(mode: Mode, options: dict, inputs: dict):
     return result
 
 
+def _render_svg(payload: dict, body: dict) -> str:
+    from service.api import drawings
+
+    return drawings.triangles_svg(payload, body)
+
+
 DUTY = ("flow_coefficient", "loading_coefficient", "reaction", "blade_speed")
 FLOW = (
     Mode("Duty", "flow_coefficient, loading_coefficient, reaction and blade_speed", required=DUTY),
@@ -164,11 +170,13 @@ CALCULATION = Calculation(
         "rotor exit. With row geometry the rows are judged too: a turbine's axial chord (or blade "
         "height and aspect ratio) and mean radius give each row's Zweifel blade count; a "
         "compressor's solidities (or chord, mean radius and blade counts) give each row's diffusion "
-        "factor."
+        "factor. Send `Accept: image/svg+xml` with one case for a drawing of the rotor's velocity "
+        "triangles."
     ),
     schema=TrianglesInput,
     outputs=TrianglesOutput,
     modes=combine_modes(FLOW, ROWS),
     compute=_compute,
     together=(("total_temperature", "total_pressure"),),
+    render_svg=_render_svg,
 )
