@@ -253,7 +253,9 @@ def _flatten(messages, pointer, path=()):
             yield from _flatten(value, pointer, path + ((key,) if key is not None else ()))
     else:
         for message in messages:
-            yield pointer(path[0] if path else "", path[1:]), message
+            pointers = pointer(path[0] if path else "", path[1:])
+            for one in [pointers] if isinstance(pointers, str) else pointers:
+                yield one, message
 
 
 def _single_group(calculation: Calculation, payload: dict):
@@ -325,7 +327,8 @@ def _rows_groups(calculation: Calculation, payload: dict, max_cases: int):
         def pointer(f, rest, rows=rows):
             if rest and isinstance(rest[0], int):
                 return _join(f"/cases/{rows[rest[0]]}", f, *rest[1:])
-            return _join(f"/cases/{rows[0]}", f, *rest)
+            # A message about the whole column block concerns every row in it.
+            return [_join(f"/cases/{row}", f, *rest) for row in rows[: MAX_LISTED_ERRORS + 1]]
 
         def case_pointers(f, positions, rows=rows):
             return [_join(f"/cases/{rows[p]}", f) for p in positions[: MAX_LISTED_ERRORS + 1]]
@@ -380,6 +383,8 @@ def _resolve_mode(calculation: Calculation, group: _Group, options: dict, positi
         if given and len(given) < len(fields):
             errors += [(p, f"Required together with {', '.join(given)}.")
                        for f in fields if f not in present for p in group.case_pointers(f, positions)]
+    if any(name not in options for mode in calculation.modes for name in mode.when):
+        return None, errors  # an option is missing or invalid: its own error says so, modes cannot be judged
     candidates = [m for m in calculation.modes if m.applies(options)]
     scored = []
     for mode in candidates:
@@ -432,9 +437,10 @@ def _compute(calculation: Calculation, mode: Mode, options: dict, data: dict, in
     for name, check in result.checks.items():
         status = np.asarray(check.status, dtype=object)
         value = np.asarray(check.value, dtype=float)
+        per_case = failed.reshape((-1,) + (1,) * (value.ndim - 1))
         checks[name] = {
-            "value": np.where(failed, np.nan, value) if value.ndim == 1 else value,
-            "status": np.where(failed, None, status) if status.ndim == 1 else status,
+            "value": np.where(per_case, np.nan, value),
+            "status": np.where(failed.reshape((-1,) + (1,) * (status.ndim - 1)), None, status),
             "limit": check.limit,
             "fail_limit": check.fail_limit,
             "comparison": check.comparison,
@@ -466,15 +472,18 @@ def _scalar(calculation: Calculation, name: str, value):
 
 
 def _check_entry(check: dict, i: int) -> dict:
-    value = check["value"][i]
+    value, status = check["value"][i], check["status"][i]
+    if isinstance(value, np.ndarray):  # one value per stage or row, NaN-padded; all NaN where the case failed
+        finite = np.isfinite(value)
+        value, status = (value[finite].tolist(), status[finite].tolist()) if finite.any() else (None, None)
+    else:
+        value = float(value) if np.isfinite(value) else None
     return {
-        "value": (value[np.isfinite(value)].tolist() if isinstance(value, np.ndarray)
-                  else (float(value) if np.isfinite(value) else None)),
+        "value": value,
         "limit": check["limit"],
         "fail_limit": check["fail_limit"],
         "comparison": check["comparison"],
-        "status": (check["status"][i].tolist()[: len(value[np.isfinite(value)])]
-                   if isinstance(value, np.ndarray) else check["status"][i]),
+        "status": status,
         "basis": check["basis"],
     }
 
