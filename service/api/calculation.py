@@ -265,7 +265,8 @@ def _single_group(calculation: Calculation, payload: dict):
 
 
 def _columns_groups(calculation: Calculation, payload: dict, max_cases: int):
-    extra = [( _join("", key), "Unknown field: give one of 'cases' or 'columns'.") for key in payload if key != "columns"]
+    extra = [(_join("", key), "Unknown field: give one of 'cases' or 'columns'.")
+             for key in payload if key != "columns"]
     columns = payload["columns"]
     if not isinstance(columns, dict):
         raise invalid_input([("/columns", "Must be an object of field names to values or lists of values.")])

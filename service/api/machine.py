@@ -5,7 +5,15 @@ from __future__ import annotations
 from marshmallow import Schema
 
 from service.api.calculation import Calculation, Mode, combine_modes
-from service.api.common import GasInputs, RequiredInletStateInputs, angle, integer_output, machine_field, output, positive
+from service.api.common import (
+    GasInputs,
+    RequiredInletStateInputs,
+    angle,
+    integer_output,
+    machine_field,
+    output,
+    positive,
+)
 from service.api.fields import Option, Quantity, QuantityList, QuantityPerStage
 from service.core import flowpath, gas, split, zweifel
 from service.core import machine as design
@@ -17,7 +25,8 @@ class MachineInput(GasInputs, RequiredInletStateInputs):
     machine = machine_field(required=True)
     mass_flow = positive("Mass flow. [kg s^-1]", "kg s^-1", required=True)
     pressure_ratio = Quantity("Overall total pressure ratio, above 1: p0_out / p0_in for a compressor, "
-                              "p0_in / p0_out for a turbine. [-]", "-", minimum=1.0, exclusive_minimum=True, required=True)
+                              "p0_in / p0_out for a turbine. [-]", "-", minimum=1.0, exclusive_minimum=True,
+                              required=True)
     shaft_speed = positive("Shaft speed. [rev min^-1]", "rev min^-1", required=True)
     polytropic_efficiency = Quantity("Polytropic (small-stage) efficiency of every stage. [-]", "-",
                                      **EFFICIENCY_LIMITS, required=True)

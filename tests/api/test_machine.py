@@ -96,7 +96,8 @@ def test_rows_mix_machines_and_list_lengths_and_report_per_case_failures(client)
     ]
     assert body["results"][3]["station_alpha"] is None
     checks = body["results"][0]["checks"]
-    assert len(checks["rotor_diffusion_factor"]["value"]) == 5 and len(checks["stage_loading_coefficient"]["status"]) == 5
+    assert len(checks["rotor_diffusion_factor"]["value"]) == 5
+    assert len(checks["stage_loading_coefficient"]["status"]) == 5
     assert len(body["results"][1]["checks"]["stator_zweifel_high"]["value"]) == 3
 
 
