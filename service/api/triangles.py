@@ -131,8 +131,10 @@ def _compute(mode: Mode, options: dict, inputs: dict):
     elif mode.includes("Solidities"):
         result = stage.with_diffusion_rows(result, inputs["rotor_solidity"], inputs["stator_solidity"])
     elif mode.includes("BladeCounts"):
-        rotor, stator = (diffusion.solidity_from_blade_count(inputs["chord"], inputs["mean_radius"],
-                                                             inputs[f"{row}_blade_count"]) for row in ("rotor", "stator"))
+        rotor, stator = (
+            diffusion.solidity_from_blade_count(inputs["chord"], inputs["mean_radius"], inputs[f"{row}_blade_count"])
+            for row in ("rotor", "stator")
+        )
         result = stage.with_diffusion_rows(result, rotor, stator)
     return result
 
