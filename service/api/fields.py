@@ -39,6 +39,12 @@ class CaseSchema(Schema):
 class _CaseField(fields.Field):
     """A field that knows whether its schema loads one case or columns."""
 
+    def __init__(self, *args, **kwargs):
+        # marshmallow lets null through wherever load_default is None (optional cp, gamma); the
+        # documented type is a number, and an omitted field already means "use the default".
+        kwargs.setdefault("allow_none", False)
+        super().__init__(*args, **kwargs)
+
     def _loads_columns(self) -> bool:
         return bool(getattr(self.parent, "columns", False))
 
