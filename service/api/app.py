@@ -108,6 +108,13 @@ def _reject_duplicate_keys(pairs):
     return dict(pairs)
 
 
+def _parse_int(text: str):
+    # An integer literal beyond int64 becomes a float (inf beyond the double range), so the fields
+    # report it as out of range or not finite; as a Python int it would overflow float() (a 500),
+    # or past 4300 digits fail inside the parser.
+    return int(text) if len(text) <= 18 else float(text)
+
+
 def read_json():
     """The request body as JSON, with the statuses of the design brief for every way it can fail."""
     mimetype = request.mimetype or ""
@@ -120,7 +127,7 @@ def read_json():
         raise Problem(413, "Content Too Large", f"The body reaches the limit of {limit} bytes. Split the batch.",
                       TOO_LARGE)
     try:
-        return json.loads(body.decode("utf-8"), object_pairs_hook=_reject_duplicate_keys)
+        return json.loads(body.decode("utf-8"), object_pairs_hook=_reject_duplicate_keys, parse_int=_parse_int)
     except UnicodeDecodeError:
         raise Problem(400, "Malformed JSON", "The body is not UTF-8 text.", MALFORMED) from None
     except json.JSONDecodeError as error:
