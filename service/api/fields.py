@@ -93,6 +93,10 @@ class Quantity(_CaseField):
     ):
         metadata = {"description": description, "x-unit": unit, **kwargs.pop("metadata", {})}
         super().__init__(metadata=metadata, **kwargs)
+        if integer and maximum is None:
+            # Past 2**53 a double no longer holds every whole number, and a column of such counts
+            # would wrap round when cast to int64 (1e300 blades became a negative count).
+            maximum = 2**53
         self.unit = unit
         self.minimum = minimum
         self.maximum = maximum
