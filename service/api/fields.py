@@ -94,9 +94,10 @@ class Quantity(_CaseField):
         metadata = {"description": description, "x-unit": unit, **kwargs.pop("metadata", {})}
         super().__init__(metadata=metadata, **kwargs)
         if integer and maximum is None:
-            # Past 2**53 a double no longer holds every whole number, and a column of such counts
-            # would wrap round when cast to int64 (1e300 blades became a negative count).
-            maximum = 2**53
+            # Past 2**53 a double no longer holds every whole number (2**53 + 1 would read as 2**53),
+            # and a column of larger counts wraps round when cast to int64 (1e300 blades became a
+            # negative count).
+            maximum = 2**53 - 1
         self.unit = unit
         self.minimum = minimum
         self.maximum = maximum
