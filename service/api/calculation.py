@@ -21,6 +21,7 @@ from service.api.problems import MAX_LISTED_ERRORS, PHYSICALLY_IMPOSSIBLE, Probl
 from service.core.cases import CaseResults
 
 NOT_FINITE = "the result is not a finite number (overflow): check the magnitudes of the inputs"
+MAX_WHOLE_OUTPUT = 2**53 - 1
 
 
 @dataclass(frozen=True)
@@ -403,6 +404,10 @@ def _compute(calculation: Calculation, mode: Mode, options: dict, data: dict, in
     for name, array in result.values.items():
         array = np.asarray(array, dtype=float)
         finite = np.isfinite(array) if array.ndim == 1 else _finite_rows(array)
+        if name in calculation._integer_outputs:
+            # A count past 2**53 is not exact as a double, and past 2**63 orjson refuses it (a 500).
+            too_big = np.abs(np.where(np.isfinite(array), array, 0.0)) > MAX_WHOLE_OUTPUT
+            finite &= ~(too_big if too_big.ndim == 1 else too_big.any(axis=1))
         failure[(~finite) & (failure == "")] = NOT_FINITE
         values[name] = array
     failed = failure != ""
