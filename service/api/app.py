@@ -11,6 +11,7 @@ import orjson
 from flask import Blueprint, Flask, Response, current_app, request
 
 from service import __version__
+from service.api import access
 from service.api.calculation import Calculation, run_calculation
 from service.api.problems import MALFORMED, TOO_LARGE, Problem, register_error_handlers
 from service.api.registry import CALCULATIONS
@@ -19,11 +20,15 @@ from service.api.spec import build_spec
 DEFAULTS = {
     "MAX_BODY_BYTES": 16 * 1024 * 1024,
     "MAX_CASES": 1_000_000,
+    "API_KEYS": None,
+    "API_KEYS_FILE": None,
 }
 #: Configuration keys read from ``MEANLINE_<KEY>`` environment variables, with their parsers.
 ENVIRONMENT = {
     "MAX_BODY_BYTES": int,
     "MAX_CASES": int,
+    "API_KEYS": str,
+    "API_KEYS_FILE": str,
 }
 
 
@@ -48,8 +53,8 @@ def create_app(config: Mapping | None = None) -> Flask:
     ----------
     config : mapping, optional
         Settings that override the defaults and the ``MEANLINE_*`` environment variables:
-        ``MAX_BODY_BYTES`` (request body limit, 413 above it) and ``MAX_CASES`` (cases per
-        request, 413 above it).
+        ``MAX_BODY_BYTES`` (request body limit, 413 above it), ``MAX_CASES`` (cases per
+        request, 413 above it), ``API_KEYS`` and ``API_KEYS_FILE`` (see service.api.access).
     """
     app = Flask(__name__)
     app.config.update(load_config(config))
@@ -57,6 +62,7 @@ def create_app(config: Mapping | None = None) -> Flask:
     # which read_json() treats as too large.
     app.config["MAX_CONTENT_LENGTH"] = app.config["MAX_BODY_BYTES"]
     register_error_handlers(app)
+    access.init_app(app)
 
     spec_bytes = orjson.dumps(build_spec(list(CALCULATIONS), __version__))
     blueprint = Blueprint("calculations", __name__)
@@ -76,13 +82,6 @@ def create_app(config: Mapping | None = None) -> Flask:
     @app.get("/v1/openapi.json")
     def openapi():
         return Response(spec_bytes, mimetype="application/json")
-
-    @app.after_request
-    def security_headers(response: Response) -> Response:
-        response.headers.setdefault("X-Content-Type-Options", "nosniff")
-        if response.status_code >= 400:
-            response.headers["Cache-Control"] = "no-store"
-        return response
 
     return app
 

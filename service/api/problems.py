@@ -14,6 +14,7 @@ PHYSICALLY_IMPOSSIBLE = "urn:meanline:problem:physically-impossible"
 TOO_LARGE = "urn:meanline:problem:too-large"
 MALFORMED = "urn:meanline:problem:malformed-json"
 UNAUTHORIZED = "urn:meanline:problem:unauthorized"
+FORBIDDEN = "urn:meanline:problem:forbidden"
 INTERNAL = "urn:meanline:problem:internal-error"
 
 #: How many field errors one response lists at most; the rest are counted.
