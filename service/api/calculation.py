@@ -224,12 +224,24 @@ def _load(schema: CaseSchema, raw: dict, pointer):
         return options, list(_flatten(error.messages, pointer))
 
 
+class _EmptyName:
+    """A field named "" (pointer "/"), which _join would otherwise drop as "no field" (pointer "")."""
+
+    def __str__(self) -> str:
+        return ""
+
+
+_EMPTY_NAME = _EmptyName()
+
+
 def _flatten(messages, pointer, path=()):
     """Marshmallow's nested messages -> (JSON Pointer, detail) pairs."""
     if isinstance(messages, dict):
         for key, value in messages.items():
             if key == "_schema":
                 key = None
+            elif key == "":
+                key = _EMPTY_NAME
             yield from _flatten(value, pointer, path + ((key,) if key is not None else ()))
     else:
         for message in messages:
