@@ -10,11 +10,12 @@ from collections.abc import Mapping
 
 import orjson
 from flask import Blueprint, Flask, Response, current_app, request
+from werkzeug.exceptions import RequestEntityTooLarge
 
 from service import __version__
 from service.api import access
 from service.api.calculation import Calculation, run_calculation
-from service.api.problems import MALFORMED, TOO_LARGE, Problem, register_error_handlers
+from service.api.problems import MALFORMED, TOO_LARGE, Problem, problem_response, register_error_handlers
 from service.api.registry import CALCULATIONS
 from service.api.spec import build_spec
 
@@ -66,6 +67,7 @@ def create_app(config: Mapping | None = None) -> Flask:
     app.config["MAX_CONTENT_LENGTH"] = app.config["MAX_BODY_BYTES"]
     register_error_handlers(app)
     access.init_app(app)
+    app.register_error_handler(RequestEntityTooLarge, _too_large)
 
     spec_bytes = orjson.dumps(build_spec(list(CALCULATIONS), __version__))
     blueprint = Blueprint("calculations", __name__)
@@ -117,17 +119,27 @@ def _parse_int(text: str):
     return int(text) if len(text) <= 18 else float(text)
 
 
+def _body_too_large() -> Problem:
+    limit = current_app.config["MAX_BODY_BYTES"]
+    return Problem(413, "Content Too Large", f"The body reaches the limit of {limit} bytes. Split the batch.",
+                   TOO_LARGE)
+
+
+def _too_large(error: RequestEntityTooLarge) -> Response:
+    # A declared Content-Length over the limit gets the same answer as a chunked body cut at it
+    # (werkzeug's own 413 came out as an about:blank problem).
+    return problem_response(_body_too_large())
+
+
 def read_json():
     """The request body as JSON, with the statuses of the design brief for every way it can fail."""
     mimetype = request.mimetype or ""
     if not (mimetype == "application/json" or mimetype.endswith("+json")):
         raise Problem(415, "Unsupported Media Type",
                       f"Send the body as application/json, not {mimetype or 'no Content-Type'}.")
-    limit = current_app.config["MAX_BODY_BYTES"]
     body = request.get_data(cache=False)
-    if len(body) >= limit:
-        raise Problem(413, "Content Too Large", f"The body reaches the limit of {limit} bytes. Split the batch.",
-                      TOO_LARGE)
+    if len(body) >= current_app.config["MAX_BODY_BYTES"]:
+        raise _body_too_large()
     try:
         return json.loads(body.decode("utf-8"), object_pairs_hook=_reject_duplicate_keys, parse_int=_parse_int)
     except UnicodeDecodeError:
