@@ -384,6 +384,8 @@ def _resolve_mode(calculation: Calculation, group: _Group, options: dict, positi
     if len(matches) == 1:
         return None, errors
     if not scored:
+        if {name for m in calculation.modes for name in m.when} - set(options):
+            return None, errors  # an option that failed to load; its own error names it
         return None, errors + [(p, "No way to compute this case with these options.")
                                for p in group.case_pointers("", positions)]
     _, best, missing, extra = min(scored, key=lambda item: item[0])
