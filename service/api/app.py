@@ -15,7 +15,14 @@ from werkzeug.exceptions import RequestEntityTooLarge
 from service import __version__
 from service.api import access
 from service.api.calculation import Calculation, run_calculation
-from service.api.problems import MALFORMED, TOO_LARGE, Problem, problem_response, register_error_handlers
+from service.api.problems import (
+    MALFORMED,
+    STOPPED,
+    TOO_LARGE,
+    Problem,
+    problem_response,
+    register_error_handlers,
+)
 from service.api.registry import CALCULATIONS
 from service.api.spec import build_spec
 
@@ -68,6 +75,7 @@ def create_app(config: Mapping | None = None) -> Flask:
     register_error_handlers(app)
     access.init_app(app)
     app.register_error_handler(RequestEntityTooLarge, _too_large)
+    app.wsgi_app = _answer_when_stopped(app.wsgi_app)
 
     spec_bytes = orjson.dumps(build_spec(list(CALCULATIONS), __version__))
     blueprint = Blueprint("calculations", __name__)
@@ -87,6 +95,31 @@ def create_app(config: Mapping | None = None) -> Flask:
     @app.get("/v1/openapi.json")
     def openapi():
         return Response(spec_bytes, mimetype="application/json")
+
+    return app
+
+
+def _answer_when_stopped(wsgi_app):
+    """503 with a problem for a request that gunicorn stops in the middle.
+
+    Over the time limit (MEANLINE_TIMEOUT) gunicorn sends the worker SIGABRT, and on SIGINT or
+    SIGQUIT it quits at once; both raise SystemExit inside the request, which gunicorn then
+    answered with a bare HTML 500. The worker is already marked to stop, so it exits after this
+    answer (and the master replaces it), as it would have without it.
+    """
+
+    def app(environ, start_response):
+        try:
+            return wsgi_app(environ, start_response)
+        except SystemExit:
+            log.error("request stopped by the server (time limit or shutdown): %s %s",
+                      environ.get("REQUEST_METHOD"), environ.get("PATH_INFO"))
+            response = problem_response(Problem(
+                503, "Request stopped", "The server stopped this request: it ran over the time limit, or the "
+                "server is shutting down. Split the batch, or retry.", STOPPED))
+            for name, value in access.SECURITY_HEADERS.items():
+                response.headers.setdefault(name, value)
+            return response(environ, start_response)
 
     return app
 

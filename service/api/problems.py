@@ -15,6 +15,7 @@ TOO_LARGE = "urn:meanline:problem:too-large"
 MALFORMED = "urn:meanline:problem:malformed-json"
 UNAUTHORIZED = "urn:meanline:problem:unauthorized"
 FORBIDDEN = "urn:meanline:problem:forbidden"
+STOPPED = "urn:meanline:problem:request-stopped"
 INTERNAL = "urn:meanline:problem:internal-error"
 
 #: How many field errors one response lists at most; the rest are counted.

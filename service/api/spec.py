@@ -172,6 +172,8 @@ def _add_calculation(spec: APISpec, plugin, calculation: Calculation) -> None:
             "415": {"description": "The body is not JSON (Content-Type).", **problem},
             "422": {"description": "Invalid input (every offending field named by JSON Pointer), or one "
                                    "case that is physically impossible.", **problem},
+            "503": {"description": "The server stopped the request: over the time limit (MEANLINE_TIMEOUT), "
+                                   "or shutting down.", **problem},
         },
     }})
 

@@ -11,6 +11,7 @@ from __future__ import annotations
 
 import io
 import json
+import sys
 
 import pytest
 from werkzeug.test import EnvironBuilder, run_wsgi_app
@@ -94,3 +95,15 @@ def test_a_malformed_limit_stops_the_start(environment, name, value):
     environment.setenv(name, value)
     with pytest.raises(ValueError, match=name):
         create_app()
+
+
+def test_a_request_the_server_stops_is_answered_503_not_500(environment):
+    """gunicorn stops a request over its time limit by raising SystemExit inside it (SIGABRT;
+    SIGINT and SIGQUIT alike); the answer is the documented 503 problem, not a bare 500."""
+    app = create_app()
+    app.add_url_rule("/v1/stopped-in-the-middle", view_func=lambda: sys.exit(1), methods=["POST"])
+    response = app.test_client().post("/v1/stopped-in-the-middle", json={})
+    assert response.status_code == 503
+    assert response.mimetype == "application/problem+json"
+    assert response.json["type"] == "urn:meanline:problem:request-stopped"
+    assert response.headers["X-Content-Type-Options"] == "nosniff"
