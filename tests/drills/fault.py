@@ -50,6 +50,20 @@ def _sockets(pid: int) -> set[str]:
     return found
 
 
+def _wait_until_dead(pid: int) -> float:
+    """When the process is gone or a zombie (time.monotonic())."""
+    deadline = time.monotonic() + REPLACE_SECONDS
+    while time.monotonic() < deadline:
+        try:
+            stat = Path(f"/proc/{pid}/stat").read_text()
+        except OSError:
+            return time.monotonic()
+        if stat[stat.rindex(")") + 2] in "ZX":
+            return time.monotonic()
+        time.sleep(0.0005)
+    raise RuntimeError(f"worker {pid} still runs {REPLACE_SECONDS} s after SIGKILL")
+
+
 def _wait_for_replacement(server: Server, gone: int, known: set[int]) -> tuple[int, float]:
     """The new worker's pid and when it appeared (time.monotonic())."""
     deadline = time.monotonic() + REPLACE_SECONDS
@@ -73,8 +87,10 @@ def kill_drill(server: Server, *, seconds_before: float, seconds_after: float, c
     time.sleep(seconds_before)
     before = set(server.worker_pids())
     victim = min(before)
-    killed_at = time.monotonic()
+    sent_at = time.monotonic()
     os.kill(victim, signal.SIGKILL)
+    # From when it is dead: a request sent after that cannot have reached it.
+    killed_at = _wait_until_dead(victim)
     replacement, replaced_at = _wait_for_replacement(server, victim, before)
     time.sleep(seconds_after)
     stop.set()
@@ -82,7 +98,7 @@ def kill_drill(server: Server, *, seconds_before: float, seconds_after: float, c
     failed = [o for o in outcomes if not o.ok]
     figures = summary(outcomes)
     figures.update(
-        victim=victim, replacement=replacement, replaced_ms=(replaced_at - killed_at) * 1000,
+        victim=victim, replacement=replacement, replaced_ms=(replaced_at - sent_at) * 1000,
         failed_at_kill=len(failed),
         failed_after_kill=sum(o.started >= killed_at for o in failed),
         sent_after_kill=sum(o.started >= killed_at for o in outcomes),
