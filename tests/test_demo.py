@@ -175,6 +175,7 @@ def test_demo_requests_are_in_the_server_log(live_demo):
     """The demo went through the server: its requests are in the server's request log."""
     _, _, server = live_demo
     lines = [json.loads(line) for line in server.stdout.read_text().splitlines() if line]
+    lines = [line for line in lines if line.get("logger") == "service.requests"]  # not start-up warnings
     demo_lines = [line for line in lines if line["path"] != "/readyz"][:7]  # before the test's own requests
     assert [(line["method"], line["path"], line["status"]) for line in demo_lines] == [
         ("GET", "/healthz", 200),

@@ -3,30 +3,44 @@
 from __future__ import annotations
 
 import json
+import logging
 import math
 import os
 from collections.abc import Mapping
 
 import orjson
 from flask import Blueprint, Flask, Response, current_app, request
+from werkzeug.exceptions import RequestEntityTooLarge
 
 from service import __version__
-from service.api import observability
+from service.api import access, observability
 from service.api.calculation import Calculation, run_calculation, run_drawing
-from service.api.problems import MALFORMED, TOO_LARGE, Problem, register_error_handlers
+from service.api.problems import (
+    MALFORMED,
+    STOPPED,
+    TOO_LARGE,
+    Problem,
+    problem_response,
+    register_error_handlers,
+)
 from service.api.registry import CALCULATIONS
 from service.api.spec import build_spec
 
 JSON, SVG = "application/json", "image/svg+xml"
+log = logging.getLogger(__name__)
 
 DEFAULTS = {
     "MAX_BODY_BYTES": 16 * 1024 * 1024,
     "MAX_CASES": 1_000_000,
+    "API_KEYS": None,
+    "API_KEYS_FILE": None,
 }
 #: Configuration keys read from ``MEANLINE_<KEY>`` environment variables, with their parsers.
 ENVIRONMENT = {
     "MAX_BODY_BYTES": int,
     "MAX_CASES": int,
+    "API_KEYS": str,
+    "API_KEYS_FILE": str,
 }
 
 
@@ -52,8 +66,9 @@ def create_app(config: Mapping | None = None) -> Flask:
     config : mapping, optional
         Settings that override the defaults and the ``MEANLINE_*`` environment variables:
         ``MAX_BODY_BYTES`` (request body limit, 413 above it), ``MAX_CASES`` (cases per
-        request, 413 above it) and ``LOG_LEVEL`` (else ``MEANLINE_LOG_LEVEL``; see
-        :mod:`service.api.observability`).
+        request, 413 above it), ``LOG_LEVEL`` (else ``MEANLINE_LOG_LEVEL``; see
+        :mod:`service.api.observability`), ``API_KEYS`` and ``API_KEYS_FILE`` (see
+        :mod:`service.api.access`).
     """
     app = Flask(__name__)
     app.config.update(load_config(config))
@@ -61,7 +76,10 @@ def create_app(config: Mapping | None = None) -> Flask:
     # which read_json() treats as too large.
     app.config["MAX_CONTENT_LENGTH"] = app.config["MAX_BODY_BYTES"]
     register_error_handlers(app)
-    observability.init_app(app)
+    observability.init_app(app)  # first: its hooks see every request, including refused ones
+    access.init_app(app)
+    app.register_error_handler(RequestEntityTooLarge, _too_large)
+    app.wsgi_app = _answer_when_stopped(app.wsgi_app)
 
     spec_bytes = orjson.dumps(build_spec(list(CALCULATIONS), __version__))
     blueprint = Blueprint("calculations", __name__)
@@ -82,12 +100,30 @@ def create_app(config: Mapping | None = None) -> Flask:
     def openapi():
         return Response(spec_bytes, mimetype="application/json")
 
-    @app.after_request
-    def security_headers(response: Response) -> Response:
-        response.headers.setdefault("X-Content-Type-Options", "nosniff")
-        if response.status_code >= 400:
-            response.headers["Cache-Control"] = "no-store"
-        return response
+    return app
+
+
+def _answer_when_stopped(wsgi_app):
+    """503 with a problem for a request that gunicorn stops in the middle.
+
+    Over the time limit (MEANLINE_TIMEOUT) gunicorn sends the worker SIGABRT, and on SIGINT or
+    SIGQUIT it quits at once; both raise SystemExit inside the request, which gunicorn then
+    answered with a bare HTML 500. The worker is already marked to stop, so it exits after this
+    answer (and the master replaces it), as it would have without it.
+    """
+
+    def app(environ, start_response):
+        try:
+            return wsgi_app(environ, start_response)
+        except SystemExit:
+            log.error("request stopped by the server (time limit or shutdown): %s %s",
+                      environ.get("REQUEST_METHOD"), environ.get("PATH_INFO"))
+            response = problem_response(Problem(
+                503, "Request stopped", "The server stopped this request: it ran over the time limit, or the "
+                "server is shutting down. Split the batch, or retry.", STOPPED))
+            for name, value in access.SECURITY_HEADERS.items():
+                response.headers.setdefault(name, value)
+            return response(environ, start_response)
 
     return app
 
@@ -123,21 +159,39 @@ def _reject_duplicate_keys(pairs):
     return dict(pairs)
 
 
+def _parse_int(text: str):
+    # An integer literal beyond int64 becomes a float (inf beyond the double range), so the fields
+    # report it as out of range or not finite; as a Python int it would overflow float() (a 500),
+    # or past 4300 digits fail inside the parser.
+    return int(text) if len(text) <= 18 else float(text)
+
+
+def _body_too_large() -> Problem:
+    limit = current_app.config["MAX_BODY_BYTES"]
+    return Problem(413, "Content Too Large", f"The body reaches the limit of {limit} bytes. Split the batch.",
+                   TOO_LARGE)
+
+
+def _too_large(error: RequestEntityTooLarge) -> Response:
+    # A declared Content-Length over the limit gets the same answer as a chunked body cut at it
+    # (werkzeug's own 413 came out as an about:blank problem).
+    return problem_response(_body_too_large())
+
+
 def read_json():
     """The request body as JSON, with the statuses of the design brief for every way it can fail."""
     mimetype = request.mimetype or ""
     if not (mimetype == "application/json" or mimetype.endswith("+json")):
         raise Problem(415, "Unsupported Media Type",
                       f"Send the body as application/json, not {mimetype or 'no Content-Type'}.")
-    limit = current_app.config["MAX_BODY_BYTES"]
     body = request.get_data(cache=False)
     # Werkzeug refuses a declared length above the limit itself; a chunked body is cut at the
     # limit instead, so one that reaches it may have been longer.
+    limit = current_app.config["MAX_BODY_BYTES"]
     if len(body) > limit or (request.content_length is None and len(body) >= limit):
-        raise Problem(413, "Content Too Large", f"The body reaches the limit of {limit} bytes. Split the batch.",
-                      TOO_LARGE)
+        raise _body_too_large()
     try:
-        return json.loads(body.decode("utf-8"), object_pairs_hook=_reject_duplicate_keys)
+        return json.loads(body.decode("utf-8"), object_pairs_hook=_reject_duplicate_keys, parse_int=_parse_int)
     except UnicodeDecodeError:
         raise Problem(400, "Malformed JSON", "The body is not UTF-8 text.", MALFORMED) from None
     except json.JSONDecodeError as error:
@@ -148,10 +202,16 @@ def read_json():
 
 def _computes_known_case() -> bool:
     # A compressor stage at phi 0.5, psi 0.4, R 0.5: alpha1 = atan(0.6) by hand.
-    calculation = next(c for c in CALCULATIONS if c.name == "triangles")
-    body, _ = run_calculation(calculation, {"machine": "compressor", "flow_coefficient": 0.5,
-                                            "loading_coefficient": 0.4, "reaction": 0.5, "blade_speed": 300.0}, 1)
-    return math.isclose(body["alpha1"], math.degrees(math.atan(0.6)), rel_tol=1e-12)
+    try:
+        calculation = next(c for c in CALCULATIONS if c.name == "triangles")
+        body, _ = run_calculation(calculation, {"machine": "compressor", "flow_coefficient": 0.5,
+                                                "loading_coefficient": 0.4, "reaction": 0.5, "blade_speed": 300.0}, 1)
+        # Through the response encoder too, as a real answer goes.
+        answer = orjson.loads(_json(body).get_data())["alpha1"]
+        return math.isclose(answer, math.degrees(math.atan(0.6)), rel_tol=1e-12)
+    except Exception:  # whatever breaks the self test means "not ready" (503), never a 500
+        log.exception("readiness self test failed")
+        return False
 
 
 def _not_ready() -> Response:

@@ -21,6 +21,7 @@ from service.api.problems import MAX_LISTED_ERRORS, PHYSICALLY_IMPOSSIBLE, Probl
 from service.core.cases import CaseResults
 
 NOT_FINITE = "the result is not a finite number (overflow): check the magnitudes of the inputs"
+MAX_WHOLE_OUTPUT = 2**53 - 1
 
 
 @dataclass(frozen=True)
@@ -244,12 +245,24 @@ def _load(schema: CaseSchema, raw: dict, pointer):
         return options, list(_flatten(error.messages, pointer))
 
 
+class _EmptyName:
+    """A field named "" (pointer "/"), which _join would otherwise drop as "no field" (pointer "")."""
+
+    def __str__(self) -> str:
+        return ""
+
+
+_EMPTY_NAME = _EmptyName()
+
+
 def _flatten(messages, pointer, path=()):
     """Marshmallow's nested messages -> (JSON Pointer, detail) pairs."""
     if isinstance(messages, dict):
         for key, value in messages.items():
             if key == "_schema":
                 key = None
+            elif key == "":
+                key = _EMPTY_NAME
             yield from _flatten(value, pointer, path + ((key,) if key is not None else ()))
     else:
         for message in messages:
@@ -398,6 +411,8 @@ def _resolve_mode(calculation: Calculation, group: _Group, options: dict, positi
     if len(matches) == 1:
         return None, errors
     if not scored:
+        if {name for m in calculation.modes for name in m.when} - set(options):
+            return None, errors  # an option that failed to load; its own error names it
         return None, errors + [(p, "No way to compute this case with these options.")
                                for p in group.case_pointers("", positions)]
     _, best, missing, extra = min(scored, key=lambda item: item[0])
@@ -430,6 +445,10 @@ def _compute(calculation: Calculation, mode: Mode, options: dict, data: dict, in
     for name, array in result.values.items():
         array = np.asarray(array, dtype=float)
         finite = np.isfinite(array) if array.ndim == 1 else _finite_rows(array)
+        if name in calculation._integer_outputs:
+            # A count past 2**53 is not exact as a double, and past 2**63 orjson refuses it (a 500).
+            too_big = np.abs(np.where(np.isfinite(array), array, 0.0)) > MAX_WHOLE_OUTPUT
+            finite &= ~(too_big if too_big.ndim == 1 else too_big.any(axis=1))
         failure[(~finite) & (failure == "")] = NOT_FINITE
         values[name] = array
     failed = failure != ""

@@ -39,6 +39,12 @@ class CaseSchema(Schema):
 class _CaseField(fields.Field):
     """A field that knows whether its schema loads one case or columns."""
 
+    def __init__(self, *args, **kwargs):
+        # marshmallow lets null through wherever load_default is None (optional cp, gamma); the
+        # documented type is a number, and an omitted field already means "use the default".
+        kwargs.setdefault("allow_none", False)
+        super().__init__(*args, **kwargs)
+
     def _loads_columns(self) -> bool:
         return bool(getattr(self.parent, "columns", False))
 
@@ -90,6 +96,11 @@ class Quantity(_CaseField):
         # for a field whose default is None).
         kwargs.setdefault("allow_none", False)
         super().__init__(metadata=metadata, **kwargs)
+        if integer and maximum is None:
+            # Past 2**53 a double no longer holds every whole number (2**53 + 1 would read as 2**53),
+            # and a column of larger counts wraps round when cast to int64 (1e300 blades became a
+            # negative count).
+            maximum = 2**53 - 1
         self.unit = unit
         self.minimum = minimum
         self.maximum = maximum

@@ -16,6 +16,8 @@ PHYSICALLY_IMPOSSIBLE = "urn:meanline:problem:physically-impossible"
 TOO_LARGE = "urn:meanline:problem:too-large"
 MALFORMED = "urn:meanline:problem:malformed-json"
 UNAUTHORIZED = "urn:meanline:problem:unauthorized"
+FORBIDDEN = "urn:meanline:problem:forbidden"
+STOPPED = "urn:meanline:problem:request-stopped"
 INTERNAL = "urn:meanline:problem:internal-error"
 
 #: How many field errors one response lists at most; the rest are counted.
@@ -66,11 +68,17 @@ def _pointer_sort_key(pointer: str):
     return [(0, int(part), "") if part.isdigit() else (1, 0, part) for part in pointer.split("/")]
 
 
+def _utf8(text: str) -> str:
+    # JSON may spell a lone surrogate (\ud800) in a key, which then comes back in a pointer or a
+    # detail; UTF-8 cannot encode it (orjson raised, a 500), so it is shown as U+FFFD.
+    return text.encode("utf-16", "surrogatepass").decode("utf-16", "replace")
+
+
 def problem_response(problem: Problem, extra_headers=None) -> Response:
-    body = {"type": problem.type, "title": problem.title, "status": problem.status, "detail": problem.detail}
+    body = {"type": problem.type, "title": problem.title, "status": problem.status, "detail": _utf8(problem.detail)}
     if problem.errors:
         listed = problem.errors[:MAX_LISTED_ERRORS]
-        body["errors"] = [{"pointer": pointer, "detail": detail} for pointer, detail in listed]
+        body["errors"] = [{"pointer": _utf8(pointer), "detail": _utf8(detail)} for pointer, detail in listed]
         if len(problem.errors) > len(listed):
             body["errors_not_listed"] = len(problem.errors) - len(listed)
     if has_request_context():

@@ -5,6 +5,7 @@ from __future__ import annotations
 from apispec import APISpec
 from apispec.ext.marshmallow import MarshmallowPlugin
 
+from service.api.access import API_KEY_HEADER, REALM
 from service.api.calculation import Calculation, Mode
 from service.api.fields import Option, Quantity, QuantityList, QuantityPerStage
 from service.core.checks import COMPARISONS, STATUSES
@@ -179,22 +180,35 @@ def _add_calculation(spec: APISpec, plugin, calculation: Calculation) -> None:
         "tags": [calculation.name],
         "summary": calculation.summary,
         "description": calculation.description + "\n\n" + CAUTION,
+        "security": [{"ApiKey": []}, {"BearerKey": []}],
         "requestBody": {"required": True, "content": {"application/json": {"schema": _ref(f"{prefix}Request")}}},
         "responses": {
             "200": {"description": "Results, in the shape of the request.", "content": content},
             "400": {"description": "The body is not valid JSON.", **problem},
-            "401": {"description": "An API key is required and was not given.", **problem},
+            "401": {"description": "An API key is required and was not given.", **problem, "headers": {
+                "WWW-Authenticate": {"description": "The scheme to authenticate with.",
+                                     "schema": {"type": "string", "const": f'Bearer realm="{REALM}"'}}}},
             "403": {"description": "The API key is not valid.", **problem},
             "413": {"description": "The body or the number of cases is over the limit.", **problem},
             **drawing,
             "415": {"description": "The body is not JSON (Content-Type).", **problem},
             "422": {"description": "Invalid input (every offending field named by JSON Pointer), or one "
                                    "case that is physically impossible.", **problem},
+            "503": {"description": "The server stopped the request: over the time limit (MEANLINE_TIMEOUT), "
+                                   "or shutting down.", **problem},
         },
     }})
 
 
 def _add_common_components(spec: APISpec) -> None:
+    keys_note = ("Required only where the operator has configured API keys (MEANLINE_API_KEYS or "
+                 "MEANLINE_API_KEYS_FILE); without keys the service is open. No key: 401; a wrong key: 403.")
+    spec.components.security_scheme("ApiKey", {
+        "type": "apiKey", "in": "header", "name": API_KEY_HEADER,
+        "description": f"An API key in the {API_KEY_HEADER} header. " + keys_note})
+    spec.components.security_scheme("BearerKey", {
+        "type": "http", "scheme": "bearer",
+        "description": "The same API key as a bearer token: `Authorization: Bearer <key>`. " + keys_note})
     spec.components.schema("Problem", component={
         "type": "object",
         "description": "RFC 9457 problem details.",

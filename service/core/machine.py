@@ -242,8 +242,15 @@ def _per_stage(value, n, name, m):
     return out, wrong, reason
 
 
+def _first_stages(array, n):
+    """The first n stages of a per-stage split output; NaN where the split gave fewer (all its cases failed)."""
+    array = array[:, :n]
+    return np.pad(array, [(0, 0), (0, n - array.shape[1])], constant_values=np.nan)
+
+
 def _layout(machine, held, n, p, sp):
     """The whole flowpath of m cases that all have n stages. Returns (values, failures, rows)."""
+    sp = {name: _first_stages(value, n) if np.ndim(value) == 2 else value for name, value in sp.items()}
     m = p["mass_flow"].shape[0]
     cp, gamma = p["cp"], p["gamma"]
     failures = []
@@ -252,10 +259,10 @@ def _layout(machine, held, n, p, sp):
     for reason, wrong in ((reason_phi, wrong_phi), (reason_r, wrong_r)):
         if reason is not None:
             failures.append((reason, wrong))
-    work = sp["stage_work"][:, :n]
-    t0, p0 = station_total_states(machine, sp["stage_inlet_total_temperature"][:, :n],
-                                  sp["stage_outlet_total_temperature"][:, :n],
-                                  sp["stage_inlet_total_pressure"][:, :n], sp["stage_outlet_total_pressure"][:, :n],
+    work = sp["stage_work"]
+    t0, p0 = station_total_states(machine, sp["stage_inlet_total_temperature"],
+                                  sp["stage_outlet_total_temperature"],
+                                  sp["stage_inlet_total_pressure"], sp["stage_outlet_total_pressure"],
                                   gamma, p["rotor_loss_fraction"])
 
     # Blade speed and triangles of every stage.
@@ -334,9 +341,9 @@ def _layout(machine, held, n, p, sp):
     line = flowpath.outline(layout["leading_edge"], layout["trailing_edge"], ring["hub_radius"], ring["tip_radius"])
     rows.update(row_leading_edge=layout["leading_edge"], row_trailing_edge=layout["trailing_edge"])
     stages = {
-        "stage_pressure_ratio": sp["stage_pressure_ratio"][:, :n],
-        "stage_total_temperature_change": sp["stage_total_temperature_change"][:, :n],
-        "stage_work": work, "stage_isentropic_efficiency": sp["stage_isentropic_efficiency"][:, :n],
+        "stage_pressure_ratio": sp["stage_pressure_ratio"],
+        "stage_total_temperature_change": sp["stage_total_temperature_change"],
+        "stage_work": work, "stage_isentropic_efficiency": sp["stage_isentropic_efficiency"],
         "stage_loading_coefficient": psi, "stage_flow_coefficient": tri["flow_coefficient"],
         "stage_reaction": tri["reaction"], "stage_blade_speed": u, "stage_mean_radius": stage_radius,
     }

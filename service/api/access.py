@@ -1,0 +1,161 @@
+"""Access control by API key, and the security headers of every response.
+
+Without configured keys the service is open, as on a developer's machine. When the operator
+configures one or more keys (``MEANLINE_API_KEYS``, comma-separated; ``MEANLINE_API_KEYS_FILE``,
+one per line; or ``API_KEYS`` and ``API_KEYS_FILE`` in ``create_app(config)``; the keys of all
+sources count), every endpoint except the open ones below requires a key, sent as
+``X-API-Key: <key>`` or ``Authorization: Bearer <key>``:
+
+- no key: 401 with ``WWW-Authenticate: Bearer realm="meanline-service"``;
+- a key that matches none: 403.
+
+A presented key is hashed (SHA-256) and compared with the hash of every configured key by
+``hmac.compare_digest``, without stopping at the first match, so neither the time taken nor
+its variation tells how much of a key was right, or which key matched. Only the hashes are kept
+after start; keys are never logged nor echoed in a response.
+"""
+
+from __future__ import annotations
+
+import hashlib
+import hmac
+import logging
+from collections.abc import Iterable
+from pathlib import Path
+
+from flask import Flask, Response, current_app, request
+
+from service.api.problems import FORBIDDEN, UNAUTHORIZED, Problem, problem_response
+
+API_KEY_HEADER = "X-API-Key"
+REALM = "meanline-service"
+#: Routes that stay open when keys are configured: probes, metrics and the API document.
+OPEN_ROUTES = frozenset({"/healthz", "/readyz", "/metrics", "/v1/openapi.json"})
+#: Headers of every response. The service answers JSON to programs: a browser that is made to
+#: load a response anyway must not sniff it into HTML, run or frame anything from it, or leak
+#: the calling page's address.
+SECURITY_HEADERS = {
+    "X-Content-Type-Options": "nosniff",
+    "Content-Security-Policy": "default-src 'none'; frame-ancestors 'none'",
+    "X-Frame-Options": "DENY",
+    "Referrer-Policy": "no-referrer",
+}
+_EXTENSION = "meanline_access"
+
+log = logging.getLogger(__name__)
+
+
+def _digest(key: str) -> bytes:
+    return hashlib.sha256(key.encode("utf-8")).digest()
+
+
+def _checked(keys: Iterable[str], source: str) -> list[str]:
+    checked = []
+    for number, key in enumerate(keys, start=1):
+        key = key.strip()
+        if not key or key.startswith("#"):
+            continue
+        # A key travels in an HTTP header: visible ASCII only. The message names the position,
+        # never the key.
+        if not all("!" <= character <= "~" for character in key):
+            raise ValueError(f"API key {number} of {source} holds characters other than visible ASCII "
+                             "(no spaces, no control characters)")
+        checked.append(key)
+    return checked
+
+
+def load_api_keys(config) -> list[str]:
+    """The configured API keys: ``API_KEYS`` (a comma-separated string or a list) and the lines
+    of the file ``API_KEYS_FILE`` (blank lines and lines starting with ``#`` ignored).
+
+    Raises
+    ------
+    ValueError
+        A source that is set but unreadable or holds no key: the service refuses to start rather
+        than run open by mistake.
+    """
+    keys = []
+    listed = config.get("API_KEYS")
+    if isinstance(listed, str):
+        listed = listed.split(",") if listed.strip() else None
+    if listed is not None:
+        found = _checked(listed, "MEANLINE_API_KEYS (API_KEYS)")
+        if not found:
+            raise ValueError("MEANLINE_API_KEYS (API_KEYS) is set but holds no key")
+        keys += found
+    path = config.get("API_KEYS_FILE")
+    if path is not None and str(path).strip():
+        try:
+            lines = Path(path).read_text(encoding="utf-8").splitlines()
+        except (OSError, UnicodeDecodeError) as error:
+            raise ValueError(f"MEANLINE_API_KEYS_FILE (API_KEYS_FILE) {str(path)!r} cannot be read: "
+                             f"{type(error).__name__}") from None
+        found = _checked(lines, f"MEANLINE_API_KEYS_FILE (API_KEYS_FILE) {str(path)!r}")
+        if not found:
+            raise ValueError(f"MEANLINE_API_KEYS_FILE (API_KEYS_FILE) {str(path)!r} holds no key")
+        keys += found
+    return keys
+
+
+def presented_keys(headers) -> list[str]:
+    """The keys a request presents: ``X-API-Key`` and an ``Authorization: Bearer`` token."""
+    presented = []
+    value = headers.get(API_KEY_HEADER, "").strip()
+    if value:
+        presented.append(value)
+    scheme, _, token = headers.get("Authorization", "").strip().partition(" ")
+    if scheme.lower() == "bearer" and token.strip():
+        presented.append(token.strip())
+    return presented
+
+
+def key_matches(presented: str, digests: Iterable[bytes]) -> bool:
+    """Whether ``presented`` is one of the keys, in time independent of which and how much matched."""
+    candidate = _digest(presented)
+    matched = False
+    for digest in digests:
+        matched |= hmac.compare_digest(candidate, digest)
+    return matched
+
+
+def _require_key() -> Response | None:
+    digests = current_app.extensions[_EXTENSION]
+    # No keys: open. No matched route: 404 and 405 reveal nothing the open API document does not.
+    if not digests or request.url_rule is None or request.url_rule.rule in OPEN_ROUTES:
+        return None
+    if request.method == "OPTIONS":  # what a route allows is public too; preflights carry no key
+        return None
+    presented = presented_keys(request.headers)
+    if not presented:
+        return problem_response(
+            Problem(401, "Unauthorized", f"This service requires an API key: send it in the {API_KEY_HEADER} "
+                    "header or as Authorization: Bearer <key>.", UNAUTHORIZED),
+            {"WWW-Authenticate": f'Bearer realm="{REALM}"'},
+        )
+    matched = False
+    for key in presented:
+        matched |= key_matches(key, digests)
+    if not matched:
+        return problem_response(Problem(403, "Forbidden", "The API key is not valid.", FORBIDDEN))
+    return None
+
+
+def _security_headers(response: Response) -> Response:
+    for name, value in SECURITY_HEADERS.items():
+        response.headers.setdefault(name, value)
+    if response.status_code >= 400:
+        response.headers["Cache-Control"] = "no-store"
+    return response
+
+
+def init_app(app: Flask) -> None:
+    """Read the keys from ``app.config``, require them where they apply, add the security headers."""
+    keys = load_api_keys(app.config)
+    app.extensions[_EXTENSION] = tuple(_digest(key) for key in dict.fromkeys(keys))
+    if keys:
+        log.info("API key required on every endpoint but %s (%d keys configured)",
+                 ", ".join(sorted(OPEN_ROUTES)), len(set(keys)))
+    else:
+        log.warning("no API keys configured: the calculation endpoints are open to every caller")
+    app.before_request(_require_key)
+    app.after_request(_security_headers)
