@@ -11,6 +11,7 @@ import orjson
 from flask import Blueprint, Flask, Response, current_app, request
 
 from service import __version__
+from service.api import jsonparse
 from service.api.calculation import Calculation, run_calculation
 from service.api.problems import MALFORMED, TOO_LARGE, Problem, register_error_handlers
 from service.api.registry import CALCULATIONS
@@ -108,6 +109,10 @@ def _reject_duplicate_keys(pairs):
     return dict(pairs)
 
 
+def _parse_strictly(body: bytes):
+    return json.loads(body.decode("utf-8"), object_pairs_hook=_reject_duplicate_keys)
+
+
 def read_json():
     """The request body as JSON, with the statuses of the design brief for every way it can fail."""
     mimetype = request.mimetype or ""
@@ -120,7 +125,7 @@ def read_json():
         raise Problem(413, "Content Too Large", f"The body reaches the limit of {limit} bytes. Split the batch.",
                       TOO_LARGE)
     try:
-        return json.loads(body.decode("utf-8"), object_pairs_hook=_reject_duplicate_keys)
+        return jsonparse.loads(body, strict=_parse_strictly)
     except UnicodeDecodeError:
         raise Problem(400, "Malformed JSON", "The body is not UTF-8 text.", MALFORMED) from None
     except json.JSONDecodeError as error:
