@@ -14,9 +14,9 @@ from dataclasses import dataclass, field
 from typing import Any
 
 import numpy as np
-from marshmallow import Schema, ValidationError
+from marshmallow import Schema, ValidationError, missing
 
-from service.api.fields import CaseSchema, Option, QuantityList
+from service.api.fields import CaseSchema, Option, Quantity, QuantityList
 from service.api.problems import MAX_LISTED_ERRORS, PHYSICALLY_IMPOSSIBLE, Problem, invalid_input
 from service.core.cases import CaseResults
 
@@ -109,27 +109,41 @@ class Calculation:
             unknown = (set(mode.required) | set(mode.optional) | set(mode.when)) - declared
             if unknown:
                 raise ValueError(f"mode {mode.name!r} of {self.name!r} names undeclared fields {sorted(unknown)}")
-        # Built once: schema instances and field lookups serve every request.
-        object.__setattr__(self, "_case_schema", self.schema())
-        object.__setattr__(self, "_columns_schema", self.schema(columns=True))
-        object.__setattr__(self, "_integer_outputs", {
-            name for name, f in self.outputs().fields.items() if type(f).__name__ == "Integer"
-        })
+        # Built once: schema instances, field lookups and mode sets serve every request.
+        case_schema, columns_schema = self.schema(), self.schema(columns=True)
+        mode_fields = frozenset(f for mode in self.modes for f in (*mode.required, *mode.optional))
+        built = {
+            "_case_schema": case_schema,
+            "_columns_schema": columns_schema,
+            "_integer_outputs": frozenset(
+                name for name, f in self.outputs().fields.items() if type(f).__name__ == "Integer"),
+            "_mode_fields": mode_fields,
+            "_option_fields": tuple(name for name, f in case_schema.fields.items() if isinstance(f, Option)),
+            "_allowed": {mode.name: frozenset((set(case_schema.fields) - mode_fields) | set(mode.required)
+                                              | set(mode.optional)) for mode in self.modes},
+            "_plans": {id(case_schema): _load_plan(case_schema), id(columns_schema): _load_plan(columns_schema)},
+        }
+        for name, value in built.items():
+            object.__setattr__(self, name, value)
 
     @property
     def path(self) -> str:
         return f"/v1/{self.name}"
 
     @property
-    def mode_fields(self) -> set[str]:
-        return {f for mode in self.modes for f in (*mode.required, *mode.optional)}
+    def mode_fields(self) -> frozenset[str]:
+        return self._mode_fields
 
     @property
     def option_fields(self) -> tuple[str, ...]:
-        return tuple(name for name, f in self._case_schema.fields.items() if isinstance(f, Option))
+        return self._option_fields
 
-    def allowed_fields(self, mode: Mode) -> set[str]:
-        return (set(self._case_schema.fields) - self.mode_fields) | set(mode.required) | set(mode.optional)
+    def allowed_fields(self, mode: Mode) -> frozenset[str]:
+        allowed = self._allowed.get(mode.name)
+        if allowed is None:  # a mode that is not one of this calculation's
+            allowed = frozenset((set(self._case_schema.fields) - self._mode_fields) | set(mode.required)
+                                | set(mode.optional))
+        return allowed
 
 
 @dataclass
@@ -208,9 +222,55 @@ def run_calculation(calculation: Calculation, payload: Any, max_cases: int):
 # -- request shapes -> groups -------------------------------------------------------------------
 
 
-def _load(schema: CaseSchema, raw: dict, pointer):
+def _load_plan(schema: CaseSchema):
+    """What :func:`_load_valid` needs to load ``schema`` without marshmallow's per-field machinery:
+    the service's own fields with their defaults, or None if the schema uses more of marshmallow
+    (hooks, validators, renamed keys) than that shortcut reproduces."""
+    if any(schema._hooks.values()):
+        return None
+    plan = []
+    for name, f in schema.load_fields.items():
+        if (not isinstance(f, Quantity | Option | QuantityList) or f.data_key is not None or f.attribute is not None or f.validators
+                or getattr(f, "pre_load", None) or getattr(f, "post_load", None)):
+            return None
+        plan.append((name, f, f.required, f.load_default, f.allow_none))
+    return tuple(plan), frozenset(schema.load_fields)
+
+
+def _load_valid(plan, raw: dict):
+    """``schema.load(raw)`` for valid input, or None where marshmallow would report an error: the
+    same fields' own conversions and checks, the same defaults, without marshmallow's per-field
+    bookkeeping (which costs more than a whole single case's arithmetic)."""
+    fields, names = plan
+    if not names.issuperset(raw):
+        return None
+    loaded = {}
+    try:
+        for name, f, required, default, allow_none in fields:
+            value = raw.get(name, missing)
+            if value is missing:
+                if required:
+                    return None
+                if default is not missing:
+                    loaded[name] = default() if callable(default) else default
+            elif value is None:
+                if not allow_none:
+                    return None
+                loaded[name] = None
+            else:
+                loaded[name] = f._deserialize(value, name, raw)
+    except ValidationError:
+        return None
+    return loaded
+
+
+def _load(schema: CaseSchema, raw: dict, pointer, plan=None):
     """Loaded fields and errors; where loading fails, the valid option values still come back so
     that the input mode can be judged too and every offending field is named at once."""
+    if plan is not None:
+        loaded = _load_valid(plan, raw)
+        if loaded is not None:
+            return loaded, []
     try:
         return schema.load(raw), []
     except ValidationError as error:
@@ -236,7 +296,8 @@ def _flatten(messages, pointer, path=()):
 
 
 def _single_group(calculation: Calculation, payload: dict):
-    data, errors = _load(calculation._case_schema, payload, lambda f, rest: _join("", f, *rest))
+    schema = calculation._case_schema
+    data, errors = _load(schema, payload, lambda f, rest: _join("", f, *rest), calculation._plans[id(schema)])
     return [_Group(data, frozenset(payload), np.zeros(1, dtype=int),
                    lambda f, rest: _join("", f, *rest), lambda f, positions: [_join("", f)])], 1, errors
 
@@ -260,7 +321,8 @@ def _columns_groups(calculation: Calculation, payload: dict, max_cases: int):
     def pointer(f, rest):
         return _join("/columns", f, *rest)
 
-    data, errors = _load(calculation._columns_schema, columns, pointer)
+    schema = calculation._columns_schema
+    data, errors = _load(schema, columns, pointer, calculation._plans[id(schema)])
     if extra:
         return [], size, extra + errors
     return [_Group(data, frozenset(columns), np.arange(size), pointer,
@@ -309,7 +371,8 @@ def _rows_groups(calculation: Calculation, payload: dict, max_cases: int):
         def case_pointers(f, positions, rows=rows):
             return [_join(f"/cases/{rows[p]}", f) for p in positions[: MAX_LISTED_ERRORS + 1]]
 
-        data, group_errors = _load(calculation._columns_schema, raw, pointer)
+        schema = calculation._columns_schema
+        data, group_errors = _load(schema, raw, pointer, calculation._plans[id(schema)])
         errors.extend(group_errors)
         groups.append(_Group(data, frozenset(names), index, pointer, case_pointers))
     return groups, len(cases), errors
