@@ -150,14 +150,13 @@ def measure(workload: Workload, args, service, echo, app) -> list[Figure]:
     times = {"http": [], "base": [], "rows": []}
     peaks = []
     for _ in range(args.repeat):
-        workers = service.workers()
-        reset = harness.reset_peak_memory(workers)
-        start = time.perf_counter()
-        status, size = harness.exchange(service.port, batch_request)
-        http_time = time.perf_counter() - start
-        if status != 200 or not reset:
-            raise RuntimeError(f"{workload.path}: HTTP {status} (peak reset {'ok' if reset else 'failed'})")
-        peaks.append(harness.peak_memory(workers))
+        with harness.PeakMemory(service.workers()) as memory_use:
+            start = time.perf_counter()
+            status, size = harness.exchange(service.port, batch_request)
+            http_time = time.perf_counter() - start
+        if status != 200:
+            raise RuntimeError(f"{workload.path}: HTTP {status}")
+        peaks.append(memory_use.peak)
         base_time = timed(workload.baseline, body)
         start = time.perf_counter()
         status, _ = harness.exchange(service.port, rows_request)

@@ -9,6 +9,7 @@ import socket
 import subprocess
 import sys
 import tempfile
+import threading
 import time
 from pathlib import Path
 
@@ -176,21 +177,49 @@ def throughput(port: int, request: bytes, clients: int, seconds: float) -> tuple
 # -- memory --------------------------------------------------------------------------------------
 
 
-def reset_peak_memory(pids: list[int]) -> bool:
-    """Reset each process's peak resident set (VmHWM) to its current size (Linux >= 4.0)."""
+def _status_kb(pid: int, key: str) -> int | None:
     try:
-        for pid in pids:
-            Path(f"/proc/{pid}/clear_refs").write_text("5")
-        return True
-    except OSError:
-        return False
-
-
-def peak_memory(pids: list[int]) -> int:
-    """The largest peak resident set (VmHWM) among the processes, in bytes."""
-    peaks = []
-    for pid in pids:
         for line in Path(f"/proc/{pid}/status").read_text().splitlines():
-            if line.startswith("VmHWM:"):
-                peaks.append(int(line.split()[1]) * 1024)
-    return max(peaks)
+            if line.startswith(key):
+                return int(line.split()[1])
+    except OSError:  # the worker has exited (gunicorn's max_requests recycling)
+        return None
+    return None
+
+
+class PeakMemory:
+    """The largest resident set of the workers while a request runs, in bytes.
+
+    The kernel's own peak (VmHWM, reset before the request through /proc/<pid>/clear_refs)
+    catches every page, but a worker that gunicorn recycles right after the request takes it
+    along; so a thread also samples VmRSS every millisecond, and the larger of the two counts.
+    """
+
+    def __init__(self, pids: list[int]):
+        self.pids = pids
+        self.sampled = 0
+        self._stop = threading.Event()
+        self._thread = threading.Thread(target=self._sample, daemon=True)
+
+    def _sample(self) -> None:
+        while not self._stop.wait(0.001):
+            for pid in self.pids:
+                self.sampled = max(self.sampled, (_status_kb(pid, "VmRSS:") or 0) * 1024)
+
+    def __enter__(self) -> PeakMemory:
+        for pid in self.pids:
+            try:
+                Path(f"/proc/{pid}/clear_refs").write_text("5")
+            except OSError:
+                pass
+        self._thread.start()
+        return self
+
+    def __exit__(self, *exc) -> None:
+        self._stop.set()
+        self._thread.join()
+
+    @property
+    def peak(self) -> int:
+        marks = [_status_kb(pid, "VmHWM:") for pid in self.pids]
+        return max([self.sampled, *((m or 0) * 1024 for m in marks)])
