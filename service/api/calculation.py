@@ -9,6 +9,7 @@ layout, identically for every endpoint.
 
 from __future__ import annotations
 
+import math
 from collections.abc import Callable, Mapping
 from dataclasses import dataclass, field
 from typing import Any
@@ -19,6 +20,7 @@ from marshmallow import Schema, ValidationError, missing
 from service.api.fields import CaseSchema, Option, Quantity, QuantityList
 from service.api.problems import MAX_LISTED_ERRORS, PHYSICALLY_IMPOSSIBLE, Problem, invalid_input
 from service.core.cases import CaseResults
+from service.core.checks import STATUSES
 
 NOT_FINITE = "the result is not a finite number (overflow): check the magnitudes of the inputs"
 
@@ -162,7 +164,14 @@ class _Outcome:
     index: np.ndarray
     values: dict[str, np.ndarray]
     checks: dict[str, Any]
-    failure: np.ndarray  # reason per case, "" where the case succeeded
+    reason: np.ndarray  # per case: 0 where it succeeded, else 1 + its position in ``reasons``
+    reasons: list[str]
+
+    def errors(self) -> list[dict]:
+        """``{"index", "detail"}`` of every failed case, found with numpy rather than a loop."""
+        failed = np.flatnonzero(self.reason)
+        return [{"index": i, "detail": self.reasons[k - 1]}
+                for i, k in zip(self.index[failed].tolist(), self.reason[failed].tolist(), strict=True)]
 
 
 def run_calculation(calculation: Calculation, payload: Any, max_cases: int):
@@ -198,20 +207,17 @@ def run_calculation(calculation: Calculation, payload: Any, max_cases: int):
             mode, mode_errors = _resolve_mode(calculation, group, options, sub_index)
             errors.extend(mode_errors)
             if mode is not None and not errors:
-                outcomes.append(_compute(calculation, mode, options, data, group.index[sub_index]))
+                index = group.index[sub_index]
+                result = _evaluate(calculation, mode, options, data, len(index))
+                outcomes.append(result if shape == "single" else _outcome(result, index))
     if errors:
         raise invalid_input(errors)
 
     if shape == "single":
-        outcome = outcomes[0]
-        if outcome.failure[0]:
-            raise Problem(422, "Physically impossible case", outcome.failure[0], PHYSICALLY_IMPOSSIBLE)
-        return _single_body(calculation, outcome), size
-    case_errors = sorted(
-        ({"index": int(i), "detail": str(reason)}
-         for o in outcomes for i, reason in zip(o.index, o.failure, strict=True) if reason),
-        key=lambda e: e["index"],
-    )
+        return _single_body(calculation, outcomes[0]), size
+    case_errors = [error for outcome in outcomes for error in outcome.errors()]
+    if len(outcomes) > 1:
+        case_errors.sort(key=lambda e: e["index"])
     if shape == "rows":
         body = {"results": _rows_body(calculation, outcomes, size), "errors": case_errors}
     else:
@@ -447,42 +453,72 @@ def _resolve_mode(calculation: Calculation, group: _Group, options: dict, positi
     return None, errors
 
 
-def _compute(calculation: Calculation, mode: Mode, options: dict, data: dict, index: np.ndarray) -> _Outcome:
-    size = len(index)
+def _evaluate(calculation: Calculation, mode: Mode, options: dict, data: dict, size: int) -> CaseResults:
+    """The core's results for ``size`` cases, scalars broadcast (as views: no copy per case)."""
     inputs = {}
     for name, value in data.items():
         if name in options or value is None or isinstance(value, str):
             inputs[name] = value
         elif isinstance(value, np.ndarray) and value.ndim == 2:
             inputs[name] = value if len(value) == size else np.broadcast_to(value, (size, value.shape[-1]))
+        elif np.ndim(value) == 0:
+            inputs[name] = np.full(1, value) if size == 1 else np.broadcast_to(np.asarray(value), (size,))
         else:
-            inputs[name] = np.broadcast_to(np.asarray(value), (size,)) if np.ndim(value) == 0 else value
+            inputs[name] = value
     with np.errstate(all="ignore"):
-        result = calculation.compute(mode, options, inputs)
-    failure = np.full(size, "", dtype=object)
-    for reason, mask in reversed(result.failures):
-        failure[np.broadcast_to(mask, (size,))] = reason
+        return calculation.compute(mode, options, inputs)
+
+
+def _outcome(result: CaseResults, index: np.ndarray) -> _Outcome:
+    """Failures as reason codes, failed cases masked to NaN, statuses as shared objects: all of it
+    whole-array operations, none a loop over the cases."""
+    size = len(index)
+    # The first reason that applies to a case is the one reported, so the masks go in backwards.
+    reasons = [reason for reason, _ in result.failures] + [NOT_FINITE]
+    reason = np.zeros(size, dtype=np.intp)
+    for code in range(len(result.failures), 0, -1):
+        reason[np.broadcast_to(result.failures[code - 1][1], (size,))] = code
     values = {}
     for name, array in result.values.items():
         array = np.asarray(array, dtype=float)
         finite = np.isfinite(array) if array.ndim == 1 else _finite_rows(array)
-        failure[(~finite) & (failure == "")] = NOT_FINITE
+        if not finite.all():
+            reason[(~finite) & (reason == 0)] = len(reasons)
         values[name] = array
-    failed = failure != ""
-    values = {name: np.where(failed.reshape((-1,) + (1,) * (a.ndim - 1)), np.nan, a) for name, a in values.items()}
+    failed = reason != 0
+    any_failed = bool(failed.any())
+    if any_failed:
+        values = {name: np.where(failed.reshape((-1,) + (1,) * (a.ndim - 1)), np.nan, a)
+                  for name, a in values.items()}
     checks = {}
     for name, check in result.checks.items():
-        status = np.asarray(check.status, dtype=object)
         value = np.asarray(check.value, dtype=float)
+        status = np.asarray(check.status)
         checks[name] = {
-            "value": np.where(failed, np.nan, value) if value.ndim == 1 else value,
-            "status": np.where(failed, None, status) if status.ndim == 1 else status,
+            "value": np.where(failed, np.nan, value) if value.ndim == 1 and any_failed else value,
+            "status": _status_objects(status, failed) if status.ndim == 1 else status.astype(object),
             "limit": check.limit,
             "fail_limit": check.fail_limit,
             "comparison": check.comparison,
             "basis": check.basis,
         }
-    return _Outcome(index=index, values=values, checks=checks, failure=failure)
+    return _Outcome(index=index, values=values, checks=checks, reason=reason, reasons=reasons)
+
+
+#: Every status as one shared Python object, and None for a case that failed.
+_STATUS_OBJECTS = np.array([*STATUSES, None], dtype=object)
+
+
+def _status_objects(status: np.ndarray, failed: np.ndarray) -> np.ndarray:
+    """The statuses as an object array of the shared status strings, None where a case failed:
+    a lookup into :data:`_STATUS_OBJECTS` rather than one new string per case."""
+    code = np.full(len(status), -1, dtype=np.intp)
+    for k, name in enumerate(STATUSES):
+        code[status == name] = k
+    code[failed] = len(STATUSES)
+    if (code < 0).any():  # a status outside STATUSES: keep it as it is
+        return np.where(failed, None, status.astype(object))
+    return _STATUS_OBJECTS[code]
 
 
 def _finite_rows(array: np.ndarray) -> np.ndarray:
@@ -507,6 +543,11 @@ def _scalar(calculation: Calculation, name: str, value):
 
 
 def _check_entry(check: dict, i: int) -> dict:
+    if check["value"].ndim == 1:
+        value = check["value"].item(i)
+        return {"value": value if math.isfinite(value) else None, "limit": check["limit"],
+                "fail_limit": check["fail_limit"], "comparison": check["comparison"], "status": check["status"][i],
+                "basis": check["basis"]}
     value = check["value"][i]
     return {
         "value": (value[np.isfinite(value)].tolist() if isinstance(value, np.ndarray)
@@ -521,13 +562,60 @@ def _check_entry(check: dict, i: int) -> dict:
 
 
 def _case_body(calculation: Calculation, outcome: _Outcome, i: int) -> dict:
-    body = {name: _scalar(calculation, name, array[i]) for name, array in outcome.values.items()}
+    body = {}
+    for name, array in outcome.values.items():
+        if array.ndim == 1:  # a Python float straight away, rather than through a numpy scalar
+            value = array.item(i)
+            body[name] = ((int(value) if name in calculation._integer_outputs else value)
+                          if math.isfinite(value) else None)
+        else:
+            body[name] = _scalar(calculation, name, array[i])
     body["checks"] = {name: _check_entry(check, i) for name, check in outcome.checks.items()}
     return body
 
 
-def _single_body(calculation: Calculation, outcome: _Outcome) -> dict:
+def _single_body(calculation: Calculation, result: CaseResults) -> dict:
+    """The response to one case, from Python floats taken once out of the core's arrays.
+
+    Raises
+    ------
+    Problem
+        422 if the case is physically impossible, with the first reason that applies.
+    """
+    values = {}
+    for name, array in result.values.items():
+        array = np.asarray(array, dtype=float)
+        if array.ndim != 1:  # per-stage lists: the general layout
+            return _single_body_of(calculation, _outcome(result, np.zeros(1, dtype=int)))
+        values[name] = array.item(0)
+    for reason, mask in result.failures:
+        if np.asarray(mask).item(0):
+            raise _impossible(reason)
+    if not all(map(math.isfinite, values.values())):
+        raise _impossible(NOT_FINITE)
+    checks = {}
+    for name, check in result.checks.items():
+        value = np.asarray(check.value, dtype=float)
+        if value.ndim != 1:
+            return _single_body_of(calculation, _outcome(result, np.zeros(1, dtype=int)))
+        value = value.item(0)
+        checks[name] = {"value": value if math.isfinite(value) else None, "limit": check.limit,
+                        "fail_limit": check.fail_limit, "comparison": check.comparison,
+                        "status": np.asarray(check.status).item(0), "basis": check.basis}
+    integer = calculation._integer_outputs
+    body = {name: int(value) if name in integer else value for name, value in values.items()}
+    body["checks"] = checks
+    return body
+
+
+def _single_body_of(calculation: Calculation, outcome: _Outcome) -> dict:
+    if outcome.reason[0]:
+        raise _impossible(outcome.reasons[outcome.reason[0] - 1])
     return _case_body(calculation, outcome, 0)
+
+
+def _impossible(reason: str) -> Problem:
+    return Problem(422, "Physically impossible case", reason, PHYSICALLY_IMPOSSIBLE)
 
 
 def _rows_body(calculation: Calculation, outcomes: list[_Outcome], size: int) -> list:
