@@ -1,4 +1,4 @@
-"""Command line: ``python -m service serve`` and ``python -m service spec``."""
+"""Command line: ``python -m service serve``, ``python -m service spec`` and ``python -m service demo``."""
 
 from __future__ import annotations
 
@@ -56,6 +56,12 @@ def _serve(args) -> int:
     return 0
 
 
+def _demo(args) -> int:
+    from service.demo import run
+
+    return run(args)
+
+
 def main(argv=None) -> int:
     parser = argparse.ArgumentParser(prog="python -m service", description="Meanline preliminary-design service.")
     commands = parser.add_subparsers(dest="command", required=True)
@@ -67,6 +73,11 @@ def main(argv=None) -> int:
     spec = commands.add_parser("spec", help="write the OpenAPI document (default openapi/openapi.json)")
     spec.add_argument("--output", default=str(SPEC_PATH), help="file to write, or - for standard output")
     spec.set_defaults(run=_spec)
+    demo = commands.add_parser("demo", help="preliminary design of a fictional gas turbine through the service")
+    demo.set_defaults(run=_demo)
+    from service.demo import add_arguments
+
+    add_arguments(demo)
     args = parser.parse_args(argv)
     return args.run(args)
 

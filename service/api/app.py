@@ -11,11 +11,13 @@ import orjson
 from flask import Blueprint, Flask, Response, current_app, request
 
 from service import __version__
-from service.api import jsonparse
-from service.api.calculation import Calculation, run_calculation
+from service.api import jsonparse, observability
+from service.api.calculation import Calculation, run_calculation, run_drawing
 from service.api.problems import MALFORMED, TOO_LARGE, Problem, register_error_handlers
 from service.api.registry import CALCULATIONS
 from service.api.spec import build_spec
+
+JSON, SVG = "application/json", "image/svg+xml"
 
 DEFAULTS = {
     "MAX_BODY_BYTES": 16 * 1024 * 1024,
@@ -49,8 +51,9 @@ def create_app(config: Mapping | None = None) -> Flask:
     ----------
     config : mapping, optional
         Settings that override the defaults and the ``MEANLINE_*`` environment variables:
-        ``MAX_BODY_BYTES`` (request body limit, 413 above it) and ``MAX_CASES`` (cases per
-        request, 413 above it).
+        ``MAX_BODY_BYTES`` (request body limit, 413 above it), ``MAX_CASES`` (cases per
+        request, 413 above it) and ``LOG_LEVEL`` (else ``MEANLINE_LOG_LEVEL``; see
+        :mod:`service.api.observability`).
     """
     app = Flask(__name__)
     app.config.update(load_config(config))
@@ -58,6 +61,7 @@ def create_app(config: Mapping | None = None) -> Flask:
     # which read_json() treats as too large.
     app.config["MAX_CONTENT_LENGTH"] = app.config["MAX_BODY_BYTES"]
     register_error_handlers(app)
+    observability.init_app(app)
 
     spec_bytes = orjson.dumps(build_spec(list(CALCULATIONS), __version__))
     blueprint = Blueprint("calculations", __name__)
@@ -90,11 +94,21 @@ def create_app(config: Mapping | None = None) -> Flask:
 
 def _calculation_view(calculation: Calculation):
     def view():
-        body, _ = run_calculation(calculation, read_json(), current_app.config["MAX_CASES"])
+        if calculation.render_svg is not None and _prefers_svg():
+            svg = run_drawing(calculation, read_json(), current_app.config["MAX_CASES"])
+            observability.record_cases(1, {})
+            return Response(svg, mimetype=SVG)
+        body, size = run_calculation(calculation, read_json(), current_app.config["MAX_CASES"])
+        observability.record_cases(size, body)
         return _json(body)
 
     view.__name__ = f"calculate_{calculation.name.replace('-', '_')}"
     return view
+
+
+def _prefers_svg() -> bool:
+    """Whether the Accept header ranks an SVG drawing above JSON (absent or */* means JSON)."""
+    return request.accept_mimetypes.best_match([JSON, SVG]) == SVG
 
 
 def _json(body) -> Response:

@@ -104,6 +104,9 @@ class Calculation:
     modes: tuple[Mode, ...]
     compute: Callable[[Mode, dict[str, str], dict[str, Any]], CaseResults]
     together: tuple[tuple[str, ...], ...] = ()
+    columns: bool = True  # whether the columns request shape is offered
+    # ``render_svg(payload, body) -> str``: a drawing of one case, answered for ``Accept: image/svg+xml``.
+    render_svg: Callable[[dict, dict], str] | None = None
 
     def __post_init__(self):
         declared = set(self.schema().fields)
@@ -194,6 +197,9 @@ def run_calculation(calculation: Calculation, payload: Any, max_cases: int):
     if "cases" in payload:
         shape = "rows"
         groups, size, errors = _rows_groups(calculation, payload, max_cases)
+    elif "columns" in payload and not calculation.columns:
+        raise invalid_input([("/columns", "This calculation takes one case or rows ({\"cases\": [...]}), "
+                                          "not columns.")])
     elif "columns" in payload:
         shape = "columns"
         groups, size, errors = _columns_groups(calculation, payload, max_cases)
@@ -223,6 +229,21 @@ def run_calculation(calculation: Calculation, payload: Any, max_cases: int):
     else:
         body = {"columns": _columns_body(calculation, outcomes, size), "errors": case_errors}
     return body, size
+
+
+def run_drawing(calculation: Calculation, payload: Any, max_cases: int) -> str:
+    """The SVG drawing of one case: validated and computed as :func:`run_calculation`, then drawn.
+
+    Raises
+    ------
+    Problem
+        406 for rows or columns (a drawing shows one case), and as :func:`run_calculation`.
+    """
+    if not isinstance(payload, dict) or "cases" in payload or "columns" in payload:
+        raise Problem(406, "Not Acceptable", "An image/svg+xml drawing is made for one case: send one case, or "
+                                             "accept application/json for rows or columns.")
+    body, _ = run_calculation(calculation, payload, max_cases)
+    return calculation.render_svg(payload, body)
 
 
 # -- request shapes -> groups -------------------------------------------------------------------
@@ -480,7 +501,8 @@ def _outcome(result: CaseResults, index: np.ndarray) -> _Outcome:
         reason[np.broadcast_to(result.failures[code - 1][1], (size,))] = code
     values = {}
     for name, array in result.values.items():
-        array = np.asarray(array, dtype=float)
+        # An input passed through as an output can be a broadcast view; the writer needs it whole.
+        array = np.ascontiguousarray(array, dtype=float)
         finite = np.isfinite(array) if array.ndim == 1 else _finite_rows(array)
         if not finite.all():
             reason[(~finite) & (reason == 0)] = len(reasons)
@@ -492,7 +514,7 @@ def _outcome(result: CaseResults, index: np.ndarray) -> _Outcome:
                   for name, a in values.items()}
     checks = {}
     for name, check in result.checks.items():
-        value = np.asarray(check.value, dtype=float)
+        value = np.ascontiguousarray(check.value, dtype=float)
         status = np.asarray(check.status)
         checks[name] = {
             "value": np.where(failed, np.nan, value) if value.ndim == 1 and any_failed else value,
@@ -535,8 +557,9 @@ def _finite_rows(array: np.ndarray) -> np.ndarray:
 
 
 def _scalar(calculation: Calculation, name: str, value):
-    if isinstance(value, np.ndarray):  # one case's per-stage list, NaN-padded
-        return [_scalar(calculation, name, v) for v in value[np.isfinite(value)]]
+    if isinstance(value, np.ndarray):  # one case's per-stage list, NaN-padded; all NaN where it failed
+        finite = value[np.isfinite(value)]
+        return [_scalar(calculation, name, v) for v in finite] if finite.size else None
     if not np.isfinite(value):
         return None
     return int(value) if name in calculation._integer_outputs else float(value)

@@ -199,3 +199,26 @@ class QuantityList(_CaseField):
                 raise ValidationError(errors)
             return np.vstack(rows)
         return self.item._load_column(value)
+
+
+class QuantityPerStage(QuantityList):
+    """One number for every stage, or a list with one number per stage (front to rear).
+
+    Loaded as a number (one case), a ``(1, k)`` array (one case's list), a ``(cases,)`` array (rows
+    of numbers) or a ``(cases, k)`` array (rows of lists of one length), so the core tells a value
+    for every stage (0-D or 1-D) from a list per stage (2-D).
+    """
+
+    def __init__(self, description: str, unit: str, *, minimum: float | None = None, maximum: float | None = None,
+                 exclusive_minimum: bool = False, **kwargs):
+        super().__init__(description, unit, minimum=minimum, exclusive_minimum=exclusive_minimum, **kwargs)
+        self.item = Quantity(description, unit, minimum=minimum, maximum=maximum,
+                             exclusive_minimum=exclusive_minimum)
+
+    def _deserialize(self, value, attr, data, **kwargs):
+        if not isinstance(value, list):
+            return self.item._load_one(value)
+        if self._loads_columns() and value and not isinstance(value[0], list):
+            return self.item._load_column(value)
+        loaded = super()._deserialize(value, attr, data, **kwargs)
+        return loaded if loaded.ndim == 2 else loaded[None, :]

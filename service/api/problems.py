@@ -5,8 +5,10 @@ from __future__ import annotations
 import logging
 
 import orjson
-from flask import Flask, Response
+from flask import Flask, Response, has_request_context
 from werkzeug.exceptions import HTTPException
+
+from service.api.observability import request_id
 
 PROBLEM_TYPE = "application/problem+json"
 INVALID_INPUT = "urn:meanline:problem:invalid-input"
@@ -71,6 +73,8 @@ def problem_response(problem: Problem, extra_headers=None) -> Response:
         body["errors"] = [{"pointer": pointer, "detail": detail} for pointer, detail in listed]
         if len(problem.errors) > len(listed):
             body["errors_not_listed"] = len(problem.errors) - len(listed)
+    if has_request_context():
+        body["request_id"] = request_id()
     response = Response(orjson.dumps(body), status=problem.status, mimetype=PROBLEM_TYPE)
     response.headers["Cache-Control"] = "no-store"
     for name, value in (extra_headers or {}).items():

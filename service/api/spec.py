@@ -6,7 +6,7 @@ from apispec import APISpec
 from apispec.ext.marshmallow import MarshmallowPlugin
 
 from service.api.calculation import Calculation, Mode
-from service.api.fields import CaseSchema, Option, Quantity, QuantityList
+from service.api.fields import CaseSchema, Option, Quantity, QuantityList, QuantityPerStage
 from service.core.checks import COMPARISONS, STATUSES
 
 TITLE = "Meanline service"
@@ -48,6 +48,9 @@ def case_field_property(self, field, ret, **kwargs) -> dict:
         schema = _number_schema(field)
     elif isinstance(field, Option):
         schema = {"type": "string", "enum": list(field.choices)}
+    elif isinstance(field, QuantityPerStage):
+        item = _number_schema(field.item)
+        schema = {"oneOf": [item, {"type": "array", "items": item, "minItems": 1}]}
     else:
         schema = {"type": "array", "items": _number_schema(field.item), "minItems": 1}
     columns = bool(getattr(field.parent, "columns", False))
@@ -69,7 +72,8 @@ def build_spec(calculations: list[Calculation], version: str) -> dict:
 
 def _field_components(spec: APISpec, plugin, prefix: str, calculation: Calculation) -> None:
     """One component per input field and shape, so the mode schemas only reference them."""
-    for shape, schema in (("", calculation._case_schema), ("Column", calculation._columns_schema)):
+    shapes = (("", calculation._case_schema), ("Column", calculation._columns_schema))
+    for shape, schema in shapes if calculation.columns else shapes[:1]:
         for name, field in schema.fields.items():
             spec.components.schema(_field_component(prefix, name, shape), component=plugin.converter.field2property(field))
 
@@ -112,46 +116,63 @@ def _add_calculation(spec: APISpec, plugin, calculation: Calculation) -> None:
     _field_components(spec, plugin, prefix, calculation)
     for mode in calculation.modes:
         spec.components.schema(f"{prefix}Case{mode.name}", component=_mode_schema(prefix, calculation, mode, ""))
-        spec.components.schema(f"{prefix}Columns{mode.name}",
-                               component=_mode_schema(prefix, calculation, mode, "Column"))
         case_refs.append(_ref(f"{prefix}Case{mode.name}"))
-        column_refs.append(_ref(f"{prefix}Columns{mode.name}"))
+        if calculation.columns:
+            spec.components.schema(f"{prefix}Columns{mode.name}",
+                                   component=_mode_schema(prefix, calculation, mode, "Column"))
+            column_refs.append(_ref(f"{prefix}Columns{mode.name}"))
     spec.components.schema(f"{prefix}Case", component={"oneOf": case_refs})
-    spec.components.schema(f"{prefix}Columns", component={"oneOf": column_refs})
-    spec.components.schema(f"{prefix}Request", component={"oneOf": [
+    if calculation.columns:
+        spec.components.schema(f"{prefix}Columns", component={"oneOf": column_refs})
+    shapes = [
         _ref(f"{prefix}Case"),
         {"type": "object", "title": "Rows", "properties": {
             "cases": {"type": "array", "items": _ref(f"{prefix}Case"), "minItems": 1}},
          "required": ["cases"], "additionalProperties": False},
-        {"type": "object", "title": "Columns", "properties": {"columns": _ref(f"{prefix}Columns")},
-         "required": ["columns"], "additionalProperties": False},
-    ]})
+    ]
+    if calculation.columns:
+        shapes.append({"type": "object", "title": "Columns", "properties": {"columns": _ref(f"{prefix}Columns")},
+                       "required": ["columns"], "additionalProperties": False})
+    spec.components.schema(f"{prefix}Request", component={"oneOf": shapes})
 
     outputs = {}
     for name, field in calculation.outputs().fields.items():
         prop = plugin.converter.field2property(field)
-        outputs[name] = {**prop, "type": [prop.get("type", "number"), "null"]}
+        if prop.pop("x-per-stage", False):
+            outputs[name] = {**prop, "type": ["array", "null"], "items": {"type": prop.get("type", "number")}}
+        else:
+            outputs[name] = {**prop, "type": [prop.get("type", "number"), "null"]}
     checks = {"type": "object", "description": "Rules of thumb the case was judged against.",
               "additionalProperties": _ref("Check")}
     spec.components.schema(f"{prefix}Result", component={
         "type": "object", "properties": {**outputs, "checks": checks}, "additionalProperties": False})
-    column_outputs = {name: {"type": "array", "items": prop, "description": prop.get("description", "")}
-                      for name, prop in outputs.items()}
-    spec.components.schema(f"{prefix}ResultColumns", component={
-        "type": "object", "properties": {**column_outputs, "checks": {
-            "type": "object", "additionalProperties": _ref("CheckColumns")}},
-        "additionalProperties": False})
-    spec.components.schema(f"{prefix}Response", component={"oneOf": [
+    responses = [
         _ref(f"{prefix}Result"),
         {"type": "object", "title": "Rows", "required": ["results", "errors"], "additionalProperties": False,
          "properties": {"results": {"type": "array", "items": _ref(f"{prefix}Result")},
                         "errors": {"type": "array", "items": _ref("CaseError")}}},
-        {"type": "object", "title": "Columns", "required": ["columns", "errors"], "additionalProperties": False,
-         "properties": {"columns": _ref(f"{prefix}ResultColumns"),
-                        "errors": {"type": "array", "items": _ref("CaseError")}}},
-    ]})
+    ]
+    if calculation.columns:
+        column_outputs = {name: {"type": "array", "items": prop, "description": prop.get("description", "")}
+                          for name, prop in outputs.items()}
+        spec.components.schema(f"{prefix}ResultColumns", component={
+            "type": "object", "properties": {**column_outputs, "checks": {
+                "type": "object", "additionalProperties": _ref("CheckColumns")}},
+            "additionalProperties": False})
+        responses.append(
+            {"type": "object", "title": "Columns", "required": ["columns", "errors"], "additionalProperties": False,
+             "properties": {"columns": _ref(f"{prefix}ResultColumns"),
+                            "errors": {"type": "array", "items": _ref("CaseError")}}})
+    spec.components.schema(f"{prefix}Response", component={"oneOf": responses})
 
     problem = {"content": {"application/problem+json": {"schema": _ref("Problem")}}}
+    content = {"application/json": {"schema": _ref(f"{prefix}Response")}}
+    drawing = {}
+    if calculation.render_svg is not None:
+        content["image/svg+xml"] = {"schema": {
+            "type": "string", "description": "With `Accept: image/svg+xml` and one case: an SVG drawing of it."}}
+        drawing = {"406": {"description": "An SVG drawing was asked for rows or columns (it shows one case).",
+                           **problem}}
     spec.path(path=calculation.path, operations={"post": {
         "operationId": calculation.name.replace("-", "_"),
         "tags": [calculation.name],
@@ -159,12 +180,12 @@ def _add_calculation(spec: APISpec, plugin, calculation: Calculation) -> None:
         "description": calculation.description + "\n\n" + CAUTION,
         "requestBody": {"required": True, "content": {"application/json": {"schema": _ref(f"{prefix}Request")}}},
         "responses": {
-            "200": {"description": "Results, in the shape of the request.",
-                    "content": {"application/json": {"schema": _ref(f"{prefix}Response")}}},
+            "200": {"description": "Results, in the shape of the request.", "content": content},
             "400": {"description": "The body is not valid JSON.", **problem},
             "401": {"description": "An API key is required and was not given.", **problem},
             "403": {"description": "The API key is not valid.", **problem},
             "413": {"description": "The body or the number of cases is over the limit.", **problem},
+            **drawing,
             "415": {"description": "The body is not JSON (Content-Type).", **problem},
             "422": {"description": "Invalid input (every offending field named by JSON Pointer), or one "
                                    "case that is physically impossible.", **problem},
@@ -187,6 +208,10 @@ def _add_common_components(spec: APISpec) -> None:
                 "properties": {"pointer": {"type": "string", "description": "JSON Pointer into the request body."},
                                "detail": {"type": "string"}}}},
             "errors_not_listed": {"type": "integer", "description": "Further errors not listed."},
+            "request_id": {"type": "string", "description": (
+                "Id of the request, also in the X-Request-ID response header and the service's log: the "
+                "caller's X-Request-ID header if it is 1 to 128 letters, digits or ._~:/+=@- characters, "
+                "otherwise a generated UUID.")},
         },
     })
     spec.components.schema("CaseError", component={
@@ -229,6 +254,11 @@ def _add_service_paths(spec: APISpec) -> None:
         "tags": ["service"],
         "responses": {"200": {"description": "Ready.", "content": {"application/json": {"schema": status}}},
                       "503": {"description": "Not ready.", **problem}}}})
+    spec.path(path="/metrics", operations={"get": {
+        "operationId": "metrics", "summary": "Prometheus metrics of all workers, in the text exposition format.",
+        "tags": ["service"],
+        "responses": {"200": {"description": "Requests, latency, cases computed and per-case failures by endpoint.",
+                              "content": {"text/plain": {"schema": {"type": "string"}}}}}}})
     spec.path(path="/v1/openapi.json", operations={"get": {
         "operationId": "openapi", "summary": "This OpenAPI document.", "tags": ["service"],
         "responses": {"200": {"description": "The OpenAPI 3.1 document.",

@@ -35,16 +35,30 @@ class CaseResults:
     checks: dict[str, RuleCheck] = field(default_factory=dict)
 
     @property
+    def shape(self) -> tuple:
+        """Shape of the case axis: ``(n,)``, or ``()`` for one case given as scalars."""
+        return np.shape(next(iter(self.values.values())))[:1] if self.values else (0,)
+
+    @property
     def size(self) -> int:
-        return int(np.size(next(iter(self.values.values())))) if self.values else 0
+        return int(np.prod(self.shape))
 
     def failed(self) -> np.ndarray:
         """Boolean mask of the cases that could not be computed."""
-        shape = np.shape(next(iter(self.values.values()))) if self.values else (0,)
-        mask = np.zeros(shape, dtype=bool)
+        mask = np.zeros(self.shape, dtype=bool)
         for _, where in self.failures:
             mask |= np.broadcast_to(where, mask.shape)
         return mask
+
+
+    def merged(self, other: CaseResults, prefix: str) -> CaseResults:
+        """These results with ``other``'s added under ``prefix`` (values, checks, and failure reasons)."""
+        failed = other.failed()
+        values = {**{name: np.where(failed, np.nan, array) for name, array in self.values.items()},
+                  **{f"{prefix}_{name}": array for name, array in other.values.items()}}
+        failures = self.failures + [(f"{prefix}: {reason}", mask) for reason, mask in other.failures]
+        checks = {**self.checks, **{f"{prefix}_{name}": check for name, check in other.checks.items()}}
+        return CaseResults(values=values, failures=failures, checks=checks)
 
 
 def broadcast_cases(*arrays) -> list[np.ndarray]:

@@ -1,0 +1,223 @@
+"""``POST /v1/machine-design``: a multistage compressor or turbine laid out at the mean line."""
+
+from __future__ import annotations
+
+from marshmallow import Schema
+
+from service.api.calculation import Calculation, Mode, combine_modes
+from service.api.common import GasInputs, InletStateInputs, angle, integer_output, machine_field, output, positive
+from service.api.fields import Option, Quantity, QuantityList, QuantityPerStage
+from service.core import flowpath, gas, split, zweifel
+from service.core import machine as design
+
+EFFICIENCY_LIMITS = {"minimum": 0.0, "maximum": 1.0, "exclusive_minimum": True}
+
+
+class MachineInput(GasInputs, InletStateInputs):
+    machine = machine_field(required=True)
+    mass_flow = positive("Mass flow. [kg s^-1]", "kg s^-1")
+    pressure_ratio = Quantity("Overall total pressure ratio, above 1: p0_out / p0_in for a compressor, "
+                              "p0_in / p0_out for a turbine. [-]", "-", minimum=1.0, exclusive_minimum=True)
+    shaft_speed = positive("Shaft speed. [rev min^-1]", "rev min^-1")
+    polytropic_efficiency = Quantity("Polytropic (small-stage) efficiency of every stage. [-]", "-",
+                                     **EFFICIENCY_LIMITS)
+    mean_radius = positive("Mean radius, held constant through the machine. [m]", "m")
+    hub_radius = positive("Hub radius, held constant through the machine. [m]", "m")
+    tip_radius = positive("Tip (casing) radius, held constant through the machine. [m]", "m")
+    stages = Quantity("Number of stages. [-]", "-", minimum=1, maximum=split.MAX_STAGES, integer=True)
+    max_loading_coefficient = positive(
+        "Largest stage loading coefficient (work / blade_speed^2, at each stage's own blade speed) allowed; the "
+        "fewest stages that keep every stage within it are found. [-]", "-")
+    max_stage_pressure_ratio = Quantity(
+        "Largest stage pressure ratio (turbine: expansion ratio) allowed; the fewest stages that keep every "
+        "stage within it are found. [-]", "-", minimum=1.0, exclusive_minimum=True)
+    rule = Option("How the work is shared between stages: `equal_work`, `equal_pressure_ratio`, or `weights` "
+                  "(relative work shares, one per stage).", split.SPLIT_RULES, load_default="equal_work")
+    weights = QuantityList("Relative work share of each stage, front to rear (rule `weights`); normalised. [-]",
+                           "-", minimum=0.0, exclusive_minimum=True)
+    flow_coefficient = QuantityPerStage(
+        "Flow coefficient V_x / U at each stage's mean radius: one value for every stage or a list, front to "
+        "rear. [-]", "-", minimum=0.0, exclusive_minimum=True)
+    reaction = QuantityPerStage(
+        "Reaction of each stage: one value for every stage or a list, front to rear. For a compressor given "
+        "inlet_swirl, the first stage's reaction follows from the swirl and replaces the first value. [-]", "-",
+        minimum=-2.0, maximum=3.0)
+    inlet_swirl = angle("Absolute flow angle at the machine inlet (station 1). Compressor: sets the first "
+                        "stage's reaction (default: the angle follows from it). Turbine: the first nozzle's inlet "
+                        "angle (default: the first rotor's exit angle).")
+    outlet_swirl = angle("Compressor: absolute flow angle after the last stator (default: the inlet flow angle).")
+    rotor_aspect_ratio = positive("Blade height over axial chord of every rotor row. [-]", "-")
+    stator_aspect_ratio = positive("Blade height over axial chord of every stator row. [-]", "-")
+    zweifel_coefficient = positive("Turbine rows: target Zweifel coefficient, incompressible (default 0.8). [-]", "-",
+                                   load_default=zweifel.OPTIMUM_ZWEIFEL_COEFFICIENT)
+    target_diffusion_factor = Quantity("Compressor rows: diffusion factor to size every row's solidity for. [-]",
+                                       "-", minimum=0.0, maximum=1.0, exclusive_minimum=True,
+                                       exclusive_maximum=True)
+    solidity = positive("Compressor rows: solidity (chord over pitch) of every row; the blade count is rounded "
+                        "up. [-]", "-")
+    axial_gap = Quantity("Axial gap after each row as a fraction of its axial chord (default 0.25, common "
+                         "practice). [-]", "-", minimum=0.0, maximum=10.0, load_default=flowpath.DEFAULT_AXIAL_GAP)
+    rotor_loss_fraction = Quantity(
+        "The rotor's share of each stage's entropy rise; the stator takes the rest (default 0.5). [-]", "-",
+        minimum=0.0, maximum=1.0, load_default=design.DEFAULT_ROTOR_LOSS_FRACTION)
+
+
+def _list(description: str, unit: str, integer: bool = False):
+    field = integer_output(description) if integer else output(description, unit)
+    field.metadata["x-per-stage"] = True
+    return field
+
+
+_STATION = "at every station, 1 to 2n+1 in flow order"
+_ROW = "of every row, 1 to 2n in flow order (compressor R1, S1, R2, ...; turbine S1, R1, S2, ...)"
+
+MachineOutput = Schema.from_dict(
+    {
+        "stage_count": integer_output("Number of stages n. [-]"),
+        "outlet_total_temperature": output("Machine outlet total temperature. [K]", "K"),
+        "outlet_total_pressure": output("Machine outlet total pressure. [Pa]", "Pa"),
+        "work": output("Total specific work, positive for both machines. [J kg^-1]", "J kg^-1"),
+        "power": output("Shaft power, positive for both machines (absorbed or delivered). [W]", "W"),
+        "isentropic_efficiency": output("Overall isentropic (total-to-total) efficiency. [-]", "-"),
+        "polytropic_efficiency": output("Polytropic efficiency (as given). [-]", "-"),
+        "axial_length": output("Axial length: the rows' axial chords and the gaps between them. [m]", "m"),
+        "stage_pressure_ratio": _list("Pressure ratio of each stage (turbine: expansion ratio). [-]", "-"),
+        "stage_total_temperature_change": _list("Total temperature rise (compressor) or drop (turbine) of each "
+                                                "stage. [K]", "K"),
+        "stage_work": _list("Specific work of each stage, positive. [J kg^-1]", "J kg^-1"),
+        "stage_isentropic_efficiency": _list("Isentropic (total-to-total) efficiency of each stage. [-]", "-"),
+        "stage_loading_coefficient": _list("Loading coefficient of each stage at its blade speed. [-]", "-"),
+        "stage_flow_coefficient": _list("Flow coefficient of each stage. [-]", "-"),
+        "stage_reaction": _list("Reaction of each stage. [-]", "-"),
+        "stage_blade_speed": _list("Blade speed of each stage at its mean radius. [m s^-1]", "m s^-1"),
+        "stage_mean_radius": _list("Mean radius of each stage's triangles (its blade speed's radius). [m]", "m"),
+        "station_total_temperature": _list(f"Total temperature {_STATION}. [K]", "K"),
+        "station_total_pressure": _list(f"Total pressure {_STATION}. [Pa]", "Pa"),
+        "station_static_temperature": _list(f"Static temperature {_STATION}. [K]", "K"),
+        "station_static_pressure": _list(f"Static pressure {_STATION}. [Pa]", "Pa"),
+        "station_density": _list(f"Static density {_STATION}. [kg m^-3]", "kg m^-3"),
+        "station_axial_velocity": _list(f"Axial velocity {_STATION}. [m s^-1]", "m s^-1"),
+        "station_tangential_velocity": _list(f"Absolute tangential velocity {_STATION}. [m s^-1]", "m s^-1"),
+        "station_velocity": _list(f"Absolute speed {_STATION}. [m s^-1]", "m s^-1"),
+        "station_alpha": _list(f"Absolute flow angle from axial {_STATION}. [deg]", "deg"),
+        "station_relative_tangential_velocity": _list(
+            f"Relative tangential velocity {_STATION}, in the frame of the station's stage's rotor. [m s^-1]",
+            "m s^-1"),
+        "station_relative_velocity": _list(f"Relative speed {_STATION} (stage's rotor frame). [m s^-1]", "m s^-1"),
+        "station_beta": _list(f"Relative flow angle from axial {_STATION} (stage's rotor frame). [deg]", "deg"),
+        "station_mach": _list(f"Absolute Mach number {_STATION}. [-]", "-"),
+        "station_relative_mach": _list(f"Relative Mach number {_STATION} (stage's rotor frame). [-]", "-"),
+        "station_axial_mach": _list(f"Axial Mach number {_STATION}; 1 chokes the annulus. [-]", "-"),
+        "station_area": _list(f"Annulus area from continuity, m / (rho V_x), {_STATION}. [m^2]", "m^2"),
+        "station_hub_radius": _list(f"Hub radius {_STATION}. [m]", "m"),
+        "station_tip_radius": _list(f"Tip radius {_STATION}. [m]", "m"),
+        "station_mean_radius": _list(f"Mean radius of the annulus, (hub + tip) / 2, {_STATION}. [m]", "m"),
+        "station_blade_height": _list(f"Blade height (tip - hub) {_STATION}. [m]", "m"),
+        "station_hub_to_tip_ratio": _list(f"Hub-to-tip radius ratio {_STATION}. [-]", "-"),
+        "station_axial_position": _list(f"Axial position {_STATION} (first leading edge at 0). [m]", "m"),
+        "row_blade_count": _list(f"Blade count {_ROW}, rounded up. [-]", "-", integer=True),
+        "row_pitch": _list(f"Pitch at the mean radius {_ROW}. [m]", "m"),
+        "row_solidity": _list(f"Solidity (true chord over pitch) {_ROW}. [-]", "-"),
+        "row_chord": _list(f"True chord {_ROW}. [m]", "m"),
+        "row_axial_chord": _list(f"Axial chord {_ROW}. [m]", "m"),
+        "row_stagger": _list(f"Stagger estimate (mean of the row-frame flow angles) {_ROW}. [deg]", "deg"),
+        "row_blade_height": _list(f"Blade height (mean of inlet and outlet) {_ROW}. [m]", "m"),
+        "row_mean_radius": _list(f"Mean radius (mean of inlet and outlet) {_ROW}. [m]", "m"),
+        "row_inlet_angle": _list(f"Inlet flow angle in the row's frame {_ROW}. [deg]", "deg"),
+        "row_outlet_angle": _list(f"Outlet flow angle in the row's frame {_ROW}. [deg]", "deg"),
+        "row_de_haller": _list(f"Outlet over inlet speed in the row's frame {_ROW}. [-]", "-"),
+        "row_zweifel_coefficient": _list(f"Turbine: Zweifel coefficient of the blade count {_ROW}. [-]", "-"),
+        "row_diffusion_factor": _list(f"Compressor: diffusion factor of the blade count {_ROW}. [-]", "-"),
+        "row_leading_edge": _list(f"Axial position of the leading edge {_ROW}. [m]", "m"),
+        "row_trailing_edge": _list(f"Axial position of the trailing edge {_ROW}. [m]", "m"),
+        "flowpath_x": _list("Flowpath outline: axial positions, each row's leading and trailing edge. [m]", "m"),
+        "flowpath_hub_radius": _list("Flowpath outline: hub radius at each point of flowpath_x. [m]", "m"),
+        "flowpath_tip_radius": _list("Flowpath outline: tip radius at each point of flowpath_x. [m]", "m"),
+    },
+    name="MachineOutput",
+)
+
+RADIUS = (
+    Mode("MeanRadius", "mean_radius", required=("mean_radius",)),
+    Mode("HubRadius", "hub_radius", required=("hub_radius",)),
+    Mode("TipRadius", "tip_radius", required=("tip_radius",)),
+)
+COUNT = (
+    Mode("Stages", "stages", required=("stages",)),
+    Mode("Loading", "max_loading_coefficient", required=("max_loading_coefficient",)),
+    Mode("StagePressureRatio", "max_stage_pressure_ratio", required=("max_stage_pressure_ratio",)),
+    Mode("WeightCount", "one weight per stage (the count of weights is the stage count)", required=(),
+         when={"rule": ("weights",)}),
+)
+RULE = (
+    Mode("Rule", "rule equal_work or equal_pressure_ratio", required=(),
+         when={"rule": ("equal_work", "equal_pressure_ratio")}),
+    Mode("Weights", "rule weights and weights", required=("weights",), when={"rule": ("weights",)}),
+)
+ROWS = (
+    Mode("TurbineRows", "zweifel_coefficient or its default (turbine)", required=(),
+         optional=("zweifel_coefficient",), when={"machine": ("turbine",)}),
+    Mode("DiffusionFactor", "target_diffusion_factor (compressor)", required=("target_diffusion_factor",),
+         optional=("outlet_swirl",), when={"machine": ("compressor",)}),
+    Mode("Solidity", "solidity (compressor)", required=("solidity",), optional=("outlet_swirl",),
+         when={"machine": ("compressor",)}),
+)
+
+_OPTIONAL = ("mean_radius", "hub_radius", "tip_radius", "stages", "max_loading_coefficient",
+             "max_stage_pressure_ratio", "weights", "inlet_swirl", "outlet_swirl", "target_diffusion_factor",
+             "solidity", "axial_gap", "rotor_loss_fraction")
+
+
+def _compute(mode: Mode, options: dict, inputs: dict):
+    machine = options["machine"]
+    cp, gamma = gas.gas_properties(options["gas"], inputs.get("cp"), inputs.get("gamma"))
+    given = {name: inputs[name] for name in _OPTIONAL if inputs.get(name) is not None}
+    if machine == "turbine":
+        given["zweifel_coefficient"] = inputs["zweifel_coefficient"]
+    if mode.includes("WeightCount"):
+        given["stages"] = inputs["weights"].shape[-1]
+    return design.evaluate_machine_design(
+        machine, inputs["mass_flow"], inputs["total_temperature"], inputs["total_pressure"],
+        inputs["pressure_ratio"], inputs["shaft_speed"], inputs["polytropic_efficiency"],
+        inputs["flow_coefficient"], inputs["reaction"], inputs["rotor_aspect_ratio"], inputs["stator_aspect_ratio"],
+        cp=cp, gamma=gamma, rule=options["rule"], **given,
+    )
+
+
+def _render_svg(payload: dict, body: dict) -> str:
+    from service.api import drawings
+
+    return drawings.flowpath_svg(payload, body)
+
+
+CALCULATION = Calculation(
+    name="machine-design",
+    summary="Lay out a multistage compressor or turbine at the mean line",
+    description=(
+        "From the cycle's duty (mass flow, inlet total state, pressure ratio, shaft speed, polytropic efficiency) "
+        "to a stage-by-stage flowpath: the stage split (as stage-split), each stage's velocity triangles from its "
+        "own loading, flow coefficient and reaction at its mean radius (as triangles), static states and Mach "
+        "numbers at every station, the annulus from continuity (A = m / (rho V_x)) with the mean, hub or tip radius "
+        "held, and every row sized: turbine rows by a Zweifel target (as zweifel), compressor rows by a target "
+        "diffusion factor or solidity (as diffusion-factor), stacked along the axis. Stations 1 to 2n+1 in flow "
+        "order (compressor: 2i-1 rotor i inlet, 2i rotor i exit, 2i+1 stator i exit; turbine: 2i-1 stator i inlet, "
+        "2i stator exit = rotor i inlet, 2i+1 rotor i exit); rows 1 to 2n between them. Assumptions: constant axial "
+        "velocity through each rotor (V_x = phi U), the stator between stages changing it to the next stage's; "
+        "each stage's blade speed at the mean radius of its rotor's low-swirl station (compressor rotor inlet, "
+        "turbine rotor exit), solved with the annulus when the hub or tip radius is held; a compressor's "
+        "inlet_swirl sets the first stage's reaction, its last stator returns the flow to outlet_swirl (default "
+        "the inlet angle); each stage's entropy rise shared between rotor (rotor_loss_fraction, default 0.5) and "
+        "stator; rows at the mean of their stations' heights and radii, axial chord = height / aspect ratio, "
+        "stagger = mean of the row-frame flow angles, true chord = axial chord / cos(stagger); axial gap a "
+        "fraction of the axial chord. A station whose static temperature reaches zero, whose hub radius or blade "
+        "height is at or below zero, or whose axial Mach number reaches 1 fails the case, naming the station. "
+        "Send `Accept: image/svg+xml` with one case for a drawing of the meridional flowpath and its rows. One "
+        "case or rows (no columns: the lists vary in length)."
+    ),
+    schema=MachineInput,
+    outputs=MachineOutput,
+    modes=combine_modes(RADIUS, COUNT, RULE, ROWS),
+    compute=_compute,
+    columns=False,
+    render_svg=_render_svg,
+)

@@ -1,0 +1,294 @@
+"""Request ids, one JSON log line per request, and Prometheus metrics at ``GET /metrics``.
+
+:func:`init_app` hooks all three into the application. Every request gets an id: the caller's
+``X-Request-ID`` when it is acceptable (1 to 128 characters of ``REQUEST_ID_CHARACTERS``),
+otherwise a new UUID 4. The id comes back in the ``X-Request-ID`` response header, in every
+problem document (``request_id``) and in the request's log line, so a caller's report of one
+failed request leads to its line in the logs.
+
+Logs are JSON lines on standard output, one per request, written by the ``service`` logger at
+the level ``MEANLINE_LOG_LEVEL`` (or the ``LOG_LEVEL`` setting). Each line is written with a
+single flush: under gunicorn every worker writes to the same inherited standard output, and a
+line shorter than the pipe buffer arrives whole. Lines never carry input values, API keys or
+bodies: only the method, the path, the status, the duration and the case counts.
+
+Metrics use prometheus_client. When ``PROMETHEUS_MULTIPROC_DIR`` is set before the process
+starts (prometheus_client reads it at import), each gunicorn worker writes its values to files
+there and every scrape sums the files of all workers into a fresh registry; otherwise the
+process's own registry is exposed. service/gunicorn_conf.py empties the directory at start
+and marks dead workers.
+"""
+
+from __future__ import annotations
+
+import json
+import logging
+import os
+import re
+import sys
+import time
+import traceback
+import uuid
+from datetime import UTC, datetime
+
+from flask import Flask, Response, current_app, g, has_request_context, request
+from prometheus_client import (
+    CollectorRegistry,
+    Counter,
+    Histogram,
+    disable_created_metrics,
+    generate_latest,
+    multiprocess,
+)
+
+REQUEST_ID_HEADER = "X-Request-ID"
+#: Characters accepted in a caller's request id: enough for UUIDs, trace ids and base64, and
+#: nothing that could break a log line or a header.
+REQUEST_ID_CHARACTERS = "A-Za-z0-9._~:/+=@-"
+REQUEST_ID_MAX_LENGTH = 128
+_REQUEST_ID = re.compile(f"[{REQUEST_ID_CHARACTERS}]{{1,{REQUEST_ID_MAX_LENGTH}}}")
+
+LOG_LEVELS = ("debug", "info", "warning", "error", "critical")
+DEFAULT_LOG_LEVEL = "info"
+LOGGER_NAME = "service"
+REQUEST_LOGGER_NAME = "service.requests"
+#: Longest path written to a log line; a longer one (only ever a 404) is cut.
+MAX_LOGGED_PATH = 256
+
+METRICS_PATH = "/metrics"
+#: The Prometheus text exposition format, version 0.0.4, which every scraper reads.
+METRICS_CONTENT_TYPE = "text/plain; version=0.0.4; charset=utf-8"
+#: Endpoint label of requests that matched no route (404, 405), so that clients cannot create
+#: new label values, and with them new time series, by inventing paths.
+UNMATCHED = "unmatched"
+#: Latency histogram buckets [s]: from a one-case answer (about a millisecond) to a batch near
+#: the default worker timeout of 30 s.
+LATENCY_BUCKETS = (0.001, 0.0025, 0.005, 0.01, 0.025, 0.05, 0.1, 0.25, 0.5, 1.0, 2.5, 5.0, 10.0, 30.0)
+
+#: Base names; prometheus_client exposes the counters with a ``_total`` suffix and the histogram
+#: as ``_bucket``, ``_count`` and ``_sum`` series.
+METRIC_NAMES = {
+    "requests": "meanline_http_requests",
+    "latency": "meanline_http_request_duration_seconds",
+    "cases": "meanline_cases_computed",
+    "failures": "meanline_case_failures",
+}
+
+_EXTENSION = "meanline_observability"
+# The ``*_created`` series (a timestamp per label set) exist only in single-process mode; leaving
+# them out makes the exposition the same in both modes and halves the series per counter.
+disable_created_metrics()
+log = logging.getLogger(REQUEST_LOGGER_NAME)
+
+
+# -- request ids ---------------------------------------------------------------------------------
+
+
+def request_id() -> str:
+    """The current request's id: the caller's ``X-Request-ID`` if acceptable, else a new UUID 4.
+
+    Decided once per request, on first use, so that it is the same wherever it appears even
+    when a hook that runs before this module's (an authentication check) fails the request.
+    """
+    if "request_id" not in g:
+        given = request.headers.get(REQUEST_ID_HEADER, "")
+        g.request_id = given if _REQUEST_ID.fullmatch(given) else str(uuid.uuid4())
+    return g.request_id
+
+
+def record_cases(size: int, body: dict) -> None:
+    """Note the cases a calculation computed, for its metrics and its log line.
+
+    Parameters
+    ----------
+    size : int
+        Number of cases in the request.
+    body : dict
+        The response body; in a batch, ``errors`` lists the cases that failed.
+    """
+    g.cases = int(size)
+    g.case_failures = len(body["errors"]) if ("results" in body or "columns" in body) else 0
+
+
+# -- logging -------------------------------------------------------------------------------------
+
+
+def log_level(config_value: str | None = None) -> str:
+    """The log level from the ``LOG_LEVEL`` setting, else ``MEANLINE_LOG_LEVEL``, else info.
+
+    Raises
+    ------
+    ValueError
+        For a level other than those in ``LOG_LEVELS``, naming the variable.
+    """
+    if config_value:
+        name, raw = "LOG_LEVEL", config_value
+    else:
+        name, raw = "MEANLINE_LOG_LEVEL", os.environ.get("MEANLINE_LOG_LEVEL", "")
+    level = raw.strip().lower() or DEFAULT_LOG_LEVEL
+    if level not in LOG_LEVELS:
+        raise ValueError(f"{name} must be one of {', '.join(LOG_LEVELS)}, got {raw!r}")
+    return level
+
+
+class JsonFormatter(logging.Formatter):
+    """One JSON object per record: time (UTC), level, logger, process id, message, the request id
+    inside a request, the record's ``fields`` and, for an exception, its type and traceback."""
+
+    def format(self, record: logging.LogRecord) -> str:
+        entry = {
+            "time": datetime.fromtimestamp(record.created, UTC).isoformat(timespec="milliseconds")
+            .replace("+00:00", "Z"),
+            "level": record.levelname.lower(),
+            "logger": record.name,
+            "pid": record.process,
+            "message": record.getMessage(),
+        }
+        if has_request_context():
+            entry["request_id"] = request_id()
+        entry.update(getattr(record, "fields", {}))
+        if record.exc_info and record.exc_info[0] is not None:
+            entry["exception"] = _exception_summary(*record.exc_info)
+        return json.dumps(entry, separators=(",", ":"), default=str)
+
+
+def _exception_summary(kind, _error, trace) -> dict:
+    # The message is left out on purpose: exception messages may quote input values. The type
+    # and the frames locate the bug.
+    frames = [f"{frame.filename}:{frame.lineno} in {frame.name}" for frame in traceback.extract_tb(trace)]
+    return {"type": f"{kind.__module__}.{kind.__qualname__}", "traceback": frames}
+
+
+class _StdoutHandler(logging.Handler):
+    """Writes each record as one line to the current ``sys.stdout`` and flushes it at once.
+
+    ``sys.stdout`` is looked up per record rather than held, so that a replaced standard output
+    (a test's capture, a redirect) is honoured.
+    """
+
+    def emit(self, record: logging.LogRecord) -> None:
+        try:
+            line = self.format(record) + "\n"
+            stream = sys.stdout
+            stream.write(line)
+            stream.flush()
+        except Exception:  # noqa: BLE001  (logging must never fail a request)
+            self.handleError(record)
+
+
+def configure_logging(level: str) -> logging.Logger:
+    """Send the ``service`` loggers' records at ``level`` and above to standard output as JSON.
+
+    Idempotent: the handler is added once per process however many apps are created.
+    """
+    logger = logging.getLogger(LOGGER_NAME)
+    logger.setLevel(level.upper())
+    # Not to the root logger as well: an embedding program's handlers would print each line twice.
+    logger.propagate = False
+    if not any(isinstance(handler, _StdoutHandler) for handler in logger.handlers):
+        handler = _StdoutHandler()
+        handler.setFormatter(JsonFormatter())
+        logger.addHandler(handler)
+    return logger
+
+
+# -- metrics -------------------------------------------------------------------------------------
+
+
+class Metrics:
+    """The service's metrics, in a registry of their own (one per app).
+
+    In multiprocess mode the values live in prometheus_client's files and the registry is not
+    what a scrape reads; creating a second app in the same process would then share the files'
+    series, so a gunicorn worker creates exactly one.
+    """
+
+    def __init__(self, multiprocess_dir: str | None):
+        self.multiprocess_dir = multiprocess_dir
+        self.registry = CollectorRegistry(auto_describe=True)
+        self.requests = Counter(
+            METRIC_NAMES["requests"], "HTTP requests answered, by endpoint and status.",
+            ("endpoint", "status"), registry=self.registry)
+        self.latency = Histogram(
+            METRIC_NAMES["latency"], "Time from the start of handling a request to its response, by "
+            "endpoint. [s]", ("endpoint",), buckets=LATENCY_BUCKETS, registry=self.registry)
+        self.cases = Counter(
+            METRIC_NAMES["cases"], "Cases computed by successful calculation requests (including the cases "
+            "of a batch that failed individually), by endpoint.", ("endpoint",), registry=self.registry)
+        self.failures = Counter(
+            METRIC_NAMES["failures"], "Cases of batches that were physically impossible (null outputs and "
+            "an entry in errors), by endpoint.", ("endpoint",), registry=self.registry)
+
+    def exposition(self) -> bytes:
+        if self.multiprocess_dir:
+            # A fresh registry per scrape, as prometheus_client's multiprocess documentation asks:
+            # the collector reads every worker's files at collection time.
+            registry = CollectorRegistry()
+            multiprocess.MultiProcessCollector(registry, path=self.multiprocess_dir)
+            return generate_latest(registry)
+        return generate_latest(self.registry)
+
+
+# -- hooks ---------------------------------------------------------------------------------------
+
+
+def init_app(app: Flask) -> None:
+    """Add request ids, request logging and ``GET /metrics`` to ``app``.
+
+    Call it before any other ``after_request`` hook is registered, so that its own runs last and
+    logs and counts the final response. Reads ``LOG_LEVEL`` from the app's configuration (else
+    ``MEANLINE_LOG_LEVEL``).
+    """
+    # Imported here: the calculations import problems, which imports this module.
+    from service.api.registry import CALCULATIONS
+
+    configure_logging(log_level(app.config.get("LOG_LEVEL")))
+    multiprocess_dir = os.environ.get("PROMETHEUS_MULTIPROC_DIR", "").strip() or None
+    metrics = app.extensions[_EXTENSION] = Metrics(multiprocess_dir)
+    # Every calculation's case counters exist from the start at zero, so that a rate over the
+    # first failure is not lost to a series that appears only with it.
+    for calculation in CALCULATIONS:
+        metrics.cases.labels(endpoint=calculation.path)
+        metrics.failures.labels(endpoint=calculation.path)
+    # First among the before-request hooks, so the clock starts before any other check runs;
+    # the after-request hook registered here early runs last (Flask runs them in reverse), so it
+    # sees the final status and headers.
+    app.before_request_funcs.setdefault(None, []).insert(0, _start)
+    app.after_request(_finish)
+    app.add_url_rule(METRICS_PATH, endpoint="metrics", view_func=_metrics_view, methods=["GET"])
+
+
+def _start() -> None:
+    g.started = time.perf_counter()
+    request_id()
+
+
+def _finish(response: Response) -> Response:
+    duration = time.perf_counter() - g.get("started", time.perf_counter())
+    endpoint = request.url_rule.rule if request.url_rule is not None else UNMATCHED
+    status = response.status_code
+    cases, failures = g.get("cases", 0), g.get("case_failures", 0)
+    response.headers[REQUEST_ID_HEADER] = request_id()
+
+    metrics: Metrics = current_app.extensions[_EXTENSION]
+    metrics.requests.labels(endpoint=endpoint, status=str(status)).inc()
+    metrics.latency.labels(endpoint=endpoint).observe(duration)
+    if cases:
+        metrics.cases.labels(endpoint=endpoint).inc(cases)
+    if failures:
+        metrics.failures.labels(endpoint=endpoint).inc(failures)
+
+    log.info("request", extra={"fields": {
+        "method": request.method,
+        "path": request.path[:MAX_LOGGED_PATH],
+        "endpoint": endpoint,
+        "status": status,
+        "duration_ms": round(duration * 1e3, 3),
+        "cases": cases,
+        "case_failures": failures,
+    }})
+    return response
+
+
+def _metrics_view() -> Response:
+    return Response(current_app.extensions[_EXTENSION].exposition(), content_type=METRICS_CONTENT_TYPE)

@@ -1,0 +1,119 @@
+"""``POST /v1/stage-split``: sharing an overall pressure ratio between stages."""
+
+from __future__ import annotations
+
+from marshmallow import Schema
+
+from service.api.calculation import Calculation, Mode, combine_modes
+from service.api.common import GasInputs, InletStateInputs, integer_output, machine_field, output, positive
+from service.api.fields import Option, Quantity, QuantityList
+from service.core import gas, split
+
+EFFICIENCY_LIMITS = {"minimum": 0.0, "maximum": 1.0, "exclusive_minimum": True}
+
+
+class SplitInput(GasInputs, InletStateInputs):
+    machine = machine_field(required=True)
+    pressure_ratio = Quantity("Overall total pressure ratio, above 1: p0_out / p0_in for a compressor, "
+                              "p0_in / p0_out for a turbine. [-]", "-", minimum=1.0, exclusive_minimum=True)
+    polytropic_efficiency = Quantity("Polytropic (small-stage) efficiency, the same for every stage. [-]", "-",
+                                     **EFFICIENCY_LIMITS)
+    stage_isentropic_efficiency = Quantity("Isentropic (total-to-total) efficiency of every stage. [-]", "-",
+                                           **EFFICIENCY_LIMITS)
+    stages = Quantity("Number of stages. [-]", "-", minimum=1, maximum=split.MAX_STAGES, integer=True)
+    max_loading_coefficient = positive(
+        "Largest stage loading coefficient (work / blade_speed^2) allowed; the fewest stages that keep every "
+        "stage within it are found. [-]", "-")
+    max_stage_pressure_ratio = Quantity(
+        "Largest stage pressure ratio (turbine: expansion ratio) allowed; the fewest stages that keep every "
+        "stage within it are found. [-]", "-", minimum=1.0, exclusive_minimum=True)
+    blade_speed = positive("Mean blade speed, for the stage loading coefficients. [m s^-1]", "m s^-1")
+    rule = Option("How the work is shared: `equal_work` (every stage the same total temperature change), "
+                  "`equal_pressure_ratio`, or `weights` (relative work shares, one per stage).", split.SPLIT_RULES,
+                  load_default="equal_work")
+    weights = QuantityList("Relative work share of each stage, front to rear (rule `weights`); normalised. [-]",
+                           "-", minimum=0.0, exclusive_minimum=True)
+    mass_flow = positive("Mass flow, for the power. [kg s^-1]", "kg s^-1")
+
+
+def _per_stage(description: str, unit: str):
+    field = output(description, unit)
+    field.metadata["x-per-stage"] = True
+    return field
+
+
+SplitOutput = Schema.from_dict(
+    {
+        "stage_count": integer_output("Number of stages. [-]"),
+        "stage_pressure_ratio": _per_stage("Pressure ratio of each stage (turbine: expansion ratio). [-]", "-"),
+        "stage_inlet_total_temperature": _per_stage("Inlet total temperature of each stage. [K]", "K"),
+        "stage_outlet_total_temperature": _per_stage("Outlet total temperature of each stage. [K]", "K"),
+        "stage_inlet_total_pressure": _per_stage("Inlet total pressure of each stage. [Pa]", "Pa"),
+        "stage_outlet_total_pressure": _per_stage("Outlet total pressure of each stage. [Pa]", "Pa"),
+        "stage_total_temperature_change": _per_stage(
+            "Total temperature rise (compressor) or drop (turbine) of each stage, positive. [K]", "K"),
+        "stage_work": _per_stage("Specific work of each stage, positive for both machines. [J kg^-1]", "J kg^-1"),
+        "stage_isentropic_efficiency": _per_stage("Isentropic (total-to-total) efficiency of each stage. [-]", "-"),
+        "stage_loading_coefficient": _per_stage("Loading coefficient of each stage, work / blade_speed^2. [-]", "-"),
+        "outlet_total_temperature": output("Machine outlet total temperature. [K]", "K"),
+        "outlet_total_pressure": output("Machine outlet total pressure. [Pa]", "Pa"),
+        "work": output("Total specific work, positive for both machines. [J kg^-1]", "J kg^-1"),
+        "total_temperature_change": output("Total temperature rise (compressor) or drop (turbine), positive. [K]",
+                                           "K"),
+        "isentropic_efficiency": output("Overall isentropic (total-to-total) efficiency of the machine. [-]", "-"),
+        "polytropic_efficiency": output(
+            "Polytropic efficiency: as given, or the one that gives the same outlet temperature. [-]", "-"),
+        "power": output("Shaft power, positive for both machines (absorbed or delivered). [W]", "W"),
+    },
+    name="SplitOutput",
+)
+
+EFFICIENCY = (
+    Mode("Polytropic", "polytropic_efficiency", required=("polytropic_efficiency",)),
+    Mode("Isentropic", "stage_isentropic_efficiency", required=("stage_isentropic_efficiency",)),
+)
+COUNT = (
+    Mode("Stages", "stages", required=("stages",), optional=("blade_speed",)),
+    Mode("Loading", "max_loading_coefficient and blade_speed", required=("max_loading_coefficient", "blade_speed")),
+    Mode("StagePressureRatio", "max_stage_pressure_ratio", required=("max_stage_pressure_ratio",),
+         optional=("blade_speed",)),
+    Mode("WeightCount", "one weight per stage (the count of weights is the stage count)", required=(),
+         optional=("blade_speed",), when={"rule": ("weights",)}),
+)
+RULE = (
+    Mode("Rule", "rule equal_work or equal_pressure_ratio", required=(),
+         when={"rule": ("equal_work", "equal_pressure_ratio")}),
+    Mode("Weights", "rule weights and weights", required=("weights",), when={"rule": ("weights",)}),
+)
+
+
+def _compute(mode: Mode, options: dict, inputs: dict):
+    cp, gamma = gas.gas_properties(options["gas"], inputs.get("cp"), inputs.get("gamma"))
+    named = ("polytropic_efficiency", "stage_isentropic_efficiency", "stages", "max_loading_coefficient",
+             "max_stage_pressure_ratio", "blade_speed", "weights", "mass_flow")
+    given = {name: inputs[name] for name in named if inputs.get(name) is not None}
+    if mode.includes("WeightCount"):
+        given["stages"] = inputs["weights"].shape[-1]
+    return split.evaluate_stage_split(
+        options["machine"], options["rule"], inputs["pressure_ratio"], inputs["total_temperature"],
+        inputs["total_pressure"], cp, gamma, **given,
+    )
+
+
+CALCULATION = Calculation(
+    name="stage-split",
+    summary="Share an overall pressure ratio between stages",
+    description=(
+        "Splits an overall pressure ratio between stages of a compressor or turbine with a perfect gas: the "
+        "stage count given or the fewest that keep every stage within a loading or stage pressure ratio limit; "
+        "equal work, equal pressure ratio or weighted work shares; a polytropic efficiency (closed form) or a "
+        "stage isentropic efficiency (solved with scipy to a relative tolerance of 1e-12). Per-stage outputs are "
+        "lists, front to rear. Compressor stage: T0 ratio = PR^((gamma-1)/(gamma eta_p)); turbine stage: "
+        "T0 ratio = ER^(-eta_p (gamma-1)/gamma). One case or rows (no columns: per-stage lists vary in length)."
+    ),
+    schema=SplitInput,
+    outputs=SplitOutput,
+    modes=combine_modes(EFFICIENCY, COUNT, RULE),
+    compute=_compute,
+    columns=False,
+)
