@@ -11,7 +11,7 @@ import orjson
 from flask import Blueprint, Flask, Response, current_app, request
 
 from service import __version__
-from service.api import jsonparse, observability
+from service.api import jsonparse, jsonwrite, observability
 from service.api.calculation import Calculation, run_calculation, run_drawing
 from service.api.problems import MALFORMED, TOO_LARGE, Problem, register_error_handlers
 from service.api.registry import CALCULATIONS
@@ -112,7 +112,7 @@ def _prefers_svg() -> bool:
 
 
 def _json(body) -> Response:
-    return Response(orjson.dumps(body, option=orjson.OPT_SERIALIZE_NUMPY), mimetype="application/json")
+    return jsonwrite.response(body)
 
 
 def _reject_duplicate_keys(pairs):

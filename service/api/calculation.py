@@ -11,6 +11,8 @@ from __future__ import annotations
 
 import math
 from collections.abc import Callable, Mapping
+from itertools import chain
+from operator import itemgetter
 from dataclasses import dataclass, field
 from typing import Any
 
@@ -378,16 +380,9 @@ def _rows_groups(calculation: Calculation, payload: dict, max_cases: int):
     if extra:
         raise invalid_input(extra)
 
-    # Rows that name the same fields (and lists of the same length) load as one column block.
-    by_keys: dict[tuple, list[int]] = {}
-    for i, case in enumerate(cases):
-        key = tuple(sorted((name, len(value) if isinstance(value, list) else -1) for name, value in case.items()))
-        by_keys.setdefault(key, []).append(i)
-
     groups, errors = [], []
-    for key, rows in by_keys.items():
-        names = [name for name, _ in key]
-        raw = {name: [cases[i][name] for i in rows] for name in names}
+    for rows, raw in _row_blocks(cases):
+        names = list(raw)
         index = np.asarray(rows)
 
         def pointer(f, rest, rows=rows):
@@ -403,6 +398,44 @@ def _rows_groups(calculation: Calculation, payload: dict, max_cases: int):
         errors.extend(group_errors)
         groups.append(_Group(data, frozenset(names), index, pointer, case_pointers))
     return groups, len(cases), errors
+
+
+def _row_blocks(cases: list[dict]) -> list[tuple[list[int], dict[str, list]]]:
+    """The rows as blocks of columns: rows that name the same fields (and give lists of the same
+    lengths) form one block, as ``(positions, {field: values})`` with the fields sorted by name.
+
+    The blocks of keying every row by its sorted (field, list length) pairs, found with a few
+    passes at C speed (key order, name sort per distinct order, one gather per field) rather than
+    a sort and a key per row.
+    """
+    orders = list(map(tuple, cases))
+    if orders.count(orders[0]) == len(orders):
+        by_order = {orders[0]: range(len(cases))}
+    else:
+        by_order = {}
+        for i, order in enumerate(orders):
+            by_order.setdefault(order, []).append(i)
+    by_names: dict[tuple, list] = {}
+    for order, rows in by_order.items():
+        by_names.setdefault(tuple(sorted(order)), []).append(rows)
+    blocks = []
+    for names, parts in by_names.items():
+        rows = list(parts[0]) if len(parts) == 1 else sorted(chain.from_iterable(parts))
+        block = cases if len(rows) == len(cases) else [cases[i] for i in rows]
+        columns = {name: list(map(itemgetter(name), block)) for name in names}
+        # A field given as lists splits the block by list length (one case's stages each).
+        listed = [name for name, column in columns.items() if list in set(map(type, column))]
+        if not listed:
+            blocks.append((rows, columns))
+            continue
+        lengths = list(zip(*([len(v) if isinstance(v, list) else -1 for v in columns[name]] for name in listed)))
+        by_length: dict[tuple, list[int]] = {}
+        for position, key in enumerate(lengths):
+            by_length.setdefault(key, []).append(position)
+        for positions in by_length.values():
+            blocks.append(([rows[p] for p in positions],
+                           {name: [column[p] for p in positions] for name, column in columns.items()}))
+    return blocks
 
 
 def _too_many(size: int, max_cases: int) -> Problem:
@@ -534,12 +567,11 @@ _STATUS_OBJECTS = np.array([*STATUSES, None], dtype=object)
 def _status_objects(status: np.ndarray, failed: np.ndarray) -> np.ndarray:
     """The statuses as an object array of the shared status strings, None where a case failed:
     a lookup into :data:`_STATUS_OBJECTS` rather than one new string per case."""
-    code = np.full(len(status), -1, dtype=np.intp)
-    for k, name in enumerate(STATUSES):
-        code[status == name] = k
-    code[failed] = len(STATUSES)
-    if (code < 0).any():  # a status outside STATUSES: keep it as it is
+    matches = [(status == name).view(np.uint8) for name in STATUSES]
+    if not (sum(matches) == 1).all():  # a status outside STATUSES: keep it as it is
         return np.where(failed, None, status.astype(object))
+    code = sum(k * match for k, match in enumerate(matches))
+    code[failed] = len(STATUSES)
     return _STATUS_OBJECTS[code]
 
 

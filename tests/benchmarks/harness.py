@@ -197,7 +197,7 @@ class PeakMemory:
 
     def __init__(self, pids: list[int]):
         self.pids = pids
-        self.sampled = 0
+        self.sampled = self.before = 0
         self._stop = threading.Event()
         self._thread = threading.Thread(target=self._sample, daemon=True)
 
@@ -207,6 +207,7 @@ class PeakMemory:
                 self.sampled = max(self.sampled, (_status_kb(pid, "VmRSS:") or 0) * 1024)
 
     def __enter__(self) -> PeakMemory:
+        self.before = max((_status_kb(pid, "VmRSS:") or 0) * 1024 for pid in self.pids)
         for pid in self.pids:
             try:
                 Path(f"/proc/{pid}/clear_refs").write_text("5")
