@@ -98,7 +98,7 @@ def _calculation_view(calculation: Calculation):
             svg = run_drawing(calculation, read_json(), current_app.config["MAX_CASES"])
             observability.record_cases(1, {})
             return Response(svg, mimetype=SVG)
-        body, size = run_calculation(calculation, read_json(), current_app.config["MAX_CASES"])
+        body, size = run_calculation(calculation, read_json(), current_app.config["MAX_CASES"], stream=True)
         observability.record_cases(size, body)
         return _json(body)
 

@@ -17,6 +17,7 @@ from dataclasses import dataclass, field
 from typing import Any
 
 import numpy as np
+import orjson
 from marshmallow import Schema, ValidationError, missing
 
 from service.api.fields import CaseSchema, Option, Quantity, QuantityList
@@ -179,8 +180,12 @@ class _Outcome:
                 for i, k in zip(self.index[failed].tolist(), self.reason[failed].tolist(), strict=True)]
 
 
-def run_calculation(calculation: Calculation, payload: Any, max_cases: int):
+def run_calculation(calculation: Calculation, payload: Any, max_cases: int, stream: bool = False):
     """Validate, compute and lay out the response body of one request.
+
+    With ``stream``, the ``results`` of a rows answer may be a :class:`RowsText`, which
+    :mod:`service.api.jsonwrite` writes piece by piece (without a dict per case); otherwise the
+    body is plain data that ``orjson.dumps(body, option=OPT_SERIALIZE_NUMPY)`` writes.
 
     Returns
     -------
@@ -227,7 +232,9 @@ def run_calculation(calculation: Calculation, payload: Any, max_cases: int):
     if len(outcomes) > 1:
         case_errors.sort(key=lambda e: e["index"])
     if shape == "rows":
-        body = {"results": _rows_body(calculation, outcomes, size), "errors": case_errors}
+        results = (RowsText(calculation, outcomes, size) if stream and RowsText.takes(outcomes)
+                   else _rows_body(calculation, outcomes, size))
+        body = {"results": results, "errors": case_errors}
     else:
         body = {"columns": _columns_body(calculation, outcomes, size), "errors": case_errors}
     return body, size
@@ -462,6 +469,10 @@ def _split_by_options(calculation: Calculation, group: _Group):
     if not per_case:
         yield np.arange(size), fixed, group.data
         return
+    if all((v == v[0]).all() for v in per_case.values()):  # one value for every case: no sort needed
+        options = {**fixed, **{name: str(v[0]) for name, v in per_case.items()}}
+        yield np.arange(size), options, {**group.data, **options}
+        return
     combined = np.stack([np.broadcast_to(v, (size,)) for v in per_case.values()], axis=1)
     keys, inverse = np.unique(combined, axis=0, return_inverse=True)
     for code, key in enumerate(keys):
@@ -690,6 +701,101 @@ def _rows_body(calculation: Calculation, outcomes: list[_Outcome], size: int) ->
             for j, i in enumerate(outcome.index.tolist()):
                 results[i] = _case_body(calculation, outcome, j)
     return results
+
+
+class RowsText:
+    """The ``results`` of a rows answer, written as JSON text a slice of rows at a time.
+
+    The same bytes as ``orjson.dumps(_rows_body(...))``, without a dict per case: each column
+    of a slice is written by orjson as a whole and split into its numbers, and each case's
+    object is one ``%`` substitution into a text made once per outcome. Only for outcomes whose
+    outputs and checks are one number per case (see :meth:`takes`).
+    """
+
+    ROWS_PER_PIECE = 2_000
+
+    def __init__(self, calculation: Calculation, outcomes: list[_Outcome], size: int):
+        self.calculation, self.outcomes, self.size = calculation, outcomes, size
+        self._templates: dict[int, bytes] = {}
+
+    @staticmethod
+    def takes(outcomes: list[_Outcome]) -> bool:
+        return all(o.values or o.checks for o in outcomes) and all(
+            a.ndim == 1 for o in outcomes for a in o.values.values()) and all(
+            c["value"].ndim == 1 for o in outcomes for c in o.checks.values()) and all(
+            len(o.index) < 2 or bool((np.diff(o.index) > 0).all()) for o in outcomes)
+
+    def __len__(self) -> int:
+        return self.size
+
+    def json_pieces(self):
+        for start in range(0, self.size, self.ROWS_PER_PIECE):
+            stop = min(start + self.ROWS_PER_PIECE, self.size)
+            yield (b"," if start else b"[") + b",".join(self._rows(start, stop))
+        yield b"]"
+
+    def _rows(self, start: int, stop: int) -> list[bytes]:
+        if len(self.outcomes) == 1:  # one outcome holds every case, in order
+            return self._outcome_rows(self.outcomes[0], start, stop)
+        slots: list = [None] * (stop - start)
+        for outcome in self.outcomes:
+            lo, hi = np.searchsorted(outcome.index, (start, stop)).tolist()
+            if lo < hi:
+                for position, text in zip((outcome.index[lo:hi] - start).tolist(),
+                                          self._outcome_rows(outcome, lo, hi), strict=True):
+                    slots[position] = text
+        return slots
+
+    def _outcome_rows(self, outcome: _Outcome, lo: int, hi: int) -> list[bytes]:
+        integer = self.calculation._integer_outputs
+        tokens = [_int_tokens(a[lo:hi]) if name in integer else _number_tokens(a[lo:hi])
+                  for name, a in outcome.values.items()]
+        for check in outcome.checks.values():
+            tokens.append(_number_tokens(check["value"][lo:hi]))
+            statuses = check["status"][lo:hi].tolist()
+            try:
+                tokens.append(list(map(_STATUS_TOKENS.__getitem__, statuses)))
+            except (KeyError, TypeError):
+                tokens.append([orjson.dumps(status) for status in statuses])
+        template = self._templates.get(id(outcome))
+        if template is None:
+            template = self._templates[id(outcome)] = _row_template(outcome)
+        return list(map(template.__mod__, zip(*tokens, strict=True)))
+
+
+_STATUS_TOKENS = {**{status: orjson.dumps(status) for status in STATUSES}, None: b"null"}
+
+
+def _number_tokens(array: np.ndarray) -> list[bytes]:
+    """Each number of a 1-D float array as orjson writes it (NaN as null)."""
+    return orjson.dumps(np.ascontiguousarray(array), option=orjson.OPT_SERIALIZE_NUMPY)[1:-1].split(b",")
+
+
+def _int_tokens(array: np.ndarray) -> list[bytes]:
+    """Each number of a float array as a whole number (``int(value)``), null where not finite."""
+    if np.isfinite(array).all() and (np.abs(array) < 2.0**63).all():
+        return orjson.dumps(array.astype(np.int64), option=orjson.OPT_SERIALIZE_NUMPY)[1:-1].split(b",")
+    return orjson.dumps([int(v) if math.isfinite(v) else None for v in array.tolist()])[1:-1].split(b",")
+
+
+def _row_template(outcome: _Outcome) -> bytes:
+    """One case's JSON object with ``%b`` where its numbers and statuses go, in the order of
+    :func:`_case_body`: the outputs, then each check's value, limit, fail_limit, comparison,
+    status and basis."""
+    option = orjson.OPT_SERIALIZE_NUMPY
+    segments, text = [], b"{"
+    for name in outcome.values:
+        segments.append(text + (b"," if segments else b"") + orjson.dumps(name) + b":")
+        text = b""
+    text += (b"," if segments else b"") + b'"checks":{'
+    for k, (name, check) in enumerate(outcome.checks.items()):
+        segments.append(text + (b"," if k else b"") + orjson.dumps(name) + b':{"value":')
+        segments.append(b',"limit":' + orjson.dumps(check["limit"], option=option)
+                        + b',"fail_limit":' + orjson.dumps(check["fail_limit"], option=option)
+                        + b',"comparison":' + orjson.dumps(check["comparison"], option=option) + b',"status":')
+        text = b',"basis":' + orjson.dumps(check["basis"], option=option) + b"}"
+    segments.append(text + b"}}")
+    return b"%b".join(segment.replace(b"%", b"%%") for segment in segments)
 
 
 def _check_rows(check: dict) -> list[dict]:

@@ -29,14 +29,17 @@ def response(body: Any, mimetype: str = "application/json") -> Response:
     """``body`` as a JSON response; a large batch answer streamed in pieces."""
     if _cases(body) >= STREAM_CASES:
         return Response(pieces(body), mimetype=mimetype)
+    if isinstance(body, dict) and hasattr(body.get("results"), "json_pieces"):
+        return Response(b"".join(pieces(body)), mimetype=mimetype)
     return Response(orjson.dumps(body, option=OPTION), mimetype=mimetype)
 
 
 def _cases(body: Any) -> int:
     if not isinstance(body, dict):
         return 0
-    if isinstance(body.get("results"), list):
-        return len(body["results"])
+    results = body.get("results")
+    if isinstance(results, list) or hasattr(results, "json_pieces"):
+        return len(results)
     columns = body.get("columns")
     if isinstance(columns, dict):
         return max((len(v) for v in columns.values() if isinstance(v, np.ndarray | list)), default=0)
@@ -67,6 +70,8 @@ def _parts(value: Any) -> Iterator[bytes]:
             yield from _parts(item)
             separator = b","
         yield b"}" if separator == b"," else b"{}"
+    elif hasattr(value, "json_pieces"):  # text that writes itself in pieces (rows of a batch)
+        yield from value.json_pieces()
     elif type(value) is list and len(value) > ROWS_PER_PIECE:
         separator = b"["
         for start in range(0, len(value), ROWS_PER_PIECE):
