@@ -862,7 +862,8 @@ def _rule_constants(check: dict) -> dict:
     for key in ("limit", "fail_limit", "comparison", "basis"):
         value = check[key]
         if isinstance(value, np.ndarray):
-            distinct = {v for v in value.tolist() if v is not None}
+            # None is a value here too (a rule without a fail_limit), not a missing one.
+            distinct = set(value.tolist())
             value = distinct.pop() if len(distinct) == 1 else _nan_to_none(value.tolist())
         constants[key] = value
     return constants
