@@ -41,9 +41,7 @@ def may_repeat_keys(body: bytes, value: Any) -> bool:
     objects as there are braces: a columns batch is settled after two objects, without a look
     at its lists of numbers.
     """
-    text = np.frombuffer(body, dtype=np.uint8)  # counted by numpy: a few times faster than bytes.count
-    colons = int(np.count_nonzero(text == ord(":")))
-    braces = int(np.count_nonzero(text == ord("{")))
+    colons, braces = _count(body, ord(":")), _count(body, ord("{"))
     found = pairs = 0
     if type(value) is dict:
         found, pairs = 1, len(value)
@@ -70,3 +68,10 @@ def may_repeat_keys(body: bytes, value: Any) -> bool:
                 elif type(child) is list:
                     pending.append(child)
     return pairs != colons
+
+
+def _count(body: bytes, byte: int, block: int = 1 << 20) -> int:
+    """How many times ``byte`` occurs in ``body``: numpy compares a block at a time (the block's
+    mask stays in cache), a few times faster than ``bytes.count``."""
+    text = np.frombuffer(body, dtype=np.uint8)
+    return sum(int(np.count_nonzero(text[start:start + block] == byte)) for start in range(0, len(text), block))
