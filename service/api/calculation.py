@@ -382,8 +382,9 @@ def _rows_groups(calculation: Calculation, payload: dict, max_cases: int):
         raise invalid_input([("/cases", "A batch must hold at least one case.")])
     if len(cases) > max_cases:
         raise _too_many(len(cases), max_cases)
-    extra += [(f"/cases/{i}", "Each case must be a JSON object.") for i, case in enumerate(cases)
-              if not isinstance(case, dict)]
+    if set(map(type, cases)) != {dict}:
+        extra += [(f"/cases/{i}", "Each case must be a JSON object.") for i, case in enumerate(cases)
+                  if not isinstance(case, dict)]
     if extra:
         raise invalid_input(extra)
 
@@ -712,7 +713,7 @@ class RowsText:
     outputs and checks are one number per case (see :meth:`takes`).
     """
 
-    ROWS_PER_PIECE = 2_000
+    ROWS_PER_PIECE = 1_000
 
     def __init__(self, calculation: Calculation, outcomes: list[_Outcome], size: int):
         self.calculation, self.outcomes, self.size = calculation, outcomes, size
@@ -729,14 +730,36 @@ class RowsText:
         return self.size
 
     def json_pieces(self):
+        if len(self.outcomes) != 1:
+            yield from self._pieces_in_order()
+            return
+        # One outcome holds every case, in order: each slice is one join of its constant texts
+        # and its numbers, without a text per case.
+        outcome = self.outcomes[0]
+        segments = _row_segments(outcome)
+        # The text that closes one case and opens the next, then the texts between the numbers.
+        cycle_of = [segments[-1] + b"," + segments[0], *segments[1:-1]]
+        opening = len(segments[-1]) + 1
+        for start in range(0, self.size, self.ROWS_PER_PIECE):
+            stop = min(start + self.ROWS_PER_PIECE, self.size)
+            tokens = self._tokens(outcome, start, stop)
+            count, width = stop - start, 2 * len(cycle_of)
+            # Every case's texts and numbers in one list, filled a field at a time by slice.
+            parts: list = [None] * (count * width)
+            for k, (segment, numbers) in enumerate(zip(cycle_of, tokens, strict=True)):
+                parts[2 * k::width] = [segment] * count
+                parts[2 * k + 1::width] = numbers
+            text = b"".join(parts)
+            yield (b"[" if start == 0 else b",") + text[opening:] + segments[-1]
+        yield b"]"
+
+    def _pieces_in_order(self):
         for start in range(0, self.size, self.ROWS_PER_PIECE):
             stop = min(start + self.ROWS_PER_PIECE, self.size)
             yield (b"," if start else b"[") + b",".join(self._rows(start, stop))
         yield b"]"
 
     def _rows(self, start: int, stop: int) -> list[bytes]:
-        if len(self.outcomes) == 1:  # one outcome holds every case, in order
-            return self._outcome_rows(self.outcomes[0], start, stop)
         slots: list = [None] * (stop - start)
         for outcome in self.outcomes:
             lo, hi = np.searchsorted(outcome.index, (start, stop)).tolist()
@@ -747,6 +770,16 @@ class RowsText:
         return slots
 
     def _outcome_rows(self, outcome: _Outcome, lo: int, hi: int) -> list[bytes]:
+        tokens = self._tokens(outcome, lo, hi)
+        template = self._templates.get(id(outcome))
+        if template is None:
+            template = self._templates[id(outcome)] = b"%b".join(
+                segment.replace(b"%", b"%%") for segment in _row_segments(outcome))
+        return list(map(template.__mod__, zip(*tokens, strict=True)))
+
+    def _tokens(self, outcome: _Outcome, lo: int, hi: int) -> list[list[bytes]]:
+        """Cases ``lo`` to ``hi`` of the outcome: per output, then per check value and status, the
+        JSON text of each case's number."""
         integer = self.calculation._integer_outputs
         tokens = [_int_tokens(a[lo:hi]) if name in integer else _number_tokens(a[lo:hi])
                   for name, a in outcome.values.items()]
@@ -757,10 +790,7 @@ class RowsText:
                 tokens.append(list(map(_STATUS_TOKENS.__getitem__, statuses)))
             except (KeyError, TypeError):
                 tokens.append([orjson.dumps(status) for status in statuses])
-        template = self._templates.get(id(outcome))
-        if template is None:
-            template = self._templates[id(outcome)] = _row_template(outcome)
-        return list(map(template.__mod__, zip(*tokens, strict=True)))
+        return tokens
 
 
 _STATUS_TOKENS = {**{status: orjson.dumps(status) for status in STATUSES}, None: b"null"}
@@ -778,10 +808,10 @@ def _int_tokens(array: np.ndarray) -> list[bytes]:
     return orjson.dumps([int(v) if math.isfinite(v) else None for v in array.tolist()])[1:-1].split(b",")
 
 
-def _row_template(outcome: _Outcome) -> bytes:
-    """One case's JSON object with ``%b`` where its numbers and statuses go, in the order of
-    :func:`_case_body`: the outputs, then each check's value, limit, fail_limit, comparison,
-    status and basis."""
+def _row_segments(outcome: _Outcome) -> list[bytes]:
+    """One case's JSON object as the constant texts between its numbers and statuses, in the
+    order of :func:`_case_body`: the outputs, then each check's value, limit, fail_limit,
+    comparison, status and basis."""
     option = orjson.OPT_SERIALIZE_NUMPY
     segments, text = [], b"{"
     for name in outcome.values:
@@ -795,7 +825,7 @@ def _row_template(outcome: _Outcome) -> bytes:
                         + b',"comparison":' + orjson.dumps(check["comparison"], option=option) + b',"status":')
         text = b',"basis":' + orjson.dumps(check["basis"], option=option) + b"}"
     segments.append(text + b"}}")
-    return b"%b".join(segment.replace(b"%", b"%%") for segment in segments)
+    return segments
 
 
 def _check_rows(check: dict) -> list[dict]:
