@@ -26,6 +26,8 @@ from service.core.cases import CaseResults
 from service.core.checks import STATUSES
 
 NOT_FINITE = "the result is not a finite number (overflow): check the magnitudes of the inputs"
+#: At most this many resolved input forms are remembered per calculation.
+_MAX_RESOLVED = 1024
 
 
 @dataclass(frozen=True)
@@ -130,6 +132,7 @@ class Calculation:
             "_allowed": {mode.name: frozenset((set(case_schema.fields) - mode_fields) | set(mode.required)
                                               | set(mode.optional)) for mode in self.modes},
             "_plans": {id(case_schema): _load_plan(case_schema), id(columns_schema): _load_plan(columns_schema)},
+            "_resolved": {},  # (fields given, option values) -> the one mode they resolve to
         }
         for name, value in built.items():
             object.__setattr__(self, name, value)
@@ -487,6 +490,13 @@ def _split_by_options(calculation: Calculation, group: _Group):
 
 
 def _resolve_mode(calculation: Calculation, group: _Group, options: dict, positions: np.ndarray):
+    # A resolution depends only on the fields given and the option values: each one that
+    # succeeds is kept, so that a case of a known form is not scored against every mode again.
+    key = (group.present, tuple(sorted(options.items()))) if all(
+        type(v) is str for v in options.values()) else None
+    known = calculation._resolved.get(key) if key is not None else None
+    if known is not None:
+        return known, []
     present = group.present
     errors = []
     for fields in calculation.together:
@@ -502,6 +512,8 @@ def _resolve_mode(calculation: Calculation, group: _Group, options: dict, positi
         scored.append((len(missing) + len(extra), mode, missing, extra))
     matches = [mode for score, mode, _, _ in scored if score == 0]
     if len(matches) == 1 and not errors:
+        if key is not None and len(calculation._resolved) < _MAX_RESOLVED:
+            calculation._resolved[key] = matches[0]
         return matches[0], []
     if len(matches) == 1:
         return None, errors
@@ -739,19 +751,22 @@ class RowsText:
         segments = _row_segments(outcome)
         # The text that closes one case and opens the next, then the texts between the numbers.
         cycle_of = [segments[-1] + b"," + segments[0], *segments[1:-1]]
-        opening = len(segments[-1]) + 1
+        width = 2 * len(cycle_of)
+        repeated: dict[int, list[list[bytes]]] = {}
         for start in range(0, self.size, self.ROWS_PER_PIECE):
             stop = min(start + self.ROWS_PER_PIECE, self.size)
-            tokens = self._tokens(outcome, start, stop)
-            count, width = stop - start, 2 * len(cycle_of)
+            count = stop - start
+            if count not in repeated:
+                repeated[count] = [[segment] * count for segment in cycle_of]
             # Every case's texts and numbers in one list, filled a field at a time by slice.
-            parts: list = [None] * (count * width)
-            for k, (segment, numbers) in enumerate(zip(cycle_of, tokens, strict=True)):
-                parts[2 * k::width] = [segment] * count
+            parts: list = [None] * (count * width + 1)
+            for k, (texts, numbers) in enumerate(zip(repeated[count], self._tokens(outcome, start, stop),
+                                                     strict=True)):
+                parts[2 * k:-1:width] = texts
                 parts[2 * k + 1::width] = numbers
-            text = b"".join(parts)
-            yield (b"[" if start == 0 else b",") + text[opening:] + segments[-1]
-        yield b"]"
+            parts[0] = (b"[" if start == 0 else b",") + segments[0]
+            parts[-1] = segments[-1] + (b"]" if stop == self.size else b"")
+            yield b"".join(parts)
 
     def _pieces_in_order(self):
         for start in range(0, self.size, self.ROWS_PER_PIECE):

@@ -73,5 +73,7 @@ def may_repeat_keys(body: bytes, value: Any) -> bool:
 def _count(body: bytes, byte: int, block: int = 1 << 20) -> int:
     """How many times ``byte`` occurs in ``body``: numpy compares a block at a time (the block's
     mask stays in cache), a few times faster than ``bytes.count``."""
+    if len(body) <= block:  # one case: bytes.count costs less than setting numpy up
+        return body.count(bytes((byte,)))
     text = np.frombuffer(body, dtype=np.uint8)
     return sum(int(np.count_nonzero(text[start:start + block] == byte)) for start in range(0, len(text), block))
