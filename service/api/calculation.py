@@ -331,7 +331,9 @@ def _flatten(messages, pointer, path=()):
             yield from _flatten(value, pointer, path + ((key,) if key is not None else ()))
     else:
         for message in messages:
-            yield pointer(path[0] if path else "", path[1:]), message
+            pointers = pointer(path[0] if path else "", path[1:])
+            for one in [pointers] if isinstance(pointers, str) else pointers:
+                yield one, message
 
 
 def _single_group(calculation: Calculation, payload: dict):
@@ -342,7 +344,8 @@ def _single_group(calculation: Calculation, payload: dict):
 
 
 def _columns_groups(calculation: Calculation, payload: dict, max_cases: int):
-    extra = [( _join("", key), "Unknown field: give one of 'cases' or 'columns'.") for key in payload if key != "columns"]
+    extra = [(_join("", key), "Unknown field: give one of 'cases' or 'columns'.")
+             for key in payload if key != "columns"]
     columns = payload["columns"]
     if not isinstance(columns, dict):
         raise invalid_input([("/columns", "Must be an object of field names to values or lists of values.")])
@@ -399,7 +402,8 @@ def _rows_groups(calculation: Calculation, payload: dict, max_cases: int):
         def pointer(f, rest, rows=rows):
             if rest and isinstance(rest[0], int):
                 return _join(f"/cases/{rows[rest[0]]}", f, *rest[1:])
-            return _join(f"/cases/{rows[0]}", f, *rest)
+            # A message about the whole column block concerns every row in it.
+            return [_join(f"/cases/{row}", f, *rest) for row in rows[: MAX_LISTED_ERRORS + 1]]
 
         def case_pointers(f, positions, rows=rows):
             return [_join(f"/cases/{rows[p]}", f) for p in positions[: MAX_LISTED_ERRORS + 1]]
@@ -504,6 +508,8 @@ def _resolve_mode(calculation: Calculation, group: _Group, options: dict, positi
         if given and len(given) < len(fields):
             errors += [(p, f"Required together with {', '.join(given)}.")
                        for f in fields if f not in present for p in group.case_pointers(f, positions)]
+    if any(name not in options for mode in calculation.modes for name in mode.when):
+        return None, errors  # an option is missing or invalid: its own error says so, modes cannot be judged
     candidates = [m for m in calculation.modes if m.applies(options)]
     scored = []
     for mode in candidates:
@@ -573,9 +579,11 @@ def _outcome(result: CaseResults, index: np.ndarray) -> _Outcome:
     for name, check in result.checks.items():
         value = np.ascontiguousarray(check.value, dtype=float)
         status = np.asarray(check.status)
+        per_case = failed.reshape((-1,) + (1,) * (value.ndim - 1))
         checks[name] = {
-            "value": np.where(failed, np.nan, value) if value.ndim == 1 and any_failed else value,
-            "status": _status_objects(status, failed) if status.ndim == 1 else status.astype(object),
+            "value": np.where(per_case, np.nan, value) if any_failed else value,
+            "status": (_status_objects(status, failed) if status.ndim == 1 else
+                       np.where(failed.reshape((-1,) + (1,) * (status.ndim - 1)), None, status.astype(object))),
             "limit": check.limit,
             "fail_limit": check.fail_limit,
             "comparison": check.comparison,
@@ -622,20 +630,23 @@ def _scalar(calculation: Calculation, name: str, value):
 
 
 def _check_entry(check: dict, i: int) -> dict:
-    if check["value"].ndim == 1:
+    if check["value"].ndim == 1:  # a Python float straight away, rather than through a numpy scalar
         value = check["value"].item(i)
         return {"value": value if math.isfinite(value) else None, "limit": check["limit"],
                 "fail_limit": check["fail_limit"], "comparison": check["comparison"], "status": check["status"][i],
                 "basis": check["basis"]}
-    value = check["value"][i]
+    value, status = check["value"][i], check["status"][i]
+    if isinstance(value, np.ndarray):  # one value per stage or row, NaN-padded; all NaN where the case failed
+        finite = np.isfinite(value)
+        value, status = (value[finite].tolist(), status[finite].tolist()) if finite.any() else (None, None)
+    else:
+        value = float(value) if np.isfinite(value) else None
     return {
-        "value": (value[np.isfinite(value)].tolist() if isinstance(value, np.ndarray)
-                  else (float(value) if np.isfinite(value) else None)),
+        "value": value,
         "limit": check["limit"],
         "fail_limit": check["fail_limit"],
         "comparison": check["comparison"],
-        "status": (check["status"][i].tolist()[: len(value[np.isfinite(value)])]
-                   if isinstance(value, np.ndarray) else check["status"][i]),
+        "status": status,
         "basis": check["basis"],
     }
 

@@ -41,11 +41,25 @@ class GasInputs(CaseSchema):
                      minimum=1.0, exclusive_minimum=True, maximum=5.0 / 3.0, load_default=None)
 
 
-class InletStateInputs(CaseSchema):
-    """The total (stagnation) state at the inlet of the stage or machine."""
+def _inlet_state(required: bool) -> dict:
+    return {
+        "total_temperature": positive("Total (stagnation) temperature at the inlet (station 1). [K]", "K",
+                                      required=required),
+        "total_pressure": positive("Total (stagnation) pressure at the inlet (station 1). [Pa]", "Pa",
+                                   required=required),
+    }
 
-    total_temperature = positive("Total (stagnation) temperature at the inlet (station 1). [K]", "K")
-    total_pressure = positive("Total (stagnation) pressure at the inlet (station 1). [Pa]", "Pa")
+
+class InletStateInputs(CaseSchema):
+    """The total (stagnation) state at the inlet of the stage, when the caller wants states."""
+
+    locals().update(_inlet_state(required=False))
+
+
+class RequiredInletStateInputs(CaseSchema):
+    """The total (stagnation) state at the inlet of the stage or machine, always needed."""
+
+    locals().update(_inlet_state(required=True))
 
 
 def output(description: str, unit: str) -> fields.Float:

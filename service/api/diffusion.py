@@ -19,10 +19,12 @@ class DiffusionInput(CaseSchema):
     span_position = Option("Where along the span the row is judged: `hub`, `mean` or `tip`; the rotor tip is held "
                            "to a lower diffusion-factor limit (NASA SP-36).", diffusion.SPAN_POSITIONS,
                            load_default="mean")
-    axial_velocity = positive("Axial velocity at the row inlet. [m s^-1]", "m s^-1")
+    axial_velocity = positive("Axial velocity at the row inlet. [m s^-1]", "m s^-1", required=True)
     outlet_axial_velocity = positive("Axial velocity at the row outlet (default: the inlet's). [m s^-1]", "m s^-1")
-    inlet_angle = angle("Inlet flow angle in the row's own frame (relative for a rotor, absolute for a stator).")
-    outlet_angle = angle("Outlet flow angle in the row's own frame (relative for a rotor, absolute for a stator).")
+    inlet_angle = angle("Inlet flow angle in the row's own frame (relative for a rotor, absolute for a stator).",
+                        required=True)
+    outlet_angle = angle("Outlet flow angle in the row's own frame (relative for a rotor, absolute for a stator).",
+                         required=True)
     inlet_radius = positive("Mean radius at the row inlet, for a row whose radius changes (NASA SP-36 form). [m]",
                             "m")
     outlet_radius = positive("Mean radius at the row outlet (with inlet_radius). [m]", "m")

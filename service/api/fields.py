@@ -21,7 +21,6 @@ def _is_number(value) -> bool:
     return type(value) in _NUMBER_TYPES
 
 
-
 class CaseSchema(Schema):
     """Base of every calculation's input schema.
 
@@ -89,6 +88,9 @@ class Quantity(_CaseField):
         **kwargs,
     ):
         metadata = {"description": description, "x-unit": unit, **kwargs.pop("metadata", {})}
+        # A number is never null, even where the field is optional (marshmallow would allow null
+        # for a field whose default is None).
+        kwargs.setdefault("allow_none", False)
         super().__init__(metadata=metadata, **kwargs)
         self.unit = unit
         self.minimum = minimum
@@ -137,7 +139,10 @@ class Quantity(_CaseField):
     def _load_one(self, value):
         if not _is_number(value):
             raise ValidationError("Not a number." if not self.integer else "Not a whole number.")
-        number = float(value)
+        try:
+            number = float(value)
+        except OverflowError:  # an integer literal beyond the float range
+            raise ValidationError("Must be a finite number.") from None
         if not self._in_range(number):
             raise ValidationError(self._range_message(number))
         return int(number) if self.integer else number
@@ -147,7 +152,10 @@ class Quantity(_CaseField):
             raise ValidationError(
                 {i: ["Not a number."] for i, v in enumerate(values) if not _is_number(v)}
             )
-        array = np.asarray(values, dtype=float)
+        try:
+            array = np.asarray(values, dtype=float)
+        except OverflowError:  # an integer literal beyond the float range somewhere in the column
+            array = np.asarray([float(v) if abs(v) < 1e308 or isinstance(v, float) else np.inf for v in values])
         bad = self._out_of_range(array)
         if bad.any():
             raise ValidationError({int(i): [self._range_message(array[i])] for i in np.flatnonzero(bad)})

@@ -5,7 +5,15 @@ from __future__ import annotations
 from marshmallow import Schema
 
 from service.api.calculation import Calculation, Mode, combine_modes
-from service.api.common import GasInputs, InletStateInputs, angle, integer_output, machine_field, output, positive
+from service.api.common import (
+    GasInputs,
+    RequiredInletStateInputs,
+    angle,
+    integer_output,
+    machine_field,
+    output,
+    positive,
+)
 from service.api.fields import Option, Quantity, QuantityList, QuantityPerStage
 from service.core import flowpath, gas, split, zweifel
 from service.core import machine as design
@@ -13,14 +21,15 @@ from service.core import machine as design
 EFFICIENCY_LIMITS = {"minimum": 0.0, "maximum": 1.0, "exclusive_minimum": True}
 
 
-class MachineInput(GasInputs, InletStateInputs):
+class MachineInput(GasInputs, RequiredInletStateInputs):
     machine = machine_field(required=True)
-    mass_flow = positive("Mass flow. [kg s^-1]", "kg s^-1")
+    mass_flow = positive("Mass flow. [kg s^-1]", "kg s^-1", required=True)
     pressure_ratio = Quantity("Overall total pressure ratio, above 1: p0_out / p0_in for a compressor, "
-                              "p0_in / p0_out for a turbine. [-]", "-", minimum=1.0, exclusive_minimum=True)
-    shaft_speed = positive("Shaft speed. [rev min^-1]", "rev min^-1")
+                              "p0_in / p0_out for a turbine. [-]", "-", minimum=1.0, exclusive_minimum=True,
+                              required=True)
+    shaft_speed = positive("Shaft speed. [rev min^-1]", "rev min^-1", required=True)
     polytropic_efficiency = Quantity("Polytropic (small-stage) efficiency of every stage. [-]", "-",
-                                     **EFFICIENCY_LIMITS)
+                                     **EFFICIENCY_LIMITS, required=True)
     mean_radius = positive("Mean radius, held constant through the machine. [m]", "m")
     hub_radius = positive("Hub radius, held constant through the machine. [m]", "m")
     tip_radius = positive("Tip (casing) radius, held constant through the machine. [m]", "m")
@@ -37,17 +46,17 @@ class MachineInput(GasInputs, InletStateInputs):
                            "-", minimum=0.0, exclusive_minimum=True)
     flow_coefficient = QuantityPerStage(
         "Flow coefficient V_x / U at each stage's mean radius: one value for every stage or a list, front to "
-        "rear. [-]", "-", minimum=0.0, exclusive_minimum=True)
+        "rear. [-]", "-", minimum=0.0, exclusive_minimum=True, required=True)
     reaction = QuantityPerStage(
         "Reaction of each stage: one value for every stage or a list, front to rear. For a compressor given "
         "inlet_swirl, the first stage's reaction follows from the swirl and replaces the first value. [-]", "-",
-        minimum=-2.0, maximum=3.0)
+        minimum=-2.0, maximum=3.0, required=True)
     inlet_swirl = angle("Absolute flow angle at the machine inlet (station 1). Compressor: sets the first "
                         "stage's reaction (default: the angle follows from it). Turbine: the first nozzle's inlet "
                         "angle (default: the first rotor's exit angle).")
     outlet_swirl = angle("Compressor: absolute flow angle after the last stator (default: the inlet flow angle).")
-    rotor_aspect_ratio = positive("Blade height over axial chord of every rotor row. [-]", "-")
-    stator_aspect_ratio = positive("Blade height over axial chord of every stator row. [-]", "-")
+    rotor_aspect_ratio = positive("Blade height over axial chord of every rotor row. [-]", "-", required=True)
+    stator_aspect_ratio = positive("Blade height over axial chord of every stator row. [-]", "-", required=True)
     zweifel_coefficient = positive("Turbine rows: target Zweifel coefficient, incompressible (default 0.8). [-]", "-",
                                    load_default=zweifel.OPTIMUM_ZWEIFEL_COEFFICIENT)
     target_diffusion_factor = Quantity("Compressor rows: diffusion factor to size every row's solidity for. [-]",

@@ -93,6 +93,9 @@ def register_error_handlers(app: Flask) -> None:
     def _http(error: HTTPException):
         headers = {k: v for k, v in error.get_headers() if k.lower() in ("allow", "www-authenticate")}
         status = error.code or 500
+        if status == 413:  # the same problem type as the service's own size limits
+            return problem_response(Problem(413, "Content Too Large", "The body is over the size limit. Split the "
+                                            "batch.", TOO_LARGE), headers)
         return problem_response(Problem(status, error.name, error.description or error.name), headers)
 
     @app.errorhandler(Exception)

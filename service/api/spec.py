@@ -6,7 +6,7 @@ from apispec import APISpec
 from apispec.ext.marshmallow import MarshmallowPlugin
 
 from service.api.calculation import Calculation, Mode
-from service.api.fields import CaseSchema, Option, Quantity, QuantityList, QuantityPerStage
+from service.api.fields import Option, Quantity, QuantityList, QuantityPerStage
 from service.core.checks import COMPARISONS, STATUSES
 
 TITLE = "Meanline service"
@@ -75,7 +75,8 @@ def _field_components(spec: APISpec, plugin, prefix: str, calculation: Calculati
     shapes = (("", calculation._case_schema), ("Column", calculation._columns_schema))
     for shape, schema in shapes if calculation.columns else shapes[:1]:
         for name, field in schema.fields.items():
-            spec.components.schema(_field_component(prefix, name, shape), component=plugin.converter.field2property(field))
+            spec.components.schema(_field_component(prefix, name, shape),
+                                   component=plugin.converter.field2property(field))
 
 
 def _field_component(prefix: str, name: str, shape: str) -> str:

@@ -5,17 +5,25 @@ from __future__ import annotations
 from marshmallow import Schema
 
 from service.api.calculation import Calculation, Mode, combine_modes
-from service.api.common import GasInputs, InletStateInputs, integer_output, machine_field, output, positive
+from service.api.common import (
+    GasInputs,
+    RequiredInletStateInputs,
+    integer_output,
+    machine_field,
+    output,
+    positive,
+)
 from service.api.fields import Option, Quantity, QuantityList
 from service.core import gas, split
 
 EFFICIENCY_LIMITS = {"minimum": 0.0, "maximum": 1.0, "exclusive_minimum": True}
 
 
-class SplitInput(GasInputs, InletStateInputs):
+class SplitInput(GasInputs, RequiredInletStateInputs):
     machine = machine_field(required=True)
     pressure_ratio = Quantity("Overall total pressure ratio, above 1: p0_out / p0_in for a compressor, "
-                              "p0_in / p0_out for a turbine. [-]", "-", minimum=1.0, exclusive_minimum=True)
+                              "p0_in / p0_out for a turbine. [-]", "-", minimum=1.0, exclusive_minimum=True,
+                              required=True)
     polytropic_efficiency = Quantity("Polytropic (small-stage) efficiency, the same for every stage. [-]", "-",
                                      **EFFICIENCY_LIMITS)
     stage_isentropic_efficiency = Quantity("Isentropic (total-to-total) efficiency of every stage. [-]", "-",

@@ -5,7 +5,15 @@ from __future__ import annotations
 from marshmallow import Schema
 
 from service.api.calculation import Calculation, Mode, combine_modes
-from service.api.common import GasInputs, InletStateInputs, angle, integer_output, machine_field, output, positive
+from service.api.common import (
+    GasInputs,
+    InletStateInputs,
+    angle,
+    integer_output,
+    machine_field,
+    output,
+    positive,
+)
 from service.api.fields import Quantity
 from service.core import diffusion, gas, stage, triangles, zweifel
 
@@ -123,9 +131,11 @@ def _compute(mode: Mode, options: dict, inputs: dict):
     elif mode.includes("Solidities"):
         result = stage.with_diffusion_rows(result, inputs["rotor_solidity"], inputs["stator_solidity"])
     elif mode.includes("BladeCounts"):
-        result = stage.with_diffusion_rows(*(
-            [result] + [diffusion.solidity_from_blade_count(inputs["chord"], inputs["mean_radius"],
-                                                            inputs[f"{row}_blade_count"]) for row in ("rotor", "stator")]))
+        rotor, stator = (
+            diffusion.solidity_from_blade_count(inputs["chord"], inputs["mean_radius"], inputs[f"{row}_blade_count"])
+            for row in ("rotor", "stator")
+        )
+        result = stage.with_diffusion_rows(result, rotor, stator)
     return result
 
 

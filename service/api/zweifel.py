@@ -19,8 +19,10 @@ COMPRESSIBLE_NOTE = (
 
 
 class ZweifelInput(GasInputs):
-    inlet_angle = angle("Inlet flow angle in the row's own frame (absolute for a stator, relative for a rotor).")
-    outlet_angle = angle("Outlet flow angle in the row's own frame (absolute for a stator, relative for a rotor).")
+    inlet_angle = angle("Inlet flow angle in the row's own frame (absolute for a stator, relative for a rotor).",
+                        required=True)
+    outlet_angle = angle("Outlet flow angle in the row's own frame (absolute for a stator, relative for a rotor).",
+                         required=True)
     axial_chord = positive("Axial chord of the row. [m]", "m")
     blade_height = positive("Blade height (span) at the mean radius; with aspect_ratio, replaces axial_chord. [m]",
                             "m")

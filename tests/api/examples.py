@@ -124,6 +124,32 @@ EXAMPLES = {
              "total_pressure": 1e5, "polytropic_efficiency": 0.88, "rule": "weights", "weights": [2, 1]},
         ),
     ),
+    "machine-design": Example(
+        base={"machine": "compressor", "mass_flow": 25.0, "total_temperature": 288.15, "total_pressure": 101325.0,
+              "pressure_ratio": 3.0, "shaft_speed": 12000.0, "polytropic_efficiency": 0.9,
+              "flow_coefficient": 0.5, "reaction": 0.6, "rotor_aspect_ratio": 2.5, "stator_aspect_ratio": 3.0},
+        values={"mean_radius": 0.3, "hub_radius": 0.25, "tip_radius": 0.42, "stages": 3,
+                "max_loading_coefficient": 0.6, "max_stage_pressure_ratio": 2.0, "weights": [1.0, 1.1, 1.0],
+                "target_diffusion_factor": 0.45, "solidity": 1.2},
+        # A flow coefficient of 1.1 at 20,000 rev/min puts the axial velocity near 690 m/s at the
+        # 0.3 m mean radius (V_x = phi * 2 pi r N / 60, derived here), far above the speed of
+        # sound at 288 K: the annulus chokes at station 1.
+        good={"machine": "compressor", "mass_flow": 25.0, "total_temperature": 288.15,
+              "total_pressure": 101325.0, "pressure_ratio": 3.0, "shaft_speed": 12000.0,
+              "polytropic_efficiency": 0.9, "flow_coefficient": 0.5, "reaction": 0.6, "rotor_aspect_ratio": 2.5,
+              "stator_aspect_ratio": 3.0, "mean_radius": 0.3, "stages": 3, "target_diffusion_factor": 0.45},
+        bad={"machine": "compressor", "mass_flow": 25.0, "total_temperature": 288.15,
+             "total_pressure": 101325.0, "pressure_ratio": 3.0, "shaft_speed": 20000.0,
+             "polytropic_efficiency": 0.9, "flow_coefficient": 1.1, "reaction": 0.6, "rotor_aspect_ratio": 2.5,
+             "stator_aspect_ratio": 3.0, "mean_radius": 0.3, "stages": 3, "target_diffusion_factor": 0.45},
+        bad_reason="choked",
+        variants=(
+            {"machine": "turbine", "gas": "combustion_products", "mass_flow": 25.0, "total_temperature": 1400.0,
+             "total_pressure": 1.2e6, "pressure_ratio": 4.0, "shaft_speed": 12000.0,
+             "polytropic_efficiency": 0.9, "hub_radius": 0.24, "stages": 3, "flow_coefficient": [0.6, 0.65, 0.7],
+             "reaction": 0.45, "rotor_aspect_ratio": 1.8, "stator_aspect_ratio": 1.4},
+        ),
+    ),
 }
 
 

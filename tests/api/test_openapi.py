@@ -308,14 +308,9 @@ def test_problems_fit_the_documented_problem_schema(client, spec):
 # -- what the document requires is what the service needs ----------------------------------------
 
 
-SPEC_REQUIRED_BUG = pytest.mark.xfail(strict=True, reason=(
-    "bug: the document does not require fields every mode needs (zweifel inlet_angle and outlet_angle, "
-    "stage-split pressure_ratio, total_temperature and total_pressure: a case without them answers 500; "
-    "diffusion-factor axial_velocity, inlet_angle and outlet_angle: 422 physically-impossible)"))
 
 
-@pytest.mark.parametrize("name", [n if n == "triangles" else pytest.param(n, marks=SPEC_REQUIRED_BUG)
-                                  for n in NAMES])
+@pytest.mark.parametrize("name", NAMES)
 def test_a_case_of_only_the_documented_required_fields_is_computed(client, spec, name):
     example = EXAMPLES[name]
     values = {**example.base, **example.values}
