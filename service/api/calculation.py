@@ -216,6 +216,9 @@ def run_calculation(calculation: Calculation, payload: Any, max_cases: int, stre
     else:
         shape = "single"
         groups, size, errors = _single_group(calculation, payload)
+    # The groups hold the inputs as arrays now. Dropping the parsed request here (the caller keeps
+    # no reference to it) frees its lists of Python numbers before the core allocates its own.
+    del payload
 
     outcomes = []
     for group in groups:
