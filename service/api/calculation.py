@@ -743,7 +743,7 @@ class RowsText:
 
     def __init__(self, calculation: Calculation, outcomes: list[_Outcome], size: int):
         self.calculation, self.outcomes, self.size = calculation, outcomes, size
-        self._templates: dict[int, bytes] = {}
+        self._templates: dict = {}  # per outcome, made once: row texts, checks that repeat outputs
 
     @staticmethod
     def takes(outcomes: list[_Outcome]) -> bool:
@@ -806,20 +806,40 @@ class RowsText:
                 segment.replace(b"%", b"%%") for segment in _row_segments(outcome))
         return list(map(template.__mod__, zip(*tokens, strict=True)))
 
+    def _same_as_output(self, outcome: _Outcome) -> dict[str, int | None]:
+        """For each check, the position of a float output holding exactly its values, if any."""
+        key = ("same", id(outcome))
+        if key not in self._templates:
+            integer = self.calculation._integer_outputs
+            floats = [(k, a) for k, (name, a) in enumerate(outcome.values.items()) if name not in integer]
+            # Compared bit for bit, so that -0.0 and 0.0 are not taken for one another.
+            self._templates[key] = {
+                name: next((k for k, a in floats if a.shape == check["value"].shape and a.dtype == check["value"].dtype
+                            and np.array_equal(_bits(a), _bits(check["value"]))), None)
+                for name, check in outcome.checks.items()}
+        return self._templates[key]
+
     def _tokens(self, outcome: _Outcome, lo: int, hi: int) -> list[list[bytes]]:
         """Cases ``lo`` to ``hi`` of the outcome: per output, then per check value and status, the
         JSON text of each case's number."""
         integer = self.calculation._integer_outputs
         tokens = [_int_tokens(a[lo:hi]) if name in integer else _number_tokens(a[lo:hi])
                   for name, a in outcome.values.items()]
-        for check in outcome.checks.values():
-            tokens.append(_number_tokens(check["value"][lo:hi]))
+        same = self._same_as_output(outcome)
+        for check_name, check in outcome.checks.items():
+            # A rule judges an output more often than not (the de Haller numbers): its texts are reused.
+            k = same[check_name]
+            tokens.append(tokens[k] if k is not None else _number_tokens(check["value"][lo:hi]))
             statuses = check["status"][lo:hi].tolist()
             try:
                 tokens.append(list(map(_STATUS_TOKENS.__getitem__, statuses)))
             except (KeyError, TypeError):
                 tokens.append([orjson.dumps(status) for status in statuses])
         return tokens
+
+
+def _bits(array: np.ndarray) -> np.ndarray:
+    return np.ascontiguousarray(array).view(np.uint8)
 
 
 _STATUS_TOKENS = {**{status: orjson.dumps(status) for status in STATUSES}, None: b"null"}
