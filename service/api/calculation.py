@@ -11,9 +11,9 @@ from __future__ import annotations
 
 import math
 from collections.abc import Callable, Mapping
+from dataclasses import dataclass, field
 from itertools import chain
 from operator import itemgetter
-from dataclasses import dataclass, field
 from typing import Any
 
 import numpy as np
@@ -272,8 +272,8 @@ def _load_plan(schema: CaseSchema):
         return None
     plan = []
     for name, f in schema.load_fields.items():
-        if (not isinstance(f, Quantity | Option | QuantityList) or f.data_key is not None or f.attribute is not None or f.validators
-                or getattr(f, "pre_load", None) or getattr(f, "post_load", None)):
+        if (not isinstance(f, Quantity | Option | QuantityList) or f.data_key is not None or f.attribute is not None
+                or f.validators or getattr(f, "pre_load", None) or getattr(f, "post_load", None)):
             return None
         plan.append((name, f, f.required, f.load_default, f.allow_none))
     return tuple(plan), frozenset(schema.load_fields)
@@ -446,7 +446,8 @@ def _row_blocks(cases: list[dict]) -> list[tuple[list[int], dict[str, list]]]:
         if not listed:
             blocks.append((rows, columns))
             continue
-        lengths = list(zip(*([len(v) if isinstance(v, list) else -1 for v in columns[name]] for name in listed)))
+        lengths = list(zip(*([len(v) if isinstance(v, list) else -1 for v in columns[name]] for name in listed),
+                           strict=True))
         by_length: dict[tuple, list[int]] = {}
         for position, key in enumerate(lengths):
             by_length.setdefault(key, []).append(position)

@@ -109,7 +109,8 @@ def test_a_batch_without_repeated_keys_needs_no_strict_parse():
     assert not jsonparse.may_repeat_keys(rows, json.loads(rows))
 
 
-@pytest.mark.parametrize("text", ['{"a": NaN}', '{"a": 1e400}', '{"a": -Infinity}', '"\\ud800"', '{"a": 1' + '0' * 400 + '}'])
+@pytest.mark.parametrize(
+    "text", ['{"a": NaN}', '{"a": 1e400}', '{"a": -Infinity}', '"\\ud800"', '{"a": 1' + '0' * 400 + '}'])
 def test_texts_that_orjson_refuses_are_read_as_the_standard_library_reads_them(text):
     fast = jsonparse.loads(text.encode(), strict)
     reference = strict(text.encode())
