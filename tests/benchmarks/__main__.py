@@ -226,7 +226,8 @@ def main(argv=None) -> int:
           f"(service/gunicorn_conf.py), {args.clients} client connections, loopback; "
           f"median (lowest .. highest) of {args.repeat} repetitions ({args.large_repeat} for "
           f"{LARGE_BATCH:,} cases); Python {platform.python_version()}, numpy {np.__version__}, "
-          f"orjson {orjson.__version__}; service body limit {max_body // 2**20} MiB", flush=True)
+          f"orjson {orjson.__version__}; service body limit {max_body // 2**20} MiB; "
+          f"load average {os.getloadavg()[0]:.1f} at the start", flush=True)
     figures: list[Figure] = []
     started = time.monotonic()
     try:
@@ -251,7 +252,7 @@ def main(argv=None) -> int:
         echo.stop()
     missed = [f for f in figures if not f.met]
     print(f"{len(figures) - len(missed)} of {len(figures)} figures within target "
-          f"({time.monotonic() - started:.0f} s)")
+          f"({time.monotonic() - started:.0f} s; load average {os.getloadavg()[0]:.1f} at the end)")
     return 1 if missed else 0
 
 
