@@ -43,12 +43,25 @@ class Workload:
 
 
 def _write(result, extra: dict | None = None) -> bytes:
-    """The core's arrays as JSON: values, checks (value and status per case), failed cases."""
+    """The core's arrays as JSON: values, checks (value and status per case), and each failure
+    reason with the cases it is the first reason for (the same information as the service's
+    per-case errors, in the most compact layout)."""
     columns = {**result.values, **(extra or {})}
     columns["checks"] = {name: {"value": check.value, "status": check.status.tolist()}
                          for name, check in result.checks.items()}
-    failed = np.flatnonzero(result.failed()).tolist()
-    return orjson.dumps({"columns": columns, "errors": failed}, option=NUMPY)
+    failed = np.zeros(np.shape(next(iter(result.values.values())))[:1], dtype=bool)
+    errors = {}
+    for reason, mask in result.failures:
+        first = np.broadcast_to(mask, failed.shape) & ~failed
+        if first.any():
+            errors[reason] = np.flatnonzero(first)
+        failed |= first
+    return orjson.dumps({"columns": columns, "errors": errors}, option=NUMPY)
+
+
+def failed_cases(baseline_answer: dict) -> list[int]:
+    """The failed cases of a baseline answer, in order."""
+    return sorted(i for cases in baseline_answer["errors"].values() for i in cases)
 
 
 def _arrays(body: bytes) -> dict:
