@@ -735,16 +735,18 @@ class RowsText:
     """The ``results`` of a rows answer, written as JSON text a slice of rows at a time.
 
     The same bytes as ``orjson.dumps(_rows_body(...))``, without a dict per case: each column
-    of a slice is written by orjson as a whole and split into its numbers, and each case's
-    object is one ``%`` substitution into a text made once per outcome. Only for outcomes whose
-    outputs and checks are one number per case (see :meth:`takes`).
+    of a slice is written by orjson as a whole and split into its numbers, and the slice is one
+    join of those numbers with the constant texts between them (the keys, a rule's limit and
+    basis), made once per outcome. Where outcomes of different options interleave, each case's
+    object is one ``%`` substitution into that text instead. Only for outcomes whose outputs and
+    checks are one number per case (see :meth:`takes`).
     """
 
     ROWS_PER_PIECE = 1_000
 
     def __init__(self, calculation: Calculation, outcomes: list[_Outcome], size: int):
         self.calculation, self.outcomes, self.size = calculation, outcomes, size
-        self._templates: dict = {}  # per outcome, made once: row texts, checks that repeat outputs
+        self._once: dict = {}  # made once per outcome: its row text, the checks that repeat outputs
 
     @staticmethod
     def takes(outcomes: list[_Outcome]) -> bool:
@@ -801,24 +803,24 @@ class RowsText:
 
     def _outcome_rows(self, outcome: _Outcome, lo: int, hi: int) -> list[bytes]:
         tokens = self._tokens(outcome, lo, hi)
-        template = self._templates.get(id(outcome))
+        template = self._once.get(id(outcome))
         if template is None:
-            template = self._templates[id(outcome)] = b"%b".join(
+            template = self._once[id(outcome)] = b"%b".join(
                 segment.replace(b"%", b"%%") for segment in _row_segments(outcome))
         return list(map(template.__mod__, zip(*tokens, strict=True)))
 
     def _same_as_output(self, outcome: _Outcome) -> dict[str, int | None]:
         """For each check, the position of a float output holding exactly its values, if any."""
         key = ("same", id(outcome))
-        if key not in self._templates:
+        if key not in self._once:
             integer = self.calculation._integer_outputs
             floats = [(k, a) for k, (name, a) in enumerate(outcome.values.items()) if name not in integer]
             # Compared bit for bit, so that -0.0 and 0.0 are not taken for one another.
-            self._templates[key] = {
+            self._once[key] = {
                 name: next((k for k, a in floats if a.shape == check["value"].shape and a.dtype == check["value"].dtype
                             and np.array_equal(_bits(a), _bits(check["value"]))), None)
                 for name, check in outcome.checks.items()}
-        return self._templates[key]
+        return self._once[key]
 
     def _tokens(self, outcome: _Outcome, lo: int, hi: int) -> list[list[bytes]]:
         """Cases ``lo`` to ``hi`` of the outcome: per output, then per check value and status, the
