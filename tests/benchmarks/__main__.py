@@ -215,6 +215,8 @@ def main(argv=None) -> int:
     signal.signal(signal.SIGALRM, out_of_time)
     signal.alarm(args.time_limit)
 
+    for name in harness.IGNORED_ENVIRONMENT:  # the in-process app reads them too
+        os.environ.pop(name, None)
     from service import create_app
 
     # Rows of 100,000 cases exceed the default 16 MiB body limit; columns do not.

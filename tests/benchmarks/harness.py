@@ -118,9 +118,15 @@ class Server:
             self.process.wait()
 
 
+#: Settings of the caller's environment that would change what is measured: metrics files shared
+#: between processes, and API keys (the echo app checks none).
+IGNORED_ENVIRONMENT = ("PROMETHEUS_MULTIPROC_DIR", "MEANLINE_API_KEYS", "MEANLINE_API_KEYS_FILE")
+
+
 def server_environment(**extra: str) -> dict[str, str]:
     env = {**os.environ, "PYTHONPATH": str(ROOT), "MEANLINE_LOG_LEVEL": "warning", **extra}
-    env.pop("PROMETHEUS_MULTIPROC_DIR", None)
+    for name in IGNORED_ENVIRONMENT:
+        env.pop(name, None)
     return env
 
 
