@@ -172,7 +172,7 @@ loglevel = _env_choice("MEANLINE_LOG_LEVEL", "info", LOG_LEVELS)
 # --- Worker memory -------------------------------------------------------------------------
 #: A worker this far above its resident size at start, after a request, hands the allocator's
 #: free memory back to the system; one still further above than RECYCLE_ABOVE_BYTES is replaced.
-TRIM_ABOVE_BYTES = 32 * 2**20
+TRIM_ABOVE_BYTES = 16 * 2**20
 RECYCLE_ABOVE_BYTES = 512 * 2**20
 _libc = None
 
