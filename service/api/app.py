@@ -13,7 +13,7 @@ from flask import Blueprint, Flask, Response, current_app, request
 from werkzeug.exceptions import RequestEntityTooLarge
 
 from service import __version__
-from service.api import access, observability
+from service.api import access, jsonparse, jsonwrite, observability
 from service.api.calculation import Calculation, run_calculation, run_drawing
 from service.api.problems import (
     MALFORMED,
@@ -134,7 +134,7 @@ def _calculation_view(calculation: Calculation):
             svg = run_drawing(calculation, read_json(), current_app.config["MAX_CASES"])
             observability.record_cases(1, {})
             return Response(svg, mimetype=SVG)
-        body, size = run_calculation(calculation, read_json(), current_app.config["MAX_CASES"])
+        body, size = run_calculation(calculation, read_json(), current_app.config["MAX_CASES"], stream=True)
         observability.record_cases(size, body)
         return _json(body)
 
@@ -148,7 +148,7 @@ def _prefers_svg() -> bool:
 
 
 def _json(body) -> Response:
-    return Response(orjson.dumps(body, option=orjson.OPT_SERIALIZE_NUMPY), mimetype="application/json")
+    return jsonwrite.response(body)
 
 
 def _reject_duplicate_keys(pairs):
@@ -178,6 +178,10 @@ def _too_large(error: RequestEntityTooLarge) -> Response:
     return problem_response(_body_too_large())
 
 
+def _parse_strictly(body: bytes):
+    return json.loads(body.decode("utf-8"), object_pairs_hook=_reject_duplicate_keys, parse_int=_parse_int)
+
+
 def read_json():
     """The request body as JSON, with the statuses of the design brief for every way it can fail."""
     mimetype = request.mimetype or ""
@@ -191,7 +195,7 @@ def read_json():
     if len(body) > limit or (request.content_length is None and len(body) >= limit):
         raise _body_too_large()
     try:
-        return json.loads(body.decode("utf-8"), object_pairs_hook=_reject_duplicate_keys, parse_int=_parse_int)
+        return jsonparse.loads(body, strict=_parse_strictly)
     except UnicodeDecodeError:
         raise Problem(400, "Malformed JSON", "The body is not UTF-8 text.", MALFORMED) from None
     except json.JSONDecodeError as error:

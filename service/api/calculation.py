@@ -9,19 +9,26 @@ layout, identically for every endpoint.
 
 from __future__ import annotations
 
+import math
 from collections.abc import Callable, Mapping
 from dataclasses import dataclass, field
+from itertools import chain
+from operator import itemgetter
 from typing import Any
 
 import numpy as np
-from marshmallow import Schema, ValidationError
+import orjson
+from marshmallow import Schema, ValidationError, missing
 
-from service.api.fields import CaseSchema, Option, QuantityList
+from service.api.fields import CaseSchema, Option, Quantity, QuantityList
 from service.api.problems import MAX_LISTED_ERRORS, PHYSICALLY_IMPOSSIBLE, Problem, invalid_input
 from service.core.cases import CaseResults
+from service.core.checks import STATUSES
 
 NOT_FINITE = "the result is not a finite number (overflow): check the magnitudes of the inputs"
 MAX_WHOLE_OUTPUT = 2**53 - 1
+#: At most this many resolved input forms are remembered per calculation.
+_MAX_RESOLVED = 1024
 
 
 @dataclass(frozen=True)
@@ -113,27 +120,42 @@ class Calculation:
             unknown = (set(mode.required) | set(mode.optional) | set(mode.when)) - declared
             if unknown:
                 raise ValueError(f"mode {mode.name!r} of {self.name!r} names undeclared fields {sorted(unknown)}")
-        # Built once: schema instances and field lookups serve every request.
-        object.__setattr__(self, "_case_schema", self.schema())
-        object.__setattr__(self, "_columns_schema", self.schema(columns=True))
-        object.__setattr__(self, "_integer_outputs", {
-            name for name, f in self.outputs().fields.items() if type(f).__name__ == "Integer"
-        })
+        # Built once: schema instances, field lookups and mode sets serve every request.
+        case_schema, columns_schema = self.schema(), self.schema(columns=True)
+        mode_fields = frozenset(f for mode in self.modes for f in (*mode.required, *mode.optional))
+        built = {
+            "_case_schema": case_schema,
+            "_columns_schema": columns_schema,
+            "_integer_outputs": frozenset(
+                name for name, f in self.outputs().fields.items() if type(f).__name__ == "Integer"),
+            "_mode_fields": mode_fields,
+            "_option_fields": tuple(name for name, f in case_schema.fields.items() if isinstance(f, Option)),
+            "_allowed": {mode.name: frozenset((set(case_schema.fields) - mode_fields) | set(mode.required)
+                                              | set(mode.optional)) for mode in self.modes},
+            "_plans": {id(case_schema): _load_plan(case_schema), id(columns_schema): _load_plan(columns_schema)},
+            "_resolved": {},  # (fields given, option values) -> the one mode they resolve to
+        }
+        for name, value in built.items():
+            object.__setattr__(self, name, value)
 
     @property
     def path(self) -> str:
         return f"/v1/{self.name}"
 
     @property
-    def mode_fields(self) -> set[str]:
-        return {f for mode in self.modes for f in (*mode.required, *mode.optional)}
+    def mode_fields(self) -> frozenset[str]:
+        return self._mode_fields
 
     @property
     def option_fields(self) -> tuple[str, ...]:
-        return tuple(name for name, f in self._case_schema.fields.items() if isinstance(f, Option))
+        return self._option_fields
 
-    def allowed_fields(self, mode: Mode) -> set[str]:
-        return (set(self._case_schema.fields) - self.mode_fields) | set(mode.required) | set(mode.optional)
+    def allowed_fields(self, mode: Mode) -> frozenset[str]:
+        allowed = self._allowed.get(mode.name)
+        if allowed is None:  # a mode that is not one of this calculation's
+            allowed = frozenset((set(self._case_schema.fields) - self._mode_fields) | set(mode.required)
+                                | set(mode.optional))
+        return allowed
 
 
 @dataclass
@@ -152,11 +174,22 @@ class _Outcome:
     index: np.ndarray
     values: dict[str, np.ndarray]
     checks: dict[str, Any]
-    failure: np.ndarray  # reason per case, "" where the case succeeded
+    reason: np.ndarray  # per case: 0 where it succeeded, else 1 + its position in ``reasons``
+    reasons: list[str]
+
+    def errors(self) -> list[dict]:
+        """``{"index", "detail"}`` of every failed case, found with numpy rather than a loop."""
+        failed = np.flatnonzero(self.reason)
+        return [{"index": i, "detail": self.reasons[k - 1]}
+                for i, k in zip(self.index[failed].tolist(), self.reason[failed].tolist(), strict=True)]
 
 
-def run_calculation(calculation: Calculation, payload: Any, max_cases: int):
+def run_calculation(calculation: Calculation, payload: Any, max_cases: int, stream: bool = False):
     """Validate, compute and lay out the response body of one request.
+
+    With ``stream``, the ``results`` of a rows answer may be a :class:`RowsText`, which
+    :mod:`service.api.jsonwrite` writes piece by piece (without a dict per case); otherwise the
+    body is plain data that ``orjson.dumps(body, option=OPT_SERIALIZE_NUMPY)`` writes.
 
     Returns
     -------
@@ -184,6 +217,9 @@ def run_calculation(calculation: Calculation, payload: Any, max_cases: int):
     else:
         shape = "single"
         groups, size, errors = _single_group(calculation, payload)
+    # The groups hold the inputs as arrays now. Dropping the parsed request here (the caller keeps
+    # no reference to it) frees its lists of Python numbers before the core allocates its own.
+    del payload
 
     outcomes = []
     for group in groups:
@@ -191,22 +227,21 @@ def run_calculation(calculation: Calculation, payload: Any, max_cases: int):
             mode, mode_errors = _resolve_mode(calculation, group, options, sub_index)
             errors.extend(mode_errors)
             if mode is not None and not errors:
-                outcomes.append(_compute(calculation, mode, options, data, group.index[sub_index]))
+                index = group.index[sub_index]
+                result = _evaluate(calculation, mode, options, data, len(index))
+                outcomes.append(result if shape == "single" else _outcome(result, index, calculation._integer_outputs))
     if errors:
         raise invalid_input(errors)
 
     if shape == "single":
-        outcome = outcomes[0]
-        if outcome.failure[0]:
-            raise Problem(422, "Physically impossible case", outcome.failure[0], PHYSICALLY_IMPOSSIBLE)
-        return _single_body(calculation, outcome), size
-    case_errors = sorted(
-        ({"index": int(i), "detail": str(reason)}
-         for o in outcomes for i, reason in zip(o.index, o.failure, strict=True) if reason),
-        key=lambda e: e["index"],
-    )
+        return _single_body(calculation, outcomes[0]), size
+    case_errors = [error for outcome in outcomes for error in outcome.errors()]
+    if len(outcomes) > 1:
+        case_errors.sort(key=lambda e: e["index"])
     if shape == "rows":
-        body = {"results": _rows_body(calculation, outcomes, size), "errors": case_errors}
+        results = (RowsText(calculation, outcomes, size) if stream and RowsText.takes(outcomes)
+                   else _rows_body(calculation, outcomes, size))
+        body = {"results": results, "errors": case_errors}
     else:
         body = {"columns": _columns_body(calculation, outcomes, size), "errors": case_errors}
     return body, size
@@ -230,9 +265,55 @@ def run_drawing(calculation: Calculation, payload: Any, max_cases: int) -> str:
 # -- request shapes -> groups -------------------------------------------------------------------
 
 
-def _load(schema: CaseSchema, raw: dict, pointer):
+def _load_plan(schema: CaseSchema):
+    """What :func:`_load_valid` needs to load ``schema`` without marshmallow's per-field machinery:
+    the service's own fields with their defaults, or None if the schema uses more of marshmallow
+    (hooks, validators, renamed keys) than that shortcut reproduces."""
+    if any(schema._hooks.values()):
+        return None
+    plan = []
+    for name, f in schema.load_fields.items():
+        if (not isinstance(f, Quantity | Option | QuantityList) or f.data_key is not None or f.attribute is not None
+                or f.validators or getattr(f, "pre_load", None) or getattr(f, "post_load", None)):
+            return None
+        plan.append((name, f, f.required, f.load_default, f.allow_none))
+    return tuple(plan), frozenset(schema.load_fields)
+
+
+def _load_valid(plan, raw: dict):
+    """``schema.load(raw)`` for valid input, or None where marshmallow would report an error: the
+    same fields' own conversions and checks, the same defaults, without marshmallow's per-field
+    bookkeeping (which costs more than a whole single case's arithmetic)."""
+    fields, names = plan
+    if not names.issuperset(raw):
+        return None
+    loaded = {}
+    try:
+        for name, f, required, default, allow_none in fields:
+            value = raw.get(name, missing)
+            if value is missing:
+                if required:
+                    return None
+                if default is not missing:
+                    loaded[name] = default() if callable(default) else default
+            elif value is None:
+                if not allow_none:
+                    return None
+                loaded[name] = None
+            else:
+                loaded[name] = f._deserialize(value, name, raw)
+    except ValidationError:
+        return None
+    return loaded
+
+
+def _load(schema: CaseSchema, raw: dict, pointer, plan=None):
     """Loaded fields and errors; where loading fails, the valid option values still come back so
     that the input mode can be judged too and every offending field is named at once."""
+    if plan is not None:
+        loaded = _load_valid(plan, raw)
+        if loaded is not None:
+            return loaded, []
     try:
         return schema.load(raw), []
     except ValidationError as error:
@@ -272,7 +353,8 @@ def _flatten(messages, pointer, path=()):
 
 
 def _single_group(calculation: Calculation, payload: dict):
-    data, errors = _load(calculation._case_schema, payload, lambda f, rest: _join("", f, *rest))
+    schema = calculation._case_schema
+    data, errors = _load(schema, payload, lambda f, rest: _join("", f, *rest), calculation._plans[id(schema)])
     return [_Group(data, frozenset(payload), np.zeros(1, dtype=int),
                    lambda f, rest: _join("", f, *rest), lambda f, positions: [_join("", f)])], 1, errors
 
@@ -297,7 +379,8 @@ def _columns_groups(calculation: Calculation, payload: dict, max_cases: int):
     def pointer(f, rest):
         return _join("/columns", f, *rest)
 
-    data, errors = _load(calculation._columns_schema, columns, pointer)
+    schema = calculation._columns_schema
+    data, errors = _load(schema, columns, pointer, calculation._plans[id(schema)])
     if extra:
         return [], size, extra + errors
     return [_Group(data, frozenset(columns), np.arange(size), pointer,
@@ -321,21 +404,15 @@ def _rows_groups(calculation: Calculation, payload: dict, max_cases: int):
         raise invalid_input([("/cases", "A batch must hold at least one case.")])
     if len(cases) > max_cases:
         raise _too_many(len(cases), max_cases)
-    extra += [(f"/cases/{i}", "Each case must be a JSON object.") for i, case in enumerate(cases)
-              if not isinstance(case, dict)]
+    if set(map(type, cases)) != {dict}:
+        extra += [(f"/cases/{i}", "Each case must be a JSON object.") for i, case in enumerate(cases)
+                  if not isinstance(case, dict)]
     if extra:
         raise invalid_input(extra)
 
-    # Rows that name the same fields (and lists of the same length) load as one column block.
-    by_keys: dict[tuple, list[int]] = {}
-    for i, case in enumerate(cases):
-        key = tuple(sorted((name, len(value) if isinstance(value, list) else -1) for name, value in case.items()))
-        by_keys.setdefault(key, []).append(i)
-
     groups, errors = [], []
-    for key, rows in by_keys.items():
-        names = [name for name, _ in key]
-        raw = {name: [cases[i][name] for i in rows] for name in names}
+    for rows, raw in _row_blocks(cases):
+        names = list(raw)
         index = np.asarray(rows)
 
         def pointer(f, rest, rows=rows):
@@ -347,10 +424,50 @@ def _rows_groups(calculation: Calculation, payload: dict, max_cases: int):
         def case_pointers(f, positions, rows=rows):
             return [_join(f"/cases/{rows[p]}", f) for p in positions[: MAX_LISTED_ERRORS + 1]]
 
-        data, group_errors = _load(calculation._columns_schema, raw, pointer)
+        schema = calculation._columns_schema
+        data, group_errors = _load(schema, raw, pointer, calculation._plans[id(schema)])
         errors.extend(group_errors)
         groups.append(_Group(data, frozenset(names), index, pointer, case_pointers))
     return groups, len(cases), errors
+
+
+def _row_blocks(cases: list[dict]) -> list[tuple[list[int], dict[str, list]]]:
+    """The rows as blocks of columns: rows that name the same fields (and give lists of the same
+    lengths) form one block, as ``(positions, {field: values})`` with the fields sorted by name.
+
+    The blocks of keying every row by its sorted (field, list length) pairs, found with a few
+    passes at C speed (key order, name sort per distinct order, one gather per field) rather than
+    a sort and a key per row.
+    """
+    orders = list(map(tuple, cases))
+    if orders.count(orders[0]) == len(orders):
+        by_order = {orders[0]: range(len(cases))}
+    else:
+        by_order = {}
+        for i, order in enumerate(orders):
+            by_order.setdefault(order, []).append(i)
+    by_names: dict[tuple, list] = {}
+    for order, rows in by_order.items():
+        by_names.setdefault(tuple(sorted(order)), []).append(rows)
+    blocks = []
+    for names, parts in by_names.items():
+        rows = list(parts[0]) if len(parts) == 1 else sorted(chain.from_iterable(parts))
+        block = cases if len(rows) == len(cases) else [cases[i] for i in rows]
+        columns = {name: list(map(itemgetter(name), block)) for name in names}
+        # A field given as lists splits the block by list length (one case's stages each).
+        listed = [name for name, column in columns.items() if list in set(map(type, column))]
+        if not listed:
+            blocks.append((rows, columns))
+            continue
+        lengths = list(zip(*([len(v) if isinstance(v, list) else -1 for v in columns[name]] for name in listed),
+                           strict=True))
+        by_length: dict[tuple, list[int]] = {}
+        for position, key in enumerate(lengths):
+            by_length.setdefault(key, []).append(position)
+        for positions in by_length.values():
+            blocks.append(([rows[p] for p in positions],
+                           {name: [column[p] for p in positions] for name, column in columns.items()}))
+    return blocks
 
 
 def _too_many(size: int, max_cases: int) -> Problem:
@@ -377,6 +494,10 @@ def _split_by_options(calculation: Calculation, group: _Group):
     if not per_case:
         yield np.arange(size), fixed, group.data
         return
+    if all((v == v[0]).all() for v in per_case.values()):  # one value for every case: no sort needed
+        options = {**fixed, **{name: str(v[0]) for name, v in per_case.items()}}
+        yield np.arange(size), options, {**group.data, **options}
+        return
     combined = np.stack([np.broadcast_to(v, (size,)) for v in per_case.values()], axis=1)
     keys, inverse = np.unique(combined, axis=0, return_inverse=True)
     for code, key in enumerate(keys):
@@ -390,6 +511,13 @@ def _split_by_options(calculation: Calculation, group: _Group):
 
 
 def _resolve_mode(calculation: Calculation, group: _Group, options: dict, positions: np.ndarray):
+    # A resolution depends only on the fields given and the option values: each one that
+    # succeeds is kept, so that a case of a known form is not scored against every mode again.
+    key = (group.present, tuple(sorted(options.items()))) if all(
+        type(v) is str for v in options.values()) else None
+    known = calculation._resolved.get(key) if key is not None else None
+    if known is not None:
+        return known, []
     present = group.present
     errors = []
     for fields in calculation.together:
@@ -407,6 +535,8 @@ def _resolve_mode(calculation: Calculation, group: _Group, options: dict, positi
         scored.append((len(missing) + len(extra), mode, missing, extra))
     matches = [mode for score, mode, _, _ in scored if score == 0]
     if len(matches) == 1 and not errors:
+        if key is not None and len(calculation._resolved) < _MAX_RESOLVED:
+            calculation._resolved[key] = matches[0]
         return matches[0], []
     if len(matches) == 1:
         return None, errors
@@ -426,47 +556,78 @@ def _resolve_mode(calculation: Calculation, group: _Group, options: dict, positi
     return None, errors
 
 
-def _compute(calculation: Calculation, mode: Mode, options: dict, data: dict, index: np.ndarray) -> _Outcome:
-    size = len(index)
+def _evaluate(calculation: Calculation, mode: Mode, options: dict, data: dict, size: int) -> CaseResults:
+    """The core's results for ``size`` cases, scalars broadcast (as views: no copy per case)."""
     inputs = {}
     for name, value in data.items():
         if name in options or value is None or isinstance(value, str):
             inputs[name] = value
         elif isinstance(value, np.ndarray) and value.ndim == 2:
             inputs[name] = value if len(value) == size else np.broadcast_to(value, (size, value.shape[-1]))
+        elif np.ndim(value) == 0:
+            inputs[name] = np.full(1, value) if size == 1 else np.broadcast_to(np.asarray(value), (size,))
         else:
-            inputs[name] = np.broadcast_to(np.asarray(value), (size,)) if np.ndim(value) == 0 else value
+            inputs[name] = value
     with np.errstate(all="ignore"):
-        result = calculation.compute(mode, options, inputs)
-    failure = np.full(size, "", dtype=object)
-    for reason, mask in reversed(result.failures):
-        failure[np.broadcast_to(mask, (size,))] = reason
+        return calculation.compute(mode, options, inputs)
+
+
+def _outcome(result: CaseResults, index: np.ndarray, integer_outputs=frozenset()) -> _Outcome:
+    """Failures as reason codes, failed cases masked to NaN, statuses as shared objects: all of it
+    whole-array operations, none a loop over the cases."""
+    size = len(index)
+    # The first reason that applies to a case is the one reported, so the masks go in backwards.
+    reasons = [reason for reason, _ in result.failures] + [NOT_FINITE]
+    reason = np.zeros(size, dtype=np.intp)
+    for code in range(len(result.failures), 0, -1):
+        reason[np.broadcast_to(result.failures[code - 1][1], (size,))] = code
     values = {}
     for name, array in result.values.items():
-        array = np.asarray(array, dtype=float)
+        # An input passed through as an output can be a broadcast view; the writer needs it whole.
+        array = np.ascontiguousarray(array, dtype=float)
         finite = np.isfinite(array) if array.ndim == 1 else _finite_rows(array)
-        if name in calculation._integer_outputs:
+        if name in integer_outputs:
             # A count past 2**53 is not exact as a double, and past 2**63 orjson refuses it (a 500).
             too_big = np.abs(np.where(np.isfinite(array), array, 0.0)) > MAX_WHOLE_OUTPUT
             finite &= ~(too_big if too_big.ndim == 1 else too_big.any(axis=1))
-        failure[(~finite) & (failure == "")] = NOT_FINITE
+        if not finite.all():
+            reason[(~finite) & (reason == 0)] = len(reasons)
         values[name] = array
-    failed = failure != ""
-    values = {name: np.where(failed.reshape((-1,) + (1,) * (a.ndim - 1)), np.nan, a) for name, a in values.items()}
+    failed = reason != 0
+    any_failed = bool(failed.any())
+    if any_failed:
+        values = {name: np.where(failed.reshape((-1,) + (1,) * (a.ndim - 1)), np.nan, a)
+                  for name, a in values.items()}
     checks = {}
     for name, check in result.checks.items():
-        status = np.asarray(check.status, dtype=object)
-        value = np.asarray(check.value, dtype=float)
+        value = np.ascontiguousarray(check.value, dtype=float)
+        status = np.asarray(check.status)
         per_case = failed.reshape((-1,) + (1,) * (value.ndim - 1))
         checks[name] = {
-            "value": np.where(per_case, np.nan, value),
-            "status": np.where(failed.reshape((-1,) + (1,) * (status.ndim - 1)), None, status),
+            "value": np.where(per_case, np.nan, value) if any_failed else value,
+            "status": (_status_objects(status, failed) if status.ndim == 1 else
+                       np.where(failed.reshape((-1,) + (1,) * (status.ndim - 1)), None, status.astype(object))),
             "limit": check.limit,
             "fail_limit": check.fail_limit,
             "comparison": check.comparison,
             "basis": check.basis,
         }
-    return _Outcome(index=index, values=values, checks=checks, failure=failure)
+    return _Outcome(index=index, values=values, checks=checks, reason=reason, reasons=reasons)
+
+
+#: Every status as one shared Python object, and None for a case that failed.
+_STATUS_OBJECTS = np.array([*STATUSES, None], dtype=object)
+
+
+def _status_objects(status: np.ndarray, failed: np.ndarray) -> np.ndarray:
+    """The statuses as an object array of the shared status strings, None where a case failed:
+    a lookup into :data:`_STATUS_OBJECTS` rather than one new string per case."""
+    matches = [(status == name).view(np.uint8) for name in STATUSES]
+    if not (sum(matches) == 1).all():  # a status outside STATUSES: keep it as it is
+        return np.where(failed, None, status.astype(object))
+    code = sum(k * match for k, match in enumerate(matches))
+    code[failed] = len(STATUSES)
+    return _STATUS_OBJECTS[code]
 
 
 def _finite_rows(array: np.ndarray) -> np.ndarray:
@@ -492,6 +653,11 @@ def _scalar(calculation: Calculation, name: str, value):
 
 
 def _check_entry(check: dict, i: int) -> dict:
+    if check["value"].ndim == 1:  # a Python float straight away, rather than through a numpy scalar
+        value = check["value"].item(i)
+        return {"value": value if math.isfinite(value) else None, "limit": check["limit"],
+                "fail_limit": check["fail_limit"], "comparison": check["comparison"], "status": check["status"][i],
+                "basis": check["basis"]}
     value, status = check["value"][i], check["status"][i]
     if isinstance(value, np.ndarray):  # one value per stage or row, NaN-padded; all NaN where the case failed
         finite = np.isfinite(value)
@@ -509,13 +675,61 @@ def _check_entry(check: dict, i: int) -> dict:
 
 
 def _case_body(calculation: Calculation, outcome: _Outcome, i: int) -> dict:
-    body = {name: _scalar(calculation, name, array[i]) for name, array in outcome.values.items()}
+    body = {}
+    for name, array in outcome.values.items():
+        if array.ndim == 1:  # a Python float straight away, rather than through a numpy scalar
+            value = array.item(i)
+            body[name] = ((int(value) if name in calculation._integer_outputs else value)
+                          if math.isfinite(value) else None)
+        else:
+            body[name] = _scalar(calculation, name, array[i])
     body["checks"] = {name: _check_entry(check, i) for name, check in outcome.checks.items()}
     return body
 
 
-def _single_body(calculation: Calculation, outcome: _Outcome) -> dict:
+def _single_body(calculation: Calculation, result: CaseResults) -> dict:
+    """The response to one case, from Python floats taken once out of the core's arrays.
+
+    Raises
+    ------
+    Problem
+        422 if the case is physically impossible, with the first reason that applies.
+    """
+    values = {}
+    for name, array in result.values.items():
+        array = np.asarray(array, dtype=float)
+        if array.ndim != 1:  # per-stage lists: the general layout
+            return _single_body_of(calculation, _outcome(result, np.zeros(1, dtype=int), calculation._integer_outputs))
+        values[name] = array.item(0)
+    for reason, mask in result.failures:
+        if np.asarray(mask).item(0):
+            raise _impossible(reason)
+    if not all(map(math.isfinite, values.values())) or any(
+            abs(values[name]) > MAX_WHOLE_OUTPUT for name in calculation._integer_outputs if name in values):
+        raise _impossible(NOT_FINITE)
+    checks = {}
+    for name, check in result.checks.items():
+        value = np.asarray(check.value, dtype=float)
+        if value.ndim != 1:
+            return _single_body_of(calculation, _outcome(result, np.zeros(1, dtype=int), calculation._integer_outputs))
+        value = value.item(0)
+        checks[name] = {"value": value if math.isfinite(value) else None, "limit": check.limit,
+                        "fail_limit": check.fail_limit, "comparison": check.comparison,
+                        "status": np.asarray(check.status).item(0), "basis": check.basis}
+    integer = calculation._integer_outputs
+    body = {name: int(value) if name in integer else value for name, value in values.items()}
+    body["checks"] = checks
+    return body
+
+
+def _single_body_of(calculation: Calculation, outcome: _Outcome) -> dict:
+    if outcome.reason[0]:
+        raise _impossible(outcome.reasons[outcome.reason[0] - 1])
     return _case_body(calculation, outcome, 0)
+
+
+def _impossible(reason: str) -> Problem:
+    return Problem(422, "Physically impossible case", reason, PHYSICALLY_IMPOSSIBLE)
 
 
 def _rows_body(calculation: Calculation, outcomes: list[_Outcome], size: int) -> list:
@@ -535,6 +749,155 @@ def _rows_body(calculation: Calculation, outcomes: list[_Outcome], size: int) ->
             for j, i in enumerate(outcome.index.tolist()):
                 results[i] = _case_body(calculation, outcome, j)
     return results
+
+
+class RowsText:
+    """The ``results`` of a rows answer, written as JSON text a slice of rows at a time.
+
+    The same bytes as ``orjson.dumps(_rows_body(...))``, without a dict per case: each column
+    of a slice is written by orjson as a whole and split into its numbers, and the slice is one
+    join of those numbers with the constant texts between them (the keys, a rule's limit and
+    basis), made once per outcome. Where outcomes of different options interleave, each case's
+    object is one ``%`` substitution into that text instead. Only for outcomes whose outputs and
+    checks are one number per case (see :meth:`takes`).
+    """
+
+    ROWS_PER_PIECE = 1_000
+
+    def __init__(self, calculation: Calculation, outcomes: list[_Outcome], size: int):
+        self.calculation, self.outcomes, self.size = calculation, outcomes, size
+        self._once: dict = {}  # made once per outcome: its row text, the checks that repeat outputs
+
+    @staticmethod
+    def takes(outcomes: list[_Outcome]) -> bool:
+        return all(o.values or o.checks for o in outcomes) and all(
+            a.ndim == 1 for o in outcomes for a in o.values.values()) and all(
+            c["value"].ndim == 1 for o in outcomes for c in o.checks.values()) and all(
+            len(o.index) < 2 or bool((np.diff(o.index) > 0).all()) for o in outcomes)
+
+    def __len__(self) -> int:
+        return self.size
+
+    def json_pieces(self):
+        if len(self.outcomes) != 1:
+            yield from self._pieces_in_order()
+            return
+        # One outcome holds every case, in order: each slice is one join of its constant texts
+        # and its numbers, without a text per case.
+        outcome = self.outcomes[0]
+        segments = _row_segments(outcome)
+        # The text that closes one case and opens the next, then the texts between the numbers.
+        cycle_of = [segments[-1] + b"," + segments[0], *segments[1:-1]]
+        width = 2 * len(cycle_of)
+        repeated: dict[int, list[list[bytes]]] = {}
+        for start in range(0, self.size, self.ROWS_PER_PIECE):
+            stop = min(start + self.ROWS_PER_PIECE, self.size)
+            count = stop - start
+            if count not in repeated:
+                repeated[count] = [[segment] * count for segment in cycle_of]
+            # Every case's texts and numbers in one list, filled a field at a time by slice.
+            parts: list = [None] * (count * width + 1)
+            for k, (texts, numbers) in enumerate(zip(repeated[count], self._tokens(outcome, start, stop),
+                                                     strict=True)):
+                parts[2 * k:-1:width] = texts
+                parts[2 * k + 1::width] = numbers
+            parts[0] = (b"[" if start == 0 else b",") + segments[0]
+            parts[-1] = segments[-1] + (b"]" if stop == self.size else b"")
+            yield b"".join(parts)
+
+    def _pieces_in_order(self):
+        for start in range(0, self.size, self.ROWS_PER_PIECE):
+            stop = min(start + self.ROWS_PER_PIECE, self.size)
+            yield (b"," if start else b"[") + b",".join(self._rows(start, stop))
+        yield b"]"
+
+    def _rows(self, start: int, stop: int) -> list[bytes]:
+        slots: list = [None] * (stop - start)
+        for outcome in self.outcomes:
+            lo, hi = np.searchsorted(outcome.index, (start, stop)).tolist()
+            if lo < hi:
+                for position, text in zip((outcome.index[lo:hi] - start).tolist(),
+                                          self._outcome_rows(outcome, lo, hi), strict=True):
+                    slots[position] = text
+        return slots
+
+    def _outcome_rows(self, outcome: _Outcome, lo: int, hi: int) -> list[bytes]:
+        tokens = self._tokens(outcome, lo, hi)
+        template = self._once.get(id(outcome))
+        if template is None:
+            template = self._once[id(outcome)] = b"%b".join(
+                segment.replace(b"%", b"%%") for segment in _row_segments(outcome))
+        return list(map(template.__mod__, zip(*tokens, strict=True)))
+
+    def _same_as_output(self, outcome: _Outcome) -> dict[str, int | None]:
+        """For each check, the position of a float output holding exactly its values, if any."""
+        key = ("same", id(outcome))
+        if key not in self._once:
+            integer = self.calculation._integer_outputs
+            floats = [(k, a) for k, (name, a) in enumerate(outcome.values.items()) if name not in integer]
+            # Compared bit for bit, so that -0.0 and 0.0 are not taken for one another.
+            self._once[key] = {
+                name: next((k for k, a in floats if a.shape == check["value"].shape and a.dtype == check["value"].dtype
+                            and np.array_equal(_bits(a), _bits(check["value"]))), None)
+                for name, check in outcome.checks.items()}
+        return self._once[key]
+
+    def _tokens(self, outcome: _Outcome, lo: int, hi: int) -> list[list[bytes]]:
+        """Cases ``lo`` to ``hi`` of the outcome: per output, then per check value and status, the
+        JSON text of each case's number."""
+        integer = self.calculation._integer_outputs
+        tokens = [_int_tokens(a[lo:hi]) if name in integer else _number_tokens(a[lo:hi])
+                  for name, a in outcome.values.items()]
+        same = self._same_as_output(outcome)
+        for check_name, check in outcome.checks.items():
+            # A rule judges an output more often than not (the de Haller numbers): its texts are reused.
+            k = same[check_name]
+            tokens.append(tokens[k] if k is not None else _number_tokens(check["value"][lo:hi]))
+            statuses = check["status"][lo:hi].tolist()
+            try:
+                tokens.append(list(map(_STATUS_TOKENS.__getitem__, statuses)))
+            except (KeyError, TypeError):
+                tokens.append([orjson.dumps(status) for status in statuses])
+        return tokens
+
+
+def _bits(array: np.ndarray) -> np.ndarray:
+    return np.ascontiguousarray(array).view(np.uint8)
+
+
+_STATUS_TOKENS = {**{status: orjson.dumps(status) for status in STATUSES}, None: b"null"}
+
+
+def _number_tokens(array: np.ndarray) -> list[bytes]:
+    """Each number of a 1-D float array as orjson writes it (NaN as null)."""
+    return orjson.dumps(np.ascontiguousarray(array), option=orjson.OPT_SERIALIZE_NUMPY)[1:-1].split(b",")
+
+
+def _int_tokens(array: np.ndarray) -> list[bytes]:
+    """Each number of a float array as a whole number (``int(value)``), null where not finite."""
+    if np.isfinite(array).all() and (np.abs(array) < 2.0**63).all():
+        return orjson.dumps(array.astype(np.int64), option=orjson.OPT_SERIALIZE_NUMPY)[1:-1].split(b",")
+    return orjson.dumps([int(v) if math.isfinite(v) else None for v in array.tolist()])[1:-1].split(b",")
+
+
+def _row_segments(outcome: _Outcome) -> list[bytes]:
+    """One case's JSON object as the constant texts between its numbers and statuses, in the
+    order of :func:`_case_body`: the outputs, then each check's value, limit, fail_limit,
+    comparison, status and basis."""
+    option = orjson.OPT_SERIALIZE_NUMPY
+    segments, text = [], b"{"
+    for name in outcome.values:
+        segments.append(text + (b"," if segments else b"") + orjson.dumps(name) + b":")
+        text = b""
+    text += (b"," if segments else b"") + b'"checks":{'
+    for k, (name, check) in enumerate(outcome.checks.items()):
+        segments.append(text + (b"," if k else b"") + orjson.dumps(name) + b':{"value":')
+        segments.append(b',"limit":' + orjson.dumps(check["limit"], option=option)
+                        + b',"fail_limit":' + orjson.dumps(check["fail_limit"], option=option)
+                        + b',"comparison":' + orjson.dumps(check["comparison"], option=option) + b',"status":')
+        text = b',"basis":' + orjson.dumps(check["basis"], option=option) + b"}"
+    segments.append(text + b"}}")
+    return segments
 
 
 def _check_rows(check: dict) -> list[dict]:
@@ -583,8 +946,20 @@ def _column_out(calculation: Calculation, name: str, array: np.ndarray):
     if array.ndim == 2:
         return [_scalar(calculation, name, row) if np.isfinite(row).any() else None for row in array]
     if name in calculation._integer_outputs:
-        return [int(v) if np.isfinite(v) else None for v in array.tolist()]
+        return _whole_numbers(array)
     return array  # orjson writes numpy arrays directly; NaN becomes null
+
+
+def _whole_numbers(array: np.ndarray):
+    """``[int(v) if finite else None for v in array]``, converted by numpy rather than one by one."""
+    finite = np.isfinite(array)
+    if not (np.abs(array[finite]) < 2.0**63).all():
+        return [int(v) if math.isfinite(v) else None for v in array.tolist()]
+    if finite.all():
+        return array.astype(np.int64)  # orjson writes it as the same whole numbers
+    whole = np.full(len(array), None, dtype=object)
+    whole[finite] = array[finite].astype(np.int64).astype(object)
+    return whole.tolist()
 
 
 def _check_column(check: dict, size: int) -> dict:
@@ -601,7 +976,8 @@ def _rule_constants(check: dict) -> dict:
     for key in ("limit", "fail_limit", "comparison", "basis"):
         value = check[key]
         if isinstance(value, np.ndarray):
-            distinct = {v for v in value.tolist() if v is not None}
+            # None is a value here too (a rule without a fail_limit), not a missing one.
+            distinct = set(value.tolist())
             value = distinct.pop() if len(distinct) == 1 else _nan_to_none(value.tolist())
         constants[key] = value
     return constants

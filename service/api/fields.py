@@ -9,6 +9,8 @@ loop through per-item fields.
 
 from __future__ import annotations
 
+import math
+
 import numpy as np
 from marshmallow import Schema, ValidationError, fields
 
@@ -134,6 +136,17 @@ class Quantity(_CaseField):
             return "Must be a whole number."
         return f"Must be {self.range_text}."
 
+    def _in_range(self, number: float) -> bool:
+        """:meth:`_out_of_range` for one number, in plain Python (numpy's cost per call is larger
+        than the check)."""
+        if not math.isfinite(number):
+            return False
+        if self.minimum is not None and (number <= self.minimum if self.exclusive_minimum else number < self.minimum):
+            return False
+        if self.maximum is not None and (number >= self.maximum if self.exclusive_maximum else number > self.maximum):
+            return False
+        return not (self.integer and number != round(number))
+
     def _load_one(self, value):
         if not _is_number(value):
             raise ValidationError("Not a number." if not self.integer else "Not a whole number.")
@@ -141,7 +154,7 @@ class Quantity(_CaseField):
             number = float(value)
         except OverflowError:  # an integer literal beyond the float range
             raise ValidationError("Must be a finite number.") from None
-        if self._out_of_range(np.asarray(number)):
+        if not self._in_range(number):
             raise ValidationError(self._range_message(number))
         return int(number) if self.integer else number
 
@@ -184,9 +197,12 @@ class Option(_CaseField):
         return value
 
     def _load_column(self, values: list):
-        bad = {i: [self._message()] for i, v in enumerate(values) if not isinstance(v, str) or v not in self.choices}
-        if bad:
-            raise ValidationError(bad)
+        # Strings only, all among the choices: checked at C speed before any per-item look.
+        if not (set(map(type, values)) == {str} and set(values) <= set(self.choices)):
+            bad = {i: [self._message()] for i, v in enumerate(values)
+                   if not isinstance(v, str) or v not in self.choices}
+            if bad:
+                raise ValidationError(bad)
         return np.asarray(values, dtype=str)
 
 

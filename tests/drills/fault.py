@@ -157,7 +157,10 @@ def graceful_drill(server: Server, *, cases: int = 200_000) -> dict:
     exited_at = time.monotonic()
     late_thread.join(STOP_SECONDS)
     status_line, _, rest = response.partition(b"\r\n")
-    payload = json.loads(rest.partition(b"\r\n\r\n")[2]) if b" 200 " in status_line else {}
+    headers, _, body = rest.partition(b"\r\n\r\n")
+    if b"transfer-encoding: chunked" in headers.lower():  # large answers are streamed
+        body = _dechunk(body)
+    payload = json.loads(body) if b" 200 " in status_line else {}
     columns = payload.get("columns", {})
     computed = max((len(v) for v in columns.values() if isinstance(v, list)), default=0)
     return {
@@ -186,6 +189,18 @@ def _late_request(port: int, result: dict) -> None:
     finally:
         connection.close()
     result.update(outcome=outcome, ended=time.monotonic())
+
+
+def _dechunk(body: bytes) -> bytes:
+    """The payload of an HTTP/1.1 chunked body."""
+    parts, position = [], 0
+    while True:
+        line_end = body.index(b"\r\n", position)
+        length = int(body[position:line_end].split(b";")[0], 16)
+        if length == 0:
+            return b"".join(parts)
+        parts.append(body[line_end + 2:line_end + 2 + length])
+        position = line_end + 2 + length + 2
 
 
 def _read_response(connection: socket.socket) -> bytes:
