@@ -61,6 +61,61 @@ class CaseResults:
         return CaseResults(values=values, failures=failures, checks=checks)
 
 
+def masked_results(values, failures, checks=None, shape=None, inputs=()) -> CaseResults:
+    """Results with every failed case blanked: NaN in float outputs, 0 in integer ones.
+
+    Outputs are masked in place where that is safe (a full-shape, writable array that is no
+    view of an input) and left untouched when no case failed, so a large batch does not hold
+    a second copy of every output.
+
+    Parameters
+    ----------
+    values : dict of str to array_like
+        Output arrays; each broadcast to ``shape``; integer outputs come back as int64.
+    failures : list of (str, array_like)
+        Reasons with a boolean mask of the cases they apply to; each broadcast to ``shape``.
+    checks : callable, optional
+        Called with the masked values and the boolean mask of failed cases, returns the dict
+        of :class:`RuleCheck`.
+    shape : tuple, optional
+        Shape of the case axis; by default the common shape of the values.
+    inputs : sequence of array_like
+        The caller's inputs, never written to even when an output is one of them.
+
+    Returns
+    -------
+    CaseResults
+    """
+    if shape is None:
+        shape = np.broadcast_shapes(*(np.shape(v) for v in values.values()))
+    failures = [(reason, mask if np.shape(mask) == shape else np.broadcast_to(mask, shape).copy())
+                for reason, mask in failures]
+    failed = np.zeros(shape, dtype=bool)
+    for _, mask in failures:
+        failed |= mask
+    any_failed = bool(failed.any())
+    guarded = [a for a in inputs if isinstance(a, np.ndarray)]
+    out = {}
+    for name, array in values.items():
+        array = np.asarray(array)
+        integer = array.dtype.kind in "iu"
+        if integer and array.dtype != np.int64:
+            array = array.astype(np.int64)
+        elif not integer and array.dtype != np.float64:
+            array = array.astype(np.float64)
+        if array.shape != shape:
+            array = np.broadcast_to(array, shape)
+        if any_failed:
+            writable = (array.flags.writeable and array.flags.owndata
+                        and not any(np.may_share_memory(array, a) for a in guarded))
+            if writable:
+                array[failed] = 0 if integer else np.nan
+            else:
+                array = np.where(failed, 0 if integer else np.nan, array).astype(array.dtype, copy=False)
+        out[name] = array
+    return CaseResults(values=out, failures=failures, checks=checks(out, failed) if checks is not None else {})
+
+
 def broadcast_cases(*arrays) -> list[np.ndarray]:
     """Broadcast inputs to their common shape as float arrays (scalars stay 0-d)."""
     arrays = [np.asarray(a, dtype=float) for a in arrays]
