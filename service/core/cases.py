@@ -64,9 +64,9 @@ class CaseResults:
 def masked_results(values, failures, checks=None, shape=None, inputs=()) -> CaseResults:
     """Results with every failed case blanked: NaN in float outputs, 0 in integer ones.
 
-    Outputs are masked in place where that is safe (a full-shape, writable array that is no
-    view of an input) and left untouched when no case failed, so a large batch does not hold
-    a second copy of every output.
+    Outputs are masked in place, so a large batch does not hold a second copy of every output;
+    only an output that is not a full-shape, contiguous, writable array of its own (a
+    broadcast scalar, a view, one of the caller's inputs) is copied first.
 
     Parameters
     ----------
@@ -80,7 +80,8 @@ def masked_results(values, failures, checks=None, shape=None, inputs=()) -> Case
     shape : tuple, optional
         Shape of the case axis; by default the common shape of the values.
     inputs : sequence of array_like
-        The caller's inputs, never written to even when an output is one of them.
+        The caller's inputs: an output that shares memory with one is copied, so the inputs
+        are never written to and the outputs never alias them.
 
     Returns
     -------
@@ -103,15 +104,15 @@ def masked_results(values, failures, checks=None, shape=None, inputs=()) -> Case
             array = array.astype(np.int64)
         elif not integer and array.dtype != np.float64:
             array = array.astype(np.float64)
-        if array.shape != shape:
-            array = np.broadcast_to(array, shape)
+        if array.shape != shape or not array.flags.c_contiguous:
+            # Serialisers read outputs as flat buffers.
+            array = np.broadcast_to(array, shape).copy()
+        elif not (array.flags.writeable and array.flags.owndata) or any(
+                np.may_share_memory(array, a) for a in guarded):
+            # An output never aliases an input, nor is a read-only or borrowed buffer.
+            array = array.copy()
         if any_failed:
-            writable = (array.flags.writeable and array.flags.owndata
-                        and not any(np.may_share_memory(array, a) for a in guarded))
-            if writable:
-                array[failed] = 0 if integer else np.nan
-            else:
-                array = np.where(failed, 0 if integer else np.nan, array).astype(array.dtype, copy=False)
+            array[failed] = 0 if integer else np.nan
         out[name] = array
     return CaseResults(values=out, failures=failures, checks=checks(out, failed) if checks is not None else {})
 
