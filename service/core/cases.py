@@ -61,6 +61,17 @@ class CaseResults:
         return CaseResults(values=values, failures=failures, checks=checks)
 
 
+#: Cases up to which masked_results copies every output rather than checking whether it must.
+_SMALL = 64
+
+
+def _own(array, shape, dtype) -> np.ndarray:
+    """A new C-contiguous array of ``shape`` and ``dtype`` holding ``array`` broadcast."""
+    result = np.empty(shape, dtype=dtype)
+    result[...] = array
+    return result
+
+
 def masked_results(values, failures, checks=None, shape=None, inputs=()) -> CaseResults:
     """Results with every failed case blanked: NaN in float outputs, 0 in integer ones.
 
@@ -89,28 +100,25 @@ def masked_results(values, failures, checks=None, shape=None, inputs=()) -> Case
     """
     if shape is None:
         shape = np.broadcast_shapes(*(np.shape(v) for v in values.values()))
-    failures = [(reason, mask if np.shape(mask) == shape else np.broadcast_to(mask, shape).copy())
+    failures = [(reason, mask if np.shape(mask) == shape else _own(mask, shape, bool))
                 for reason, mask in failures]
     failed = np.zeros(shape, dtype=bool)
     for _, mask in failures:
         failed |= mask
     any_failed = bool(failed.any())
+    # Copying a few cases costs less than finding out whether the copy is needed.
+    small = failed.size <= _SMALL
     guarded = [a for a in inputs if isinstance(a, np.ndarray)]
     out = {}
     for name, array in values.items():
         array = np.asarray(array)
         integer = array.dtype.kind in "iu"
-        if integer and array.dtype != np.int64:
-            array = array.astype(np.int64)
-        elif not integer and array.dtype != np.float64:
-            array = array.astype(np.float64)
-        if array.shape != shape or not array.flags.c_contiguous:
-            # Serialisers read outputs as flat buffers.
-            array = np.broadcast_to(array, shape).copy()
-        elif not (array.flags.writeable and array.flags.owndata) or any(
-                np.may_share_memory(array, a) for a in guarded):
-            # An output never aliases an input, nor is a read-only or borrowed buffer.
-            array = array.copy()
+        dtype = np.int64 if integer else np.float64
+        if (small or array.shape != shape or array.dtype != dtype or not array.flags.c_contiguous
+                or not array.flags.writeable or not array.flags.owndata
+                or any(np.may_share_memory(array, a) for a in guarded)):
+            # Serialisers read outputs as flat buffers, and an output never aliases an input.
+            array = _own(array, shape, dtype)
         if any_failed:
             array[failed] = 0 if integer else np.nan
         out[name] = array
