@@ -141,8 +141,11 @@ def _require_key() -> Response | None:
 
 
 def _security_headers(response: Response) -> Response:
+    # One pass over the headers, not one case-insensitive search (raising KeyError) per name.
+    present = {name.lower() for name, _ in response.headers}
     for name, value in SECURITY_HEADERS.items():
-        response.headers.setdefault(name, value)
+        if name.lower() not in present:
+            response.headers.add(name, value)
     if response.status_code >= 400:
         response.headers["Cache-Control"] = "no-store"
     return response

@@ -149,7 +149,12 @@ class JsonFormatter(logging.Formatter):
         entry.update(getattr(record, "fields", {}))
         if record.exc_info and record.exc_info[0] is not None:
             entry["exception"] = _exception_summary(*record.exc_info)
-        return json.dumps(entry, separators=(",", ":"), default=str)
+        return _ENCODER.encode(entry)
+
+
+# What json.dumps(entry, separators=(",", ":"), default=str) writes, without building an encoder
+# for every line.
+_ENCODER = json.JSONEncoder(separators=(",", ":"), default=str)
 
 
 def _exception_summary(kind, _error, trace) -> dict:
@@ -206,6 +211,7 @@ class Metrics:
     def __init__(self, multiprocess_dir: str | None):
         self.multiprocess_dir = multiprocess_dir
         self.registry = CollectorRegistry(auto_describe=True)
+        self._children = {}
         self.requests = Counter(
             METRIC_NAMES["requests"], "HTTP requests answered, by endpoint and status.",
             ("endpoint", "status"), registry=self.registry)
@@ -218,6 +224,15 @@ class Metrics:
         self.failures = Counter(
             METRIC_NAMES["failures"], "Cases of batches that were physically impossible (null outputs and "
             "an entry in errors), by endpoint.", ("endpoint",), registry=self.registry)
+
+    def child(self, metric, *labels):
+        """``metric.labels(*labels)``, looked up once per label values: the endpoints and
+        statuses are few (unmatched paths share one label), so the cache stays small."""
+        key = (metric, labels)
+        found = self._children.get(key)
+        if found is None:
+            found = self._children[key] = metric.labels(*labels)
+        return found
 
     def exposition(self) -> bytes:
         if self.multiprocess_dir:
@@ -271,22 +286,25 @@ def _finish(response: Response) -> Response:
     response.headers[REQUEST_ID_HEADER] = request_id()
 
     metrics: Metrics = current_app.extensions[_EXTENSION]
-    metrics.requests.labels(endpoint=endpoint, status=str(status)).inc()
-    metrics.latency.labels(endpoint=endpoint).observe(duration)
+    metrics.child(metrics.requests, endpoint, str(status)).inc()
+    metrics.child(metrics.latency, endpoint).observe(duration)
     if cases:
-        metrics.cases.labels(endpoint=endpoint).inc(cases)
+        metrics.child(metrics.cases, endpoint).inc(cases)
     if failures:
-        metrics.failures.labels(endpoint=endpoint).inc(failures)
+        metrics.child(metrics.failures, endpoint).inc(failures)
 
-    log.info("request", extra={"fields": {
-        "method": request.method,
-        "path": request.path[:MAX_LOGGED_PATH],
-        "endpoint": endpoint,
-        "status": status,
-        "duration_ms": round(duration * 1e3, 3),
-        "cases": cases,
-        "case_failures": failures,
-    }})
+    if log.isEnabledFor(logging.INFO):
+        # The record is made directly: Logger.info would also look up the calling source line
+        # (a walk of the stack) that the JSON line does not carry.
+        log.handle(log.makeRecord(log.name, logging.INFO, __file__, 0, "request", None, None, extra={"fields": {
+            "method": request.method,
+            "path": request.path[:MAX_LOGGED_PATH],
+            "endpoint": endpoint,
+            "status": status,
+            "duration_ms": round(duration * 1e3, 3),
+            "cases": cases,
+            "case_failures": failures,
+        }}))
     return response
 
 

@@ -25,7 +25,6 @@ References
 from __future__ import annotations
 
 import numpy as np
-from scipy.optimize import elementwise
 
 from service.core.cases import broadcast_cases
 
@@ -168,6 +167,9 @@ def hub_to_tip_ratio_for_flow(held, radius, flow_ratio):
     def residual(x, which):
         with np.errstate(all="ignore"):
             return flow_ratio(annulus_from_hub_to_tip_ratio(held, radius[which], x), which) - 1.0
+
+    # Imported here, not at module level: scipy costs every worker ~48 MB at start.
+    from scipy.optimize import elementwise
 
     result = elementwise.find_root(residual, (lower[active], upper[active]), args=(active,),
                                    tolerances={"xrtol": RATIO_RTOL})

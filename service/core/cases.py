@@ -61,6 +61,70 @@ class CaseResults:
         return CaseResults(values=values, failures=failures, checks=checks)
 
 
+#: Cases up to which masked_results copies every output rather than checking whether it must.
+_SMALL = 64
+
+
+def _own(array, shape, dtype) -> np.ndarray:
+    """A new C-contiguous array of ``shape`` and ``dtype`` holding ``array`` broadcast."""
+    result = np.empty(shape, dtype=dtype)
+    result[...] = array
+    return result
+
+
+def masked_results(values, failures, checks=None, shape=None, inputs=()) -> CaseResults:
+    """Results with every failed case blanked: NaN in float outputs, 0 in integer ones.
+
+    Outputs are masked in place, so a large batch does not hold a second copy of every output;
+    only an output that is not a full-shape, contiguous, writable array of its own (a
+    broadcast scalar, a view, one of the caller's inputs) is copied first.
+
+    Parameters
+    ----------
+    values : dict of str to array_like
+        Output arrays; each broadcast to ``shape``; integer outputs come back as int64.
+    failures : list of (str, array_like)
+        Reasons with a boolean mask of the cases they apply to; each broadcast to ``shape``.
+    checks : callable, optional
+        Called with the masked values and the boolean mask of failed cases, returns the dict
+        of :class:`RuleCheck`.
+    shape : tuple, optional
+        Shape of the case axis; by default the common shape of the values.
+    inputs : sequence of array_like
+        The caller's inputs: an output that shares memory with one is copied, so the inputs
+        are never written to and the outputs never alias them.
+
+    Returns
+    -------
+    CaseResults
+    """
+    if shape is None:
+        shape = np.broadcast_shapes(*(np.shape(v) for v in values.values()))
+    failures = [(reason, mask if np.shape(mask) == shape else _own(mask, shape, bool))
+                for reason, mask in failures]
+    failed = np.zeros(shape, dtype=bool)
+    for _, mask in failures:
+        failed |= mask
+    any_failed = bool(failed.any())
+    # Copying a few cases costs less than finding out whether the copy is needed.
+    small = failed.size <= _SMALL
+    guarded = [a for a in inputs if isinstance(a, np.ndarray)]
+    out = {}
+    for name, array in values.items():
+        array = np.asarray(array)
+        integer = array.dtype.kind in "iu"
+        dtype = np.int64 if integer else np.float64
+        if (small or array.shape != shape or array.dtype != dtype or not array.flags.c_contiguous
+                or not array.flags.writeable or not array.flags.owndata
+                or any(np.may_share_memory(array, a) for a in guarded)):
+            # Serialisers read outputs as flat buffers, and an output never aliases an input.
+            array = _own(array, shape, dtype)
+        if any_failed:
+            array[failed] = 0 if integer else np.nan
+        out[name] = array
+    return CaseResults(values=out, failures=failures, checks=checks(out, failed) if checks is not None else {})
+
+
 def broadcast_cases(*arrays) -> list[np.ndarray]:
     """Broadcast inputs to their common shape as float arrays (scalars stay 0-d)."""
     arrays = [np.asarray(a, dtype=float) for a in arrays]

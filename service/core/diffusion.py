@@ -42,7 +42,7 @@ from __future__ import annotations
 
 import numpy as np
 
-from service.core.cases import CaseResults, broadcast_cases
+from service.core.cases import broadcast_cases, masked_results
 from service.core.checks import RuleCheck, de_haller_check, deceleration_check
 
 ROWS = ("rotor", "stator")
@@ -388,19 +388,19 @@ def _common_shape(*arrays):
     return np.broadcast_shapes(*(np.shape(a) for a in arrays if a is not None))
 
 
-def _finish(values, failures, row, span_position, judged, shape):
+def _finish(values, failures, row, span_position, judged, shape, inputs):
     """Mask failed cases to NaN in every output and judge the rules of thumb."""
-    failures = [(reason, np.broadcast_to(mask, shape).copy()) for reason, mask in failures]
-    failed = np.zeros(shape, dtype=bool)
-    for _, mask in failures:
-        failed |= mask
-    values = {name: np.where(failed, np.nan, np.broadcast_to(array, shape)) for name, array in values.items()}
-    checks = {
-        "diffusion_factor": diffusion_factor_check(np.where(failed, np.nan, judged), row, span_position),
-        "de_haller": de_haller_check(values["de_haller"]),
-        "velocity_ratio": deceleration_check(values["velocity_ratio"]),
-    }
-    return CaseResults(values=values, failures=failures, checks=checks)
+
+    def checks(out, failed):
+        # The judged factor is an output, or the target (an input, so masked into a copy).
+        masked = out[judged] if isinstance(judged, str) else np.where(failed, np.nan, judged)
+        return {
+            "diffusion_factor": diffusion_factor_check(masked, row, span_position),
+            "de_haller": de_haller_check(out["de_haller"]),
+            "velocity_ratio": deceleration_check(out["velocity_ratio"]),
+        }
+
+    return masked_results(values, failures, checks, shape=shape, inputs=inputs)
 
 
 def evaluate_diffusion_analysis(row, axial_velocity, inlet_angle, outlet_angle, solidity=None,
@@ -486,7 +486,9 @@ def evaluate_diffusion_analysis(row, axial_velocity, inlet_angle, outlet_angle, 
             sigma, inlet_radius, outlet_radius)
         values["solidity"] = sigma
         shape = _common_shape(*values.values(), *(mask for _, mask in failures))
-        return _finish(values, failures, row, span_position, values["diffusion_factor"], shape)
+        return _finish(values, failures, row, span_position, "diffusion_factor", shape,
+                       (axial_velocity, inlet_angle, outlet_angle, solidity, chord, pitch, blade_count,
+                        mean_radius, outlet_axial_velocity, inlet_radius, outlet_radius))
 
 
 def evaluate_diffusion_sizing(row, axial_velocity, inlet_angle, outlet_angle, target_diffusion_factor,
@@ -561,7 +563,7 @@ def evaluate_diffusion_sizing(row, axial_velocity, inlet_angle, outlet_angle, ta
             values["diffusion_factor_achieved"] = diffusion_factor(
                 v1, v2, flow["inlet_swirl"], flow["outlet_swirl"],
                 solidity_from_blade_count(chord_, radius, count), inlet_radius, outlet_radius)
-            judged = values["diffusion_factor_achieved"]
+            judged = "diffusion_factor_achieved"
 
         shape = _common_shape(target, *values.values(), *(mask for _, mask in failures))
         smallest = np.broadcast_to(values["minimum_diffusion_factor"], shape)
@@ -573,4 +575,6 @@ def evaluate_diffusion_sizing(row, axial_velocity, inlet_angle, outlet_angle, ta
         no_turning = ~invalid & ~unreachable & ~(turning > _NO_TURNING * v1)
         failures += _grouped(unreachable_target_reason, smallest, np.broadcast_to(unreachable, shape))
         failures += _grouped(no_turning_reason, smallest, np.broadcast_to(no_turning, shape))
-        return _finish(values, failures, row, span_position, judged, shape)
+        return _finish(values, failures, row, span_position, judged, shape,
+                       (axial_velocity, inlet_angle, outlet_angle, target_diffusion_factor, chord,
+                        mean_radius, outlet_axial_velocity, inlet_radius, outlet_radius))

@@ -53,7 +53,6 @@ References
 from __future__ import annotations
 
 import numpy as np
-from scipy.optimize import elementwise
 
 from service.core.cases import CaseResults
 from service.core.checks import COMMON_PRACTICE, RuleCheck
@@ -361,6 +360,9 @@ def _total_change_isentropic(machine, pressure_ratio, shares, efficiency, k):
                 term = np.where(remaining > 0, 1.0 - w * x / (eta * remaining), 0.0)
                 log_stage = -np.log(np.maximum(term, _TINY)) / kk
         return np.where(w > 0, log_stage, 0.0).sum(axis=-1) - log_ratio[case]
+
+    # Imported here, not at module level: scipy costs every worker ~48 MB at start.
+    from scipy.optimize import elementwise
 
     result = elementwise.find_root(
         residual, (lower, upper), args=(np.arange(len(log_ratio)),),

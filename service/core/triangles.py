@@ -38,7 +38,7 @@ from __future__ import annotations
 import numpy as np
 
 from service.core import gas
-from service.core.cases import CaseResults, broadcast_cases
+from service.core.cases import broadcast_cases, masked_results
 from service.core.checks import de_haller_check, deceleration_check
 
 MACHINES = ("compressor", "turbine")
@@ -235,15 +235,16 @@ def _evaluate(machine, blade_speed, axial_velocity, swirl, total_temperature, to
                 (f"static temperature at station {k} is at or below zero: the flow is faster than "
                  f"the total temperature allows", ~(values[f"T{k}"] > 0))
             )
-    failed = np.zeros(np.shape(values["work"]), dtype=bool)
-    for _, mask in failures:
-        failed |= mask
-    values = {name: np.where(failed, np.nan, array) for name, array in values.items()}
+    return masked_results(values, failures, _stage_checks, shape=np.shape(values["work"]),
+                          inputs=(blade_speed, axial_velocity, *swirl, total_temperature, total_pressure, cp, gamma))
+
+
+def _stage_checks(values, failed):
     checks = {}
     for row, ratio in (("rotor", values["de_haller_rotor"]), ("stator", values["de_haller_stator"])):
         checks[f"de_haller_{row}"] = de_haller_check(ratio)
         checks[f"velocity_ratio_{row}"] = deceleration_check(ratio)
-    return CaseResults(values=values, failures=failures, checks=checks)
+    return checks
 
 
 def evaluate_stage_from_duty(

@@ -101,7 +101,7 @@ from __future__ import annotations
 
 import numpy as np
 
-from service.core.cases import CaseResults, broadcast_cases
+from service.core.cases import broadcast_cases, masked_results
 from service.core.checks import COMMON_PRACTICE, RuleCheck
 
 ROUNDINGS = ("up", "nearest", "even_up")
@@ -577,20 +577,8 @@ def _loading_and_failures(inlet_angle, outlet_angle, definition, outlet_mach, in
     return loading, failures, extra
 
 
-def _finish(values, failures, judged):
-    shape = np.broadcast_shapes(*(np.shape(v) for v in values.values()))
-    failed = np.zeros(shape, dtype=bool)
-    failures = [(reason, np.broadcast_to(mask, shape)) for reason, mask in failures]
-    for _, mask in failures:
-        failed |= mask
-    out = {}
-    for name, array in values.items():
-        array = np.broadcast_to(array, shape)
-        if array.dtype.kind in "iu":
-            out[name] = np.where(failed, 0, array).astype(np.int64)
-        else:
-            out[name] = np.where(failed, np.nan, array)
-    return CaseResults(values=out, failures=failures, checks=zweifel_checks(out[judged]))
+def _finish(values, failures, judged, inputs):
+    return masked_results(values, failures, lambda out, failed: zweifel_checks(out[judged]), inputs=inputs)
 
 
 def evaluate_zweifel_sizing(
@@ -672,7 +660,9 @@ def evaluate_zweifel_sizing(
         "zweifel_coefficient_achieved": achieved,
         **extra,
     }
-    return _finish(values, failures, "zweifel_coefficient_achieved")
+    return _finish(values, failures, "zweifel_coefficient_achieved",
+                   (inlet_angle, outlet_angle, axial_chord, mean_radius, zweifel_coefficient, outlet_mach,
+                    inlet_total_pressure, outlet_pressure, gamma))
 
 
 def evaluate_zweifel_analysis(
@@ -747,4 +737,6 @@ def evaluate_zweifel_analysis(
         "pitch": pitch,
         **extra,
     }
-    return _finish(values, failures, "zweifel_coefficient")
+    return _finish(values, failures, "zweifel_coefficient",
+                   (inlet_angle, outlet_angle, axial_chord, pitch, blade_count, mean_radius, outlet_mach,
+                    inlet_total_pressure, outlet_pressure, gamma))
