@@ -4,8 +4,9 @@ from __future__ import annotations
 
 from marshmallow import fields
 
-from service.api.fields import CaseSchema, Option, Quantity
+from service.api.fields import CaseSchema, Option, Quantity, QuantityList
 from service.core.gas import GAS_NAMES
+from service.core.split import MAX_STAGES, SPLIT_RULES
 from service.core.triangles import MACHINES
 
 ANGLE_LIMITS = {"minimum": -90.0, "maximum": 90.0, "exclusive_minimum": True, "exclusive_maximum": True}
@@ -69,3 +70,24 @@ def output(description: str, unit: str) -> fields.Float:
 
 def integer_output(description: str) -> fields.Integer:
     return fields.Integer(metadata={"description": description, "x-unit": "-"})
+
+
+EFFICIENCY_LIMITS = {"minimum": 0.0, "maximum": 1.0, "exclusive_minimum": True}
+
+
+class StageSplitInputs(GasInputs, RequiredInletStateInputs):
+    """The duty and the split choices shared by the stage split and the whole-machine design."""
+
+    machine = machine_field(required=True)
+    pressure_ratio = Quantity("Overall total pressure ratio, above 1: p0_out / p0_in for a compressor, "
+                              "p0_in / p0_out for a turbine. [-]", "-", minimum=1.0, exclusive_minimum=True,
+                              required=True)
+    stages = Quantity("Number of stages. [-]", "-", minimum=1, maximum=MAX_STAGES, integer=True)
+    max_stage_pressure_ratio = Quantity(
+        "Largest stage pressure ratio (turbine: expansion ratio) allowed; the fewest stages that keep every "
+        "stage within it are found. [-]", "-", minimum=1.0, exclusive_minimum=True)
+    rule = Option("How the work is shared: `equal_work` (every stage the same total temperature change), "
+                  "`equal_pressure_ratio`, or `weights` (relative work shares, one per stage).", SPLIT_RULES,
+                  load_default="equal_work")
+    weights = QuantityList("Relative work share of each stage, front to rear (rule `weights`); normalised. [-]",
+                           "-", minimum=0.0, exclusive_minimum=True)

@@ -6,44 +6,29 @@ from marshmallow import Schema
 
 from service.api.calculation import Calculation, Mode, combine_modes
 from service.api.common import (
-    GasInputs,
-    RequiredInletStateInputs,
+    EFFICIENCY_LIMITS,
+    StageSplitInputs,
     angle,
     integer_output,
-    machine_field,
     output,
     positive,
 )
-from service.api.fields import Option, Quantity, QuantityList, QuantityPerStage
-from service.core import flowpath, gas, split, zweifel
+from service.api.fields import Quantity, QuantityPerStage
+from service.core import flowpath, gas, zweifel
 from service.core import machine as design
 
-EFFICIENCY_LIMITS = {"minimum": 0.0, "maximum": 1.0, "exclusive_minimum": True}
 
-
-class MachineInput(GasInputs, RequiredInletStateInputs):
-    machine = machine_field(required=True)
+class MachineInput(StageSplitInputs):
     mass_flow = positive("Mass flow. [kg s^-1]", "kg s^-1", required=True)
-    pressure_ratio = Quantity("Overall total pressure ratio, above 1: p0_out / p0_in for a compressor, "
-                              "p0_in / p0_out for a turbine. [-]", "-", minimum=1.0, exclusive_minimum=True,
-                              required=True)
     shaft_speed = positive("Shaft speed. [rev min^-1]", "rev min^-1", required=True)
     polytropic_efficiency = Quantity("Polytropic (small-stage) efficiency of every stage. [-]", "-",
                                      **EFFICIENCY_LIMITS, required=True)
     mean_radius = positive("Mean radius, held constant through the machine. [m]", "m")
     hub_radius = positive("Hub radius, held constant through the machine. [m]", "m")
     tip_radius = positive("Tip (casing) radius, held constant through the machine. [m]", "m")
-    stages = Quantity("Number of stages. [-]", "-", minimum=1, maximum=split.MAX_STAGES, integer=True)
     max_loading_coefficient = positive(
         "Largest stage loading coefficient (work / blade_speed^2, at each stage's own blade speed) allowed; the "
         "fewest stages that keep every stage within it are found. [-]", "-")
-    max_stage_pressure_ratio = Quantity(
-        "Largest stage pressure ratio (turbine: expansion ratio) allowed; the fewest stages that keep every "
-        "stage within it are found. [-]", "-", minimum=1.0, exclusive_minimum=True)
-    rule = Option("How the work is shared between stages: `equal_work`, `equal_pressure_ratio`, or `weights` "
-                  "(relative work shares, one per stage).", split.SPLIT_RULES, load_default="equal_work")
-    weights = QuantityList("Relative work share of each stage, front to rear (rule `weights`); normalised. [-]",
-                           "-", minimum=0.0, exclusive_minimum=True)
     flow_coefficient = QuantityPerStage(
         "Flow coefficient V_x / U at each stage's mean radius: one value for every stage or a list, front to "
         "rear. [-]", "-", minimum=0.0, exclusive_minimum=True, required=True)

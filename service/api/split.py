@@ -6,41 +6,25 @@ from marshmallow import Schema
 
 from service.api.calculation import Calculation, Mode, combine_modes
 from service.api.common import (
-    GasInputs,
-    RequiredInletStateInputs,
+    EFFICIENCY_LIMITS,
+    StageSplitInputs,
     integer_output,
-    machine_field,
     output,
     positive,
 )
-from service.api.fields import Option, Quantity, QuantityList
+from service.api.fields import Quantity
 from service.core import gas, split
 
-EFFICIENCY_LIMITS = {"minimum": 0.0, "maximum": 1.0, "exclusive_minimum": True}
 
-
-class SplitInput(GasInputs, RequiredInletStateInputs):
-    machine = machine_field(required=True)
-    pressure_ratio = Quantity("Overall total pressure ratio, above 1: p0_out / p0_in for a compressor, "
-                              "p0_in / p0_out for a turbine. [-]", "-", minimum=1.0, exclusive_minimum=True,
-                              required=True)
+class SplitInput(StageSplitInputs):
     polytropic_efficiency = Quantity("Polytropic (small-stage) efficiency, the same for every stage. [-]", "-",
                                      **EFFICIENCY_LIMITS)
     stage_isentropic_efficiency = Quantity("Isentropic (total-to-total) efficiency of every stage. [-]", "-",
                                            **EFFICIENCY_LIMITS)
-    stages = Quantity("Number of stages. [-]", "-", minimum=1, maximum=split.MAX_STAGES, integer=True)
     max_loading_coefficient = positive(
         "Largest stage loading coefficient (work / blade_speed^2) allowed; the fewest stages that keep every "
         "stage within it are found. [-]", "-")
-    max_stage_pressure_ratio = Quantity(
-        "Largest stage pressure ratio (turbine: expansion ratio) allowed; the fewest stages that keep every "
-        "stage within it are found. [-]", "-", minimum=1.0, exclusive_minimum=True)
     blade_speed = positive("Mean blade speed, for the stage loading coefficients. [m s^-1]", "m s^-1")
-    rule = Option("How the work is shared: `equal_work` (every stage the same total temperature change), "
-                  "`equal_pressure_ratio`, or `weights` (relative work shares, one per stage).", split.SPLIT_RULES,
-                  load_default="equal_work")
-    weights = QuantityList("Relative work share of each stage, front to rear (rule `weights`); normalised. [-]",
-                           "-", minimum=0.0, exclusive_minimum=True)
     mass_flow = positive("Mass flow, for the power. [kg s^-1]", "kg s^-1")
 
 
