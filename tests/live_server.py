@@ -87,3 +87,18 @@ def live_server(directory: pathlib.Path, workers: int = 1, environment: dict | N
         except subprocess.TimeoutExpired:
             process.kill()
             process.wait(timeout=STOP_TIMEOUT)
+
+
+def decode_body(response: bytes) -> bytes:
+    """The body of a raw HTTP/1.1 response, undoing chunked transfer encoding."""
+    head, _, body = response.partition(b"\r\n\r\n")
+    if b"transfer-encoding: chunked" not in head.lower():
+        return body
+    out, position = [], 0
+    while True:
+        end = body.index(b"\r\n", position)
+        length = int(body[position:end].split(b";")[0], 16)
+        if length == 0:
+            return b"".join(out)
+        out.append(body[end + 2:end + 2 + length])
+        position = end + 2 + length + 2

@@ -34,6 +34,7 @@ from werkzeug.test import EnvironBuilder
 
 from tests.benchmarks import harness
 from tests.benchmarks.workloads import WORKLOADS, Workload, failed_cases
+from tests.live_server import decode_body
 
 BATCH = 100_000
 LARGE_BATCH = 1_000_000
@@ -97,7 +98,7 @@ def verify_columns(workload: Workload, port: int, body: bytes) -> dict:
     status, response = harness.exchange(port, harness.post_request(workload.path, body), keep=True)
     if status != 200:
         raise RuntimeError(f"{workload.path} columns: HTTP {status}: {response[:500]!r}")
-    answer = orjson.loads(harness.decode_body(response))
+    answer = orjson.loads(decode_body(response))
     expected = orjson.loads(workload.baseline(body))
     if [e["index"] for e in answer["errors"]] != failed_cases(expected):
         raise RuntimeError(f"{workload.path}: the failed cases differ from the baseline's")
@@ -111,7 +112,7 @@ def verify_columns(workload: Workload, port: int, body: bytes) -> dict:
 def verify_rows(workload: Workload, port: int, rows: bytes, answer: dict) -> None:
     """Once, untimed: the service's rows answer holds the same numbers as its columns answer."""
     status, response = harness.exchange(port, harness.post_request(workload.path, rows), keep=True)
-    results = orjson.loads(harness.decode_body(response))["results"] if status == 200 else None
+    results = orjson.loads(decode_body(response))["results"] if status == 200 else None
     if results is None or len(results) != BATCH:
         raise RuntimeError(f"{workload.path} rows: HTTP {status}")
     name = next(iter(answer["columns"]))

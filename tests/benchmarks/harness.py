@@ -51,21 +51,6 @@ def exchange(port: int, request: bytes, keep: bool = False) -> tuple[int, bytes 
     return status, (b"".join(parts) if keep else size)
 
 
-def decode_body(response: bytes) -> bytes:
-    """The body of a raw HTTP/1.1 response, undoing chunked transfer encoding."""
-    head, _, body = response.partition(b"\r\n\r\n")
-    if b"transfer-encoding: chunked" not in head.lower():
-        return body
-    out, position = [], 0
-    while True:
-        end = body.index(b"\r\n", position)
-        length = int(body[position:end].split(b";")[0], 16)
-        if length == 0:
-            return b"".join(out)
-        out.append(body[end + 2:end + 2 + length])
-        position = end + 2 + length + 2
-
-
 class Server:
     """A gunicorn server started as a subprocess on a loopback port, stopped by SIGTERM."""
 

@@ -30,6 +30,7 @@ from pathlib import Path
 
 from tests.drills.load import describe, run_load, summary
 from tests.drills.server import STOP_SECONDS, Server
+from tests.live_server import decode_body
 
 REPLACE_SECONDS = 30
 
@@ -156,11 +157,8 @@ def graceful_drill(server: Server, *, cases: int = 200_000) -> dict:
         exit_code = None
     exited_at = time.monotonic()
     late_thread.join(STOP_SECONDS)
-    status_line, _, rest = response.partition(b"\r\n")
-    headers, _, body = rest.partition(b"\r\n\r\n")
-    if b"transfer-encoding: chunked" in headers.lower():  # large answers are streamed
-        body = _dechunk(body)
-    payload = json.loads(body) if b" 200 " in status_line else {}
+    status_line = response.partition(b"\r\n")[0]
+    payload = json.loads(decode_body(response)) if b" 200 " in status_line else {}
     columns = payload.get("columns", {})
     computed = max((len(v) for v in columns.values() if isinstance(v, list)), default=0)
     return {
@@ -189,18 +187,6 @@ def _late_request(port: int, result: dict) -> None:
     finally:
         connection.close()
     result.update(outcome=outcome, ended=time.monotonic())
-
-
-def _dechunk(body: bytes) -> bytes:
-    """The payload of an HTTP/1.1 chunked body."""
-    parts, position = [], 0
-    while True:
-        line_end = body.index(b"\r\n", position)
-        length = int(body[position:line_end].split(b";")[0], 16)
-        if length == 0:
-            return b"".join(parts)
-        parts.append(body[line_end + 2:line_end + 2 + length])
-        position = line_end + 2 + length + 2
 
 
 def _read_response(connection: socket.socket) -> bytes:
