@@ -100,6 +100,8 @@ class Calculation:
         ``compute(mode, options, inputs) -> CaseResults`` with ``inputs`` arrays of one length.
     together : tuple of tuple of str
         Fields that are given all together or not at all.
+    requires : tuple of (str, str)
+        ``(field, needed)``: ``field`` may be given only with ``needed`` (not the other way round).
     """
 
     name: str
@@ -110,6 +112,7 @@ class Calculation:
     modes: tuple[Mode, ...]
     compute: Callable[[Mode, dict[str, str], dict[str, Any]], CaseResults]
     together: tuple[tuple[str, ...], ...] = ()
+    requires: tuple[tuple[str, str], ...] = ()
     columns: bool = True  # whether the columns request shape is offered
     # ``render_svg(payload, body) -> str``: a drawing of one case, answered for ``Accept: image/svg+xml``.
     render_svg: Callable[[dict, dict], str] | None = None
@@ -525,6 +528,9 @@ def _resolve_mode(calculation: Calculation, group: _Group, options: dict, positi
         if given and len(given) < len(fields):
             errors += [(p, f"Required together with {', '.join(given)}.")
                        for f in fields if f not in present for p in group.case_pointers(f, positions)]
+    for field_name, needed in calculation.requires:
+        if field_name in present and needed not in present:
+            errors += [(p, f"Required with {field_name}.") for p in group.case_pointers(needed, positions)]
     if any(name not in options for mode in calculation.modes for name in mode.when):
         return None, errors  # an option is missing or invalid: its own error says so, modes cannot be judged
     candidates = [m for m in calculation.modes if m.applies(options)]

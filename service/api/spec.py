@@ -103,6 +103,9 @@ def _mode_schema(prefix: str, calculation: Calculation, mode: Mode, shape: str) 
     body = {"type": "object", "description": f"Give {mode.description}.", "properties": properties,
             "required": required, "additionalProperties": False}
     dependent = {f: [g for g in group if g != f] for group in calculation.together for f in group if f in allowed}
+    for field_name, needed in calculation.requires:
+        if field_name in allowed:
+            dependent.setdefault(field_name, []).append(needed)
     if dependent:
         body["dependentRequired"] = dependent
     return body

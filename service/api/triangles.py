@@ -187,6 +187,6 @@ CALCULATION = Calculation(
     outputs=TrianglesOutput,
     modes=combine_modes(FLOW, ROWS),
     compute=_compute,
-    together=(("total_temperature", "total_pressure"),),
+    requires=(("total_pressure", "total_temperature"),),
     render_svg=_render_svg,
 )

@@ -182,8 +182,8 @@ def stage_states(machine, triangles, total_temperature, total_pressure, cp, gamm
         The output of :func:`stage_triangles`.
     total_temperature : array_like
         Total temperature at station 1. [K]
-    total_pressure : array_like
-        Total pressure at station 1. [Pa]
+    total_pressure : array_like or None
+        Total pressure at station 1; without it ``p1`` and ``rho1`` are left out. [Pa]
     cp : array_like
         Specific heat at constant pressure. [J kg^-1 K^-1]
     gamma : array_like
@@ -198,7 +198,9 @@ def stage_states(machine, triangles, total_temperature, total_pressure, cp, gamm
         [kg m^-3]. NaN wherever a static temperature is not positive.
     """
     _check_machine(machine)
-    t01, p01, cp, gamma = broadcast_cases(total_temperature, total_pressure, cp, gamma)
+    t01, cp, gamma = broadcast_cases(total_temperature, cp, gamma)
+    # Temperatures and Mach numbers need only the total temperature; pressures need both.
+    p01 = None if total_pressure is None else broadcast_cases(total_pressure, t01)[0]
     delta_t0 = triangles["work"] / cp
     rotor_in, rotor_out = ROTOR_STATIONS[machine]
     # Total temperature changes only across the rotor (adiabatic rows).
@@ -206,14 +208,14 @@ def stage_states(machine, triangles, total_temperature, total_pressure, cp, gamm
     out = {"total_temperature_change": delta_t0}
     for k in (1, 2, 3):
         t0 = after_rotor if k >= rotor_out else t01
-        state = gas.static_state(t0, p01 if k == 1 else 1.0, triangles[f"V{k}"], cp, gamma)
+        state = gas.static_state(t0, p01 if k == 1 and p01 is not None else 1.0, triangles[f"V{k}"], cp, gamma)
         out[f"T0{k}"] = t0
         out[f"T{k}"] = state["temperature"]
         out[f"M{k}"] = state["mach"]
         if k in (rotor_in, rotor_out):
             out[f"T0_rel{k}"] = gas.total_temperature(state["temperature"], triangles[f"W{k}"], cp)
             out[f"M_rel{k}"] = triangles[f"W{k}"] / state["speed_of_sound"]
-        if k == 1:
+        if k == 1 and p01 is not None:
             out["p1"] = state["pressure"]
             out["rho1"] = state["density"]
     return out
@@ -266,8 +268,8 @@ def evaluate_stage_from_duty(
     blade_speed : array_like
         Mean blade speed; positive. [m s^-1]
     total_temperature, total_pressure : array_like, optional
-        Total state at station 1; when given, the states of :func:`stage_states` are added.
-        [K], [Pa]
+        Total state at station 1; with the temperature the states of :func:`stage_states` are
+        added, with the pressure too the static pressure and density at station 1. [K], [Pa]
     cp : array_like
         Specific heat at constant pressure. [J kg^-1 K^-1]
     gamma : array_like

@@ -362,10 +362,22 @@ def test_missing_machine_is_the_only_error_named(client):
 
 
 def test_fields_given_together_are_named_where_one_is_missing(client):
-    alone = {k: v for k, v in TRIANGLES.items() if k != "total_pressure"}
-    body = {"cases": [TRIANGLES, alone, TRIANGLES, alone]}
-    assert pointers(invalid(post(client, "triangles", body))) == ["/cases/1/total_pressure",
-                                                                   "/cases/3/total_pressure"]
+    alone = {k: v for k, v in EXAMPLES["diffusion-factor"].good.items()} | {"inlet_radius": 0.3}
+    body = {"cases": [EXAMPLES["diffusion-factor"].good, alone, alone]}
+    assert pointers(invalid(post(client, "diffusion-factor", body))) == ["/cases/1/outlet_radius",
+                                                                          "/cases/2/outlet_radius"]
+
+
+def test_a_field_that_needs_another_is_named_where_that_one_is_missing(client):
+    # Triangles: the total pressure needs the total temperature; the temperature alone gives the
+    # static temperatures and Mach numbers, without the static pressure and density at station 1.
+    no_temperature = {k: v for k, v in TRIANGLES.items() if k != "total_temperature"}
+    body = {"cases": [TRIANGLES, no_temperature, TRIANGLES, no_temperature]}
+    assert pointers(invalid(post(client, "triangles", body))) == ["/cases/1/total_temperature",
+                                                                   "/cases/3/total_temperature"]
+    no_pressure = {k: v for k, v in TRIANGLES.items() if k != "total_pressure"}
+    result = ok_body(post(client, "triangles", no_pressure))
+    assert "M1" in result and "T02" in result and "p1" not in result and "rho1" not in result
 
 
 def test_field_of_another_mode_is_422(client):

@@ -84,6 +84,9 @@ def _schema_case(calculation) -> dict:
         if any(name in case for name in group):
             for name in group:
                 case.setdefault(name, _inside(schema.fields[name]))
+    for name, needed in calculation.requires:
+        if name in case:
+            case.setdefault(needed, _inside(schema.fields[needed]))
     return case
 
 
