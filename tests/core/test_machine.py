@@ -7,6 +7,7 @@ from hypothesis import strategies as st
 from numpy.testing import assert_allclose, assert_array_equal
 
 from service.core import annulus, diffusion, flowpath, machine, split, triangles, zweifel
+from tests.core.helpers import reasons
 
 AIR = {"cp": 1005.0, "gamma": 1.4}
 PRODUCTS = {"cp": 1148.0, "gamma": 1.333}
@@ -24,13 +25,6 @@ HELD = ({"mean_radius": 0.30}, {"hub_radius": 0.24}, {"tip_radius": 0.38})
 def design(base, **changes):
     return machine.evaluate_machine_design(**{**base, **changes})
 
-
-def reasons(result):
-    out = [None] * result.size
-    for reason, mask in result.failures:
-        for case in np.flatnonzero(mask):
-            out[case] = out[case] or reason
-    return out
 
 
 def trimmed(values, name, case=0):

@@ -10,6 +10,7 @@ from scipy.optimize import brentq
 from service.core import split
 from service.core.checks import COMMON_PRACTICE
 from service.core.triangles import evaluate_stage_from_duty
+from tests.core.helpers import reasons
 
 AIR = {"cp": 1005.0, "gamma": 1.4}
 PRODUCTS = {"cp": 1148.0, "gamma": 1.333}
@@ -26,14 +27,6 @@ def stage_values(result, name, case=0):
     """The per-stage values of one case, trimmed to its stage count (as the API layer will)."""
     return result.values[name][case, : result.values["stage_count"][case]]
 
-
-def reasons(result):
-    """The reason reported for each case (the first that applies), or None."""
-    out = [None] * result.size
-    for reason, mask in result.failures:
-        for case in np.flatnonzero(mask):
-            out[case] = out[case] or reason
-    return out
 
 
 # --- The polytropic and isentropic relations ---------------------------------------------
