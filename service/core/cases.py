@@ -108,25 +108,55 @@ def masked_results(values, failures, checks=None, shape=None, inputs=()) -> Case
     any_failed = bool(failed.any())
     # Copying a few cases costs less than finding out whether the copy is needed.
     small = failed.size <= _SMALL
+    if small:
+        out = _copied_together(values, shape)
+        if out is not None:
+            if any_failed:
+                for array in out.values():
+                    array[failed] = np.nan
+            return CaseResults(values=out, failures=failures,
+                               checks=checks(out, failed) if checks is not None else {})
     guarded = [a for a in inputs if isinstance(a, np.ndarray)]
     out = {}
     for name, array in values.items():
         array = np.asarray(array)
         integer = array.dtype.kind in "iu"
         dtype = np.int64 if integer else np.float64
-        if (small or array.shape != shape or array.dtype != dtype or not array.flags.c_contiguous
+        if array.shape != shape:
+            array = _own(array, shape, dtype)
+        elif (small or array.dtype != dtype or not array.flags.c_contiguous
                 or not array.flags.writeable or not array.flags.owndata
                 or any(np.may_share_memory(array, a) for a in guarded)):
             # Serialisers read outputs as flat buffers, and an output never aliases an input.
-            array = _own(array, shape, dtype)
+            array = np.array(array, dtype=dtype, order="C")
         if any_failed:
             array[failed] = 0 if integer else np.nan
         out[name] = array
     return CaseResults(values=out, failures=failures, checks=checks(out, failed) if checks is not None else {})
 
 
+def _copied_together(values, shape):
+    """Float outputs of a few cases copied in one block (one numpy call rather than one per
+    output: for a single case the calls, not the numbers, are the cost); None if some output
+    is not a float array of ``shape``. Each output is a row of the block: C-contiguous, its own
+    memory apart from the other outputs', never an input's."""
+    arrays = [np.asarray(array) for array in values.values()]
+    if not all(a.shape == shape and a.dtype == np.float64 for a in arrays):
+        return None
+    block = np.array(arrays, dtype=np.float64)
+    # block[k, ...] rather than iterating the block: one case given as scalars stays a 0-d array.
+    return {name: block[k, ...] for k, name in enumerate(values)}
+
+
 def broadcast_cases(*arrays) -> list[np.ndarray]:
-    """Broadcast inputs to their common shape as float arrays (scalars stay 0-d)."""
+    """Broadcast inputs to their common shape as float arrays (scalars stay 0-d).
+
+    The results are read only: an input that already has the common shape comes back as it is
+    (without a view: one case pays numpy's cost per call a dozen times per calculation), so
+    callers never write into them.
+    """
     arrays = [np.asarray(a, dtype=float) for a in arrays]
-    shape = np.broadcast_shapes(*(a.shape for a in arrays))
-    return [np.broadcast_to(a, shape).astype(float, copy=False) for a in arrays]
+    shape = arrays[0].shape
+    if any(a.shape != shape for a in arrays):
+        shape = np.broadcast_shapes(*(a.shape for a in arrays))
+    return [a if a.shape == shape else np.broadcast_to(a, shape) for a in arrays]

@@ -13,6 +13,8 @@ import numpy as np
 
 STATUSES = ("ok", "warn", "fail")
 COMPARISONS = ("at_least", "at_most")
+#: The statuses as one numpy array, indexed by each case's status code.
+_STATUS_NAMES = np.array(STATUSES, dtype=f"<U{max(map(len, STATUSES))}")
 
 COMMON_PRACTICE = "common practice"
 
@@ -59,10 +61,10 @@ class RuleCheck:
     @property
     def status(self) -> np.ndarray:
         """Status of every case: ``ok``, ``warn`` or ``fail``. [-]"""
-        status = np.where(self._crosses(self.limit), self.beyond_limit, "ok")
+        code = np.where(self._crosses(self.limit), STATUSES.index(self.beyond_limit), 0)
         if self.fail_limit is not None:
-            status = np.where(self._crosses(self.fail_limit), "fail", status)
-        return status.astype(f"<U{max(map(len, STATUSES))}")
+            code = np.where(self._crosses(self.fail_limit), STATUSES.index("fail"), code)
+        return _STATUS_NAMES[code]
 
     def subset(self, index) -> RuleCheck:
         """The same rule restricted to the cases selected by ``index``."""
