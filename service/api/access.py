@@ -140,15 +140,23 @@ def _require_key() -> Response | None:
     return None
 
 
-def _security_headers(response: Response) -> Response:
-    # One pass over the headers, not one case-insensitive search (raising KeyError) per name.
-    present = {name.lower() for name, _ in response.headers}
-    for name, value in SECURITY_HEADERS.items():
-        if name.lower() not in present:
-            response.headers.add(name, value)
-    if response.status_code >= 400:
-        response.headers["Cache-Control"] = "no-store"
-    return response
+def _with_security_headers(wsgi_app):
+    """WSGI middleware: the security headers on every answer, including one made outside Flask's
+    handling (a request the server stops), and ``Cache-Control: no-store`` on every error."""
+    missing_after = [(name.lower(), (name, value)) for name, value in SECURITY_HEADERS.items()]
+
+    def app(environ, start_response):
+        def start(status, headers, exc_info=None):
+            present = {name.lower() for name, _ in headers}
+            headers.extend(header for lowered, header in missing_after if lowered not in present)
+            if status[:1] in "45":
+                headers[:] = [header for header in headers if header[0].lower() != "cache-control"]
+                headers.append(("Cache-Control", "no-store"))
+            return start_response(status, headers, exc_info)
+
+        return wsgi_app(environ, start)
+
+    return app
 
 
 def init_app(app: Flask) -> None:
@@ -161,4 +169,4 @@ def init_app(app: Flask) -> None:
     else:
         log.warning("no API keys configured: the calculation endpoints are open to every caller")
     app.before_request(_require_key)
-    app.after_request(_security_headers)
+    app.wsgi_app = _with_security_headers(app.wsgi_app)

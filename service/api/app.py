@@ -76,10 +76,12 @@ def create_app(config: Mapping | None = None) -> Flask:
     # which read_json() treats as too large.
     app.config["MAX_CONTENT_LENGTH"] = app.config["MAX_BODY_BYTES"]
     register_error_handlers(app)
-    observability.init_app(app)  # first: its hooks see every request, including refused ones
-    access.init_app(app)
     app.register_error_handler(RequestEntityTooLarge, _too_large)
+    # Middleware from the inside out: the answer to a stopped request, then request ids, logs and
+    # metrics (which so see every answer), then the security headers.
     app.wsgi_app = _answer_when_stopped(app.wsgi_app)
+    observability.init_app(app)  # before access: its logging is set up for access's start-up notes
+    access.init_app(app)
 
     spec_bytes = orjson.dumps(build_spec(list(CALCULATIONS), __version__))
     blueprint = Blueprint("calculations", __name__)
@@ -120,9 +122,8 @@ def _answer_when_stopped(wsgi_app):
                       environ.get("REQUEST_METHOD"), environ.get("PATH_INFO"))
             response = problem_response(Problem(
                 503, "Request stopped", "The server stopped this request: it ran over the time limit, or the "
-                "server is shutting down. Split the batch, or retry.", STOPPED))
-            for name, value in access.SECURITY_HEADERS.items():
-                response.headers.setdefault(name, value)
+                "server is shutting down. Split the batch, or retry.", STOPPED),
+                identifier=environ.get(observability.ENVIRON_REQUEST_ID))
             return response(environ, start_response)
 
     return app

@@ -31,7 +31,7 @@ import traceback
 import uuid
 from datetime import UTC, datetime
 
-from flask import Flask, Response, current_app, g, has_request_context, request
+from flask import Flask, Response, current_app, has_request_context, request
 from prometheus_client import (
     CollectorRegistry,
     Counter,
@@ -84,16 +84,29 @@ log = logging.getLogger(REQUEST_LOGGER_NAME)
 # -- request ids ---------------------------------------------------------------------------------
 
 
+#: Keys of the request's WSGI environ that carry its id and case counts to the log line.
+ENVIRON_REQUEST_ID = "meanline.request_id"
+_ENVIRON_CASES = "meanline.cases"
+_ENVIRON_CASE_FAILURES = "meanline.case_failures"
+
+
+def accepted_request_id(given: str) -> str:
+    """``given`` if it is an acceptable request id, else a new UUID 4."""
+    return given if _REQUEST_ID.fullmatch(given) else str(uuid.uuid4())
+
+
 def request_id() -> str:
     """The current request's id: the caller's ``X-Request-ID`` if acceptable, else a new UUID 4.
 
-    Decided once per request, on first use, so that it is the same wherever it appears even
-    when a hook that runs before this module's (an authentication check) fails the request.
+    The middleware of :func:`init_app` decides it before the application sees the request, so
+    that it is the same wherever it appears; an app used without it (a bare request context)
+    decides it here on first use.
     """
-    if "request_id" not in g:
-        given = request.headers.get(REQUEST_ID_HEADER, "")
-        g.request_id = given if _REQUEST_ID.fullmatch(given) else str(uuid.uuid4())
-    return g.request_id
+    environ = request.environ
+    found = environ.get(ENVIRON_REQUEST_ID)
+    if found is None:
+        found = environ[ENVIRON_REQUEST_ID] = accepted_request_id(environ.get("HTTP_X_REQUEST_ID", ""))
+    return found
 
 
 def record_cases(size: int, body: dict) -> None:
@@ -106,8 +119,9 @@ def record_cases(size: int, body: dict) -> None:
     body : dict
         The response body; in a batch, ``errors`` lists the cases that failed.
     """
-    g.cases = int(size)
-    g.case_failures = len(body["errors"]) if ("results" in body or "columns" in body) else 0
+    environ = request.environ
+    environ[_ENVIRON_CASES] = int(size)
+    environ[_ENVIRON_CASE_FAILURES] = len(body["errors"]) if ("results" in body or "columns" in body) else 0
 
 
 # -- logging -------------------------------------------------------------------------------------
@@ -244,15 +258,16 @@ class Metrics:
         return generate_latest(self.registry)
 
 
-# -- hooks ---------------------------------------------------------------------------------------
+# -- middleware ----------------------------------------------------------------------------------
 
 
 def init_app(app: Flask) -> None:
     """Add request ids, request logging and ``GET /metrics`` to ``app``.
 
-    Call it before any other ``after_request`` hook is registered, so that its own runs last and
-    logs and counts the final response. Reads ``LOG_LEVEL`` from the app's configuration (else
-    ``MEANLINE_LOG_LEVEL``).
+    They wrap ``app.wsgi_app`` as WSGI middleware rather than hook into Flask: they see every
+    answer, including one made outside Flask's handling (a request the server stops), and cost
+    a request no lookups through Flask's context proxies. Reads ``LOG_LEVEL`` from the app's
+    configuration (else ``MEANLINE_LOG_LEVEL``).
     """
     # Imported here: the calculations import problems, which imports this module.
     from service.api.registry import CALCULATIONS
@@ -265,47 +280,70 @@ def init_app(app: Flask) -> None:
     for calculation in CALCULATIONS:
         metrics.cases.labels(endpoint=calculation.path)
         metrics.failures.labels(endpoint=calculation.path)
-    # First among the before-request hooks, so the clock starts before any other check runs;
-    # the after-request hook registered here early runs last (Flask runs them in reverse), so it
-    # sees the final status and headers.
-    app.before_request_funcs.setdefault(None, []).insert(0, _start)
-    app.after_request(_finish)
+    app.wsgi_app = _Observed(app, app.wsgi_app, metrics)
     app.add_url_rule(METRICS_PATH, endpoint="metrics", view_func=_metrics_view, methods=["GET"])
 
 
-def _start() -> None:
-    g.started = time.perf_counter()
-    request_id()
+class _Observed:
+    """WSGI middleware: the request id (decided first, echoed as a header), then, once the
+    application has answered, the request's metrics and its log line."""
+
+    def __init__(self, app: Flask, wsgi_app, metrics: Metrics):
+        self.app, self.wsgi_app, self.metrics = app, wsgi_app, metrics
+        self._routes = None
+
+    def __call__(self, environ, start_response):
+        started = time.perf_counter()
+        identifier = environ[ENVIRON_REQUEST_ID] = accepted_request_id(environ.get("HTTP_X_REQUEST_ID", ""))
+        statuses = []
+
+        def start(status, headers, exc_info=None):
+            statuses.append(status)
+            headers.append((REQUEST_ID_HEADER, identifier))
+            return start_response(status, headers, exc_info)
+
+        answer = self.wsgi_app(environ, start)
+        self._record(environ, int(statuses[-1][:3]) if statuses else 500, time.perf_counter() - started)
+        return answer
+
+    def _endpoint(self, environ) -> str:
+        """The matched route's path, or UNMATCHED (a 404, a 405 or a redirect): as Flask matches
+        (every route is a fixed path), from a set built on first use, when all are registered."""
+        if self._routes is None:
+            self._routes = frozenset((rule.rule, method) for rule in self.app.url_map.iter_rules()
+                                     for method in rule.methods)
+        path = environ.get("PATH_INFO", "")
+        return path if (path, environ.get("REQUEST_METHOD", "")) in self._routes else UNMATCHED
+
+    def _record(self, environ, status: int, duration: float) -> None:
+        endpoint = self._endpoint(environ)
+        cases, failures = environ.get(_ENVIRON_CASES, 0), environ.get(_ENVIRON_CASE_FAILURES, 0)
+        metrics = self.metrics
+        metrics.child(metrics.requests, endpoint, str(status)).inc()
+        metrics.child(metrics.latency, endpoint).observe(duration)
+        if cases:
+            metrics.child(metrics.cases, endpoint).inc(cases)
+        if failures:
+            metrics.child(metrics.failures, endpoint).inc(failures)
+        if log.isEnabledFor(logging.INFO):
+            # The record is made directly: Logger.info would also look up the calling source line
+            # (a walk of the stack) that the JSON line does not carry.
+            log.handle(log.makeRecord(log.name, logging.INFO, __file__, 0, "request", None, None, extra={"fields": {
+                "request_id": environ[ENVIRON_REQUEST_ID],
+                "method": environ.get("REQUEST_METHOD", "").upper(),
+                "path": _request_path(environ)[:MAX_LOGGED_PATH],
+                "endpoint": endpoint,
+                "status": status,
+                "duration_ms": round(duration * 1e3, 3),
+                "cases": cases,
+                "case_failures": failures,
+            }}))
 
 
-def _finish(response: Response) -> Response:
-    duration = time.perf_counter() - g.get("started", time.perf_counter())
-    endpoint = request.url_rule.rule if request.url_rule is not None else UNMATCHED
-    status = response.status_code
-    cases, failures = g.get("cases", 0), g.get("case_failures", 0)
-    response.headers[REQUEST_ID_HEADER] = request_id()
-
-    metrics: Metrics = current_app.extensions[_EXTENSION]
-    metrics.child(metrics.requests, endpoint, str(status)).inc()
-    metrics.child(metrics.latency, endpoint).observe(duration)
-    if cases:
-        metrics.child(metrics.cases, endpoint).inc(cases)
-    if failures:
-        metrics.child(metrics.failures, endpoint).inc(failures)
-
-    if log.isEnabledFor(logging.INFO):
-        # The record is made directly: Logger.info would also look up the calling source line
-        # (a walk of the stack) that the JSON line does not carry.
-        log.handle(log.makeRecord(log.name, logging.INFO, __file__, 0, "request", None, None, extra={"fields": {
-            "method": request.method,
-            "path": request.path[:MAX_LOGGED_PATH],
-            "endpoint": endpoint,
-            "status": status,
-            "duration_ms": round(duration * 1e3, 3),
-            "cases": cases,
-            "case_failures": failures,
-        }}))
-    return response
+def _request_path(environ) -> str:
+    """The path as Flask's ``request.path`` reads it: WSGI's latin-1 text decoded as UTF-8."""
+    path = environ.get("PATH_INFO", "").encode("latin-1", "replace").decode("utf-8", "replace")
+    return "/" + path.lstrip("/")
 
 
 def _metrics_view() -> Response:

@@ -74,7 +74,9 @@ def _utf8(text: str) -> str:
     return text.encode("utf-16", "surrogatepass").decode("utf-16", "replace")
 
 
-def problem_response(problem: Problem, extra_headers=None) -> Response:
+def problem_response(problem: Problem, extra_headers=None, identifier: str | None = None) -> Response:
+    """The problem document of ``problem``, with the request's id (``identifier`` outside a
+    request's context)."""
     body = {"type": problem.type, "title": problem.title, "status": problem.status, "detail": _utf8(problem.detail)}
     if problem.errors:
         listed = problem.errors[:MAX_LISTED_ERRORS]
@@ -83,6 +85,8 @@ def problem_response(problem: Problem, extra_headers=None) -> Response:
             body["errors_not_listed"] = len(problem.errors) - len(listed)
     if has_request_context():
         body["request_id"] = request_id()
+    elif identifier is not None:
+        body["request_id"] = identifier
     response = Response(orjson.dumps(body), status=problem.status, mimetype=PROBLEM_TYPE)
     response.headers["Cache-Control"] = "no-store"
     for name, value in (extra_headers or {}).items():

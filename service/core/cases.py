@@ -61,6 +61,7 @@ class CaseResults:
         return CaseResults(values=values, failures=failures, checks=checks)
 
 
+_FLOAT = np.dtype(np.float64)
 #: Cases up to which masked_results copies every output rather than checking whether it must.
 _SMALL = 64
 
@@ -141,11 +142,12 @@ def _copied_together(values, shape):
     is not a float array of ``shape``. Each output is a row of the block: C-contiguous, its own
     memory apart from the other outputs', never an input's."""
     arrays = [np.asarray(array) for array in values.values()]
-    if not all(a.shape == shape and a.dtype == np.float64 for a in arrays):
+    if not all(a.dtype is _FLOAT and a.shape == shape for a in arrays):
         return None
     block = np.array(arrays, dtype=np.float64)
-    # block[k, ...] rather than iterating the block: one case given as scalars stays a 0-d array.
-    return {name: block[k, ...] for k, name in enumerate(values)}
+    if not shape:  # one case given as scalars: block[k, ...] keeps each a 0-d array
+        return {name: block[k, ...] for k, name in enumerate(values)}
+    return dict(zip(values, block, strict=True))
 
 
 def broadcast_cases(*arrays) -> list[np.ndarray]:

@@ -105,8 +105,13 @@ def test_a_request_the_server_stops_is_answered_503_not_500(environment):
     SIGINT and SIGQUIT alike); the answer is the documented 503 problem, not a bare 500."""
     app = create_app()
     app.add_url_rule("/v1/stopped-in-the-middle", view_func=lambda: sys.exit(1), methods=["POST"])
-    response = app.test_client().post("/v1/stopped-in-the-middle", json={})
+    response = app.test_client().post("/v1/stopped-in-the-middle", json={},
+                                      headers={"X-Request-ID": "stopped-1"})
     assert response.status_code == 503
     assert response.mimetype == "application/problem+json"
     assert response.json["type"] == "urn:meanline:problem:request-stopped"
     assert response.headers["X-Content-Type-Options"] == "nosniff"
+    assert response.headers["Cache-Control"] == "no-store"
+    # The request id reaches a stopped request's answer too (header and problem document).
+    assert response.headers["X-Request-ID"] == "stopped-1"
+    assert response.json["request_id"] == "stopped-1"
