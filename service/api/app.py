@@ -143,8 +143,15 @@ def _calculation_view(calculation: Calculation):
     return view
 
 
+#: Accept headers that ask for JSON (or anything) without any quality weights.
+_PLAIN_ACCEPT = frozenset({"", "*/*", JSON, f"{JSON}, */*", "*/*, application/json"})
+
+
 def _prefers_svg() -> bool:
     """Whether the Accept header ranks an SVG drawing above JSON (absent or */* means JSON)."""
+    accept = request.environ.get("HTTP_ACCEPT", "")
+    if accept in _PLAIN_ACCEPT:  # what programs send: no need to parse it
+        return False
     return request.accept_mimetypes.best_match([JSON, SVG]) == SVG
 
 

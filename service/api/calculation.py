@@ -562,6 +562,10 @@ def _resolve_mode(calculation: Calculation, group: _Group, options: dict, positi
     return None, errors
 
 
+#: Types of a JSON number as parsed: scalars, told apart without a numpy call.
+_PLAIN_NUMBERS = (float, int)
+
+
 def _evaluate(calculation: Calculation, mode: Mode, options: dict, data: dict, size: int) -> CaseResults:
     """The core's results for ``size`` cases, scalars broadcast (as views: no copy per case)."""
     inputs = {}
@@ -570,8 +574,8 @@ def _evaluate(calculation: Calculation, mode: Mode, options: dict, data: dict, s
             inputs[name] = value
         elif isinstance(value, np.ndarray) and value.ndim == 2:
             inputs[name] = value if len(value) == size else np.broadcast_to(value, (size, value.shape[-1]))
-        elif np.ndim(value) == 0:
-            inputs[name] = np.full(1, value) if size == 1 else np.broadcast_to(np.asarray(value), (size,))
+        elif type(value) in _PLAIN_NUMBERS or np.ndim(value) == 0:
+            inputs[name] = np.array((value,)) if size == 1 else np.broadcast_to(np.asarray(value), (size,))
         else:
             inputs[name] = value
     with np.errstate(all="ignore"):
@@ -701,12 +705,14 @@ def _single_body(calculation: Calculation, result: CaseResults) -> dict:
     Problem
         422 if the case is physically impossible, with the first reason that applies.
     """
-    values = {}
-    for name, array in result.values.items():
-        array = np.asarray(array, dtype=float)
-        if array.ndim != 1:  # per-stage lists: the general layout
-            return _single_body_of(calculation, _outcome(result, np.zeros(1, dtype=int), calculation._integer_outputs))
-        values[name] = array.item(0)
+    try:
+        # Every output at once as Python floats: one numpy call rather than two per output.
+        block = np.array(list(result.values.values()), dtype=float)
+    except ValueError:  # outputs of different shapes
+        block = None
+    if block is None or block.shape != (len(result.values), 1):  # per-stage lists: the general layout
+        return _single_body_of(calculation, _outcome(result, np.zeros(1, dtype=int), calculation._integer_outputs))
+    values = dict(zip(result.values, block[:, 0].tolist(), strict=True))
     for reason, mask in result.failures:
         if np.asarray(mask).item(0):
             raise _impossible(reason)
