@@ -19,7 +19,7 @@ from __future__ import annotations
 import numpy as np
 
 from service.core import diffusion, flowpath, zweifel
-from service.core.checks import de_haller_check, deceleration_check
+from service.core.checks import de_haller_check, deceleration_check, solidity_checks
 
 
 def size_rows(machine, stations, rotor_aspect_ratio, stator_aspect_ratio, *, zweifel_coefficient=None,
@@ -136,15 +136,17 @@ def row_checks(machine, values):
     machine : str
         ``compressor`` or ``turbine``.
     values : dict of numpy.ndarray
-        ``row_de_haller`` and ``row_diffusion_factor`` (compressor) or ``row_zweifel_coefficient``
-        (turbine), shape ``(cases, 2n)`` in flow order. [-]
+        ``row_de_haller``, ``row_solidity`` and ``row_diffusion_factor`` (compressor) or
+        ``row_zweifel_coefficient`` (turbine), shape ``(cases, 2n)`` in flow order. [-]
 
     Returns
     -------
     dict of str to RuleCheck
         Compressor: ``rotor_diffusion_factor``, ``stator_diffusion_factor`` (mean-line limits of
         :func:`service.core.diffusion.diffusion_factor_check`), ``rotor_de_haller``,
-        ``stator_de_haller``, ``rotor_velocity_ratio``, ``stator_velocity_ratio``. Turbine:
+        ``stator_de_haller``, ``rotor_velocity_ratio``, ``stator_velocity_ratio``,
+        ``rotor_solidity_low``, ``rotor_solidity_high``, ``stator_solidity_low``,
+        ``stator_solidity_high`` (:func:`service.core.checks.solidity_checks`). Turbine:
         ``rotor_zweifel_high``, ``rotor_zweifel_low``, ``stator_zweifel_high``, ``stator_zweifel_low``
         (:func:`service.core.zweifel.zweifel_checks`).
     """
@@ -157,6 +159,8 @@ def row_checks(machine, values):
                 values["row_diffusion_factor"][:, cols], kind, "mean")
             checks[f"{kind}_de_haller"] = de_haller_check(values["row_de_haller"][:, cols])
             checks[f"{kind}_velocity_ratio"] = deceleration_check(values["row_de_haller"][:, cols])
+            for name, check in solidity_checks(values["row_solidity"][:, cols]).items():
+                checks[f"{kind}_{name}"] = check
         else:
             for name, check in zweifel.zweifel_checks(values["row_zweifel_coefficient"][:, cols]).items():
                 checks[f"{kind}_{name}"] = check

@@ -125,3 +125,34 @@ def deceleration_check(velocity_ratio) -> RuleCheck:
         basis=COMMON_PRACTICE,
         beyond_limit="fail",
     )
+
+
+#: Mean-line solidity band of a compressor row (common practice): the low-speed cascade tests that
+#: the diffusion-factor limits rest on span about this range, so a row sized outside it is judged
+#: by an extrapolated rule.
+SOLIDITY_BAND = (0.5, 2.0)
+
+
+def solidity_checks(solidity) -> dict[str, RuleCheck]:
+    """The band of solidity in which a compressor row's diffusion-factor judgement holds.
+
+    A row that barely turns or decelerates reaches any target diffusion factor with very few
+    blades, and a row that turns a lot needs many; both are sized outside the experience the
+    limits come from, which these checks make visible.
+
+    Parameters
+    ----------
+    solidity : array_like
+        Chord over pitch at the mean line. [-]
+
+    Returns
+    -------
+    dict of str to RuleCheck
+        ``solidity_low`` warns below 0.5, ``solidity_high`` above 2.0 (common practice).
+    """
+    value = np.asarray(solidity, dtype=float)
+    low, high = SOLIDITY_BAND
+    return {
+        "solidity_low": RuleCheck(value=value, limit=low, comparison="at_least", basis=COMMON_PRACTICE),
+        "solidity_high": RuleCheck(value=value, limit=high, comparison="at_most", basis=COMMON_PRACTICE),
+    }

@@ -540,7 +540,9 @@ def evaluate_machine_design(
         ``stage_loading_coefficient`` and (compressor) ``stage_pressure_ratio``; per row kind, one
         value per row of that kind front to rear: compressor ``rotor_diffusion_factor``,
         ``stator_diffusion_factor``, ``rotor_de_haller``, ``stator_de_haller``,
-        ``rotor_velocity_ratio``, ``stator_velocity_ratio``; turbine ``rotor_zweifel_high``,
+        ``rotor_velocity_ratio``, ``stator_velocity_ratio``, ``rotor_solidity_low``,
+        ``rotor_solidity_high``, ``stator_solidity_low``, ``stator_solidity_high``; turbine
+        ``rotor_zweifel_high``,
         ``rotor_zweifel_low``, ``stator_zweifel_high``, ``stator_zweifel_low``.
 
     Raises

@@ -6,7 +6,7 @@ from hypothesis import given, settings
 from hypothesis import strategies as st
 from numpy.testing import assert_allclose, assert_array_equal
 
-from service.core import annulus, diffusion, flowpath, machine, split, triangles, zweifel
+from service.core import annulus, checks, diffusion, flowpath, machine, split, triangles, zweifel
 from tests.core.helpers import reasons
 
 AIR = {"cp": 1005.0, "gamma": 1.4}
@@ -206,6 +206,29 @@ def test_a_compressor_sized_by_solidity_gets_the_diffusion_factor_of_that_blade_
         "rotor", v["station_axial_velocity"][0, 0], v["row_inlet_angle"][0, 0], v["row_outlet_angle"][0, 0],
         solidity=v["row_solidity"][0, 0])
     assert_allclose(v["row_diffusion_factor"][0, 0], analysed.values["diffusion_factor"], rtol=1e-12)
+
+
+def test_solidity_checks_warn_outside_the_band_of_the_cascade_data():
+    # Band 0.5 to 2.0: common practice (the low-speed cascade tests behind the diffusion-factor
+    # limits span about this range).
+    judged = checks.solidity_checks(np.array([0.3, 0.5, 1.2, 2.0, 2.6, np.nan]))
+    assert judged["solidity_low"].status.tolist() == ["warn", "ok", "ok", "ok", "ok", "ok"]
+    assert judged["solidity_high"].status.tolist() == ["ok", "ok", "ok", "ok", "warn", "ok"]
+    assert judged["solidity_low"].basis == judged["solidity_high"].basis == checks.COMMON_PRACTICE
+
+
+def test_compressor_rows_report_their_solidity_against_the_band():
+    # The last stator turns the flow back to axial (outlet_swirl 0): sized for the same diffusion
+    # factor as the others, it needs a solidity far above the band, which the check must flag.
+    result = design(COMPRESSOR, stages=4, mean_radius=0.3, outlet_swirl=0.0)
+    v = result.values
+    assert v["row_solidity"][0, -1] > 2.0 and result.checks["stator_solidity_high"].status[0, -1] == "warn"
+    for kind, cols in (("rotor", slice(0, None, 2)), ("stator", slice(1, None, 2))):
+        solidity = v["row_solidity"][:, cols]
+        low, high = result.checks[f"{kind}_solidity_low"], result.checks[f"{kind}_solidity_high"]
+        assert_array_equal(low.value, solidity)
+        assert_array_equal(low.status == "warn", solidity < 0.5)
+        assert_array_equal(high.status == "warn", solidity > 2.0)
 
 
 @pytest.mark.parametrize(("base", "stage_end"), [(COMPRESSOR, "alpha3"), (TURBINE, "alpha1")])
