@@ -22,7 +22,7 @@ from marshmallow import Schema, ValidationError, missing
 
 from service.api.fields import CaseSchema, Option, Quantity, QuantityList
 from service.api.problems import MAX_LISTED_ERRORS, PHYSICALLY_IMPOSSIBLE, Problem, invalid_input
-from service.core.cases import CaseResults
+from service.core.cases import CaseResults, reason_texts
 from service.core.checks import STATUSES
 
 NOT_FINITE = "the result is not a finite number (overflow): check the magnitudes of the inputs"
@@ -178,7 +178,7 @@ class _Outcome:
     values: dict[str, np.ndarray]
     checks: dict[str, Any]
     reason: np.ndarray  # per case: 0 where it succeeded, else 1 + its position in ``reasons``
-    reasons: list[str]
+    reasons: list[str | None]  # None for a reason with a number per case: its texts come later in the list
 
     def errors(self) -> list[dict]:
         """``{"index", "detail"}`` of every failed case, found with numpy rather than a loop."""
@@ -583,10 +583,20 @@ def _outcome(result: CaseResults, index: np.ndarray, integer_outputs=frozenset()
     whole-array operations, none a loop over the cases."""
     size = len(index)
     # The first reason that applies to a case is the one reported, so the masks go in backwards.
-    reasons = [reason for reason, _ in result.failures] + [NOT_FINITE]
+    reasons: list = [reason for reason, _ in result.failures]
     reason = np.zeros(size, dtype=np.intp)
     for code in range(len(result.failures), 0, -1):
         reason[np.broadcast_to(result.failures[code - 1][1], (size,))] = code
+    for code, entry in enumerate(reasons, start=1):
+        if not isinstance(entry, str):
+            # A reason with a number per case: a code per distinct text, for the cases that report it.
+            reasons[code - 1] = None
+            where = reason == code
+            if where.any():
+                texts, which = reason_texts(entry, where)
+                reason[where] = len(reasons) + 1 + which
+                reasons += texts
+    reasons.append(NOT_FINITE)
     values = {}
     for name, array in result.values.items():
         # An input passed through as an output can be a broadcast view; the writer needs it whole.
@@ -709,7 +719,7 @@ def _single_body(calculation: Calculation, result: CaseResults) -> dict:
         values[name] = array.item(0)
     for reason, mask in result.failures:
         if np.asarray(mask).item(0):
-            raise _impossible(reason)
+            raise _impossible(reason_texts(reason, np.asarray(mask))[0][0])
     if not all(map(math.isfinite, values.values())) or any(
             abs(values[name]) > MAX_WHOLE_OUTPUT for name in calculation._integer_outputs if name in values):
         raise _impossible(NOT_FINITE)
