@@ -16,6 +16,8 @@ COMPARISONS = ("at_least", "at_most")
 
 COMMON_PRACTICE = "common practice"
 
+_STATUS_TEXTS = np.array(STATUSES)
+
 
 @dataclass(frozen=True)
 class RuleCheck:
@@ -59,10 +61,16 @@ class RuleCheck:
     @property
     def status(self) -> np.ndarray:
         """Status of every case: ``ok``, ``warn`` or ``fail``. [-]"""
-        status = np.where(self._crosses(self.limit), self.beyond_limit, "ok")
+        return np.asarray(_STATUS_TEXTS[self.status_code], dtype=_STATUS_TEXTS.dtype)
+
+    @property
+    def status_code(self) -> np.ndarray:
+        """Status of every case as its position in :data:`STATUSES` (``uint8``; ok 0, warn 1,
+        fail 2), without a string per case. [-]"""
+        code = np.where(self._crosses(self.limit), np.uint8(STATUSES.index(self.beyond_limit)), np.uint8(0))
         if self.fail_limit is not None:
-            status = np.where(self._crosses(self.fail_limit), "fail", status)
-        return status.astype(f"<U{max(map(len, STATUSES))}")
+            code[self._crosses(self.fail_limit)] = STATUSES.index("fail")
+        return code
 
     def subset(self, index) -> RuleCheck:
         """The same rule restricted to the cases selected by ``index``."""
