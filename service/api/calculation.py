@@ -597,32 +597,33 @@ def _outcome(result: CaseResults, index: np.ndarray, integer_outputs=frozenset()
                 reason[where] = len(reasons) + 1 + which
                 reasons += texts
     reasons.append(NOT_FINITE)
-    values = {}
+    values, own = {}, set()
     for name, array in result.values.items():
         # An input passed through as an output can be a broadcast view; the writer needs it whole.
-        array = np.ascontiguousarray(array, dtype=float)
-        finite = np.isfinite(array) if array.ndim == 1 else _finite_rows(array)
+        whole = np.ascontiguousarray(array, dtype=float)
+        if whole is not array and whole.flags.owndata:
+            own.add(name)
+        finite = np.isfinite(whole) if whole.ndim == 1 else _finite_rows(whole)
         if name in integer_outputs:
             # A count past 2**53 is not exact as a double, and past 2**63 orjson refuses it (a 500).
-            too_big = np.abs(np.where(np.isfinite(array), array, 0.0)) > MAX_WHOLE_OUTPUT
+            too_big = np.abs(np.where(np.isfinite(whole), whole, 0.0)) > MAX_WHOLE_OUTPUT
             finite &= ~(too_big if too_big.ndim == 1 else too_big.any(axis=1))
         if not finite.all():
             reason[(~finite) & (reason == 0)] = len(reasons)
-        values[name] = array
+        values[name] = whole
     failed = reason != 0
     any_failed = bool(failed.any())
     if any_failed:
-        values = {name: np.where(failed.reshape((-1,) + (1,) * (a.ndim - 1)), np.nan, a)
-                  for name, a in values.items()}
+        values = {name: _blanked(a, failed, name in own) for name, a in values.items()}
     checks = {}
     for name, check in result.checks.items():
         value = np.ascontiguousarray(check.value, dtype=float)
-        status = np.asarray(check.status)
-        per_case = failed.reshape((-1,) + (1,) * (value.ndim - 1))
+        if any_failed:
+            value = _blanked(value, failed, value is not check.value and value.flags.owndata)
         checks[name] = {
-            "value": np.where(per_case, np.nan, value) if any_failed else value,
-            "status": (_status_objects(status, failed) if status.ndim == 1 else
-                       np.where(failed.reshape((-1,) + (1,) * (status.ndim - 1)), None, status.astype(object))),
+            "value": value,
+            "status": (_status_objects(check.status_code, failed) if value.ndim == 1 else
+                       np.where(failed.reshape((-1,) + (1,) * (value.ndim - 1)), None, check.status.astype(object))),
             "limit": check.limit,
             "fail_limit": check.fail_limit,
             "comparison": check.comparison,
@@ -631,17 +632,27 @@ def _outcome(result: CaseResults, index: np.ndarray, integer_outputs=frozenset()
     return _Outcome(index=index, values=values, checks=checks, reason=reason, reasons=reasons)
 
 
+def _blanked(array: np.ndarray, failed: np.ndarray, own: bool) -> np.ndarray:
+    """``array`` with NaN in the failed cases (rows): written in place into an array of this
+    layer's own, kept as it is where the core has blanked them already (as it does for the
+    cases it failed), else a copy, so that an array of the core's is never written to."""
+    if own:
+        array[failed] = np.nan
+        return array
+    if np.isnan(array[failed]).all():
+        return array
+    return np.where(failed.reshape((-1,) + (1,) * (array.ndim - 1)), np.nan, array)
+
+
 #: Every status as one shared Python object, and None for a case that failed.
 _STATUS_OBJECTS = np.array([*STATUSES, None], dtype=object)
 
 
-def _status_objects(status: np.ndarray, failed: np.ndarray) -> np.ndarray:
-    """The statuses as an object array of the shared status strings, None where a case failed:
-    a lookup into :data:`_STATUS_OBJECTS` rather than one new string per case."""
-    matches = [(status == name).view(np.uint8) for name in STATUSES]
-    if not (sum(matches) == 1).all():  # a status outside STATUSES: keep it as it is
-        return np.where(failed, None, status.astype(object))
-    code = sum(k * match for k, match in enumerate(matches))
+def _status_objects(code: np.ndarray, failed: np.ndarray) -> np.ndarray:
+    """The statuses (positions in STATUSES, as ``RuleCheck.status_code``) as an object array of
+    the shared status strings, None where a case failed: a lookup into :data:`_STATUS_OBJECTS`
+    rather than one new string per case."""
+    code = np.array(code, dtype=np.uint8)
     code[failed] = len(STATUSES)
     return _STATUS_OBJECTS[code]
 
