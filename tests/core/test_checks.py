@@ -33,7 +33,8 @@ def test_status_codes_are_the_positions_of_the_statuses(values, beyond, comparis
 @pytest.mark.parametrize(("value", "status"), [(0.40, "ok"), (0.50, "warn"), (0.65, "fail")])
 def test_one_case_given_as_a_scalar_keeps_a_zero_dimensional_status(value, status):
     # Rotor tip: warn above 0.45, fail above 0.6 (the design brief's limits).
-    check = RuleCheck(value=np.float64(value), limit=0.45, comparison="at_most", basis="common practice", fail_limit=0.6)
+    check = RuleCheck(value=np.float64(value), limit=0.45, comparison="at_most", basis="common practice",
+                      fail_limit=0.6)
     assert check.status.shape == () and check.status.dtype == np.dtype("<U4")
     assert str(check.status) == status
     assert STATUSES[int(check.status_code)] == status
