@@ -187,12 +187,61 @@ class _Outcome:
                 for i, k in zip(self.index[failed].tolist(), self.reason[failed].tolist(), strict=True)]
 
 
+class ErrorsText:
+    """The ``errors`` of a batch answer, written as JSON text a slice of cases at a time.
+
+    The same bytes as ``orjson.dumps`` of the list of ``{"index", "detail"}`` of every failed
+    case in index order (see :meth:`_Outcome.errors`), without a dict per case: the indices are
+    an array, each detail is written once, and a slice of cases is one join.
+    """
+
+    CASES_PER_PIECE = 1_000
+
+    def __init__(self, outcomes: list[_Outcome]):
+        indices, details, texts, start = [], [], [], 0
+        for outcome in outcomes:
+            failed = np.flatnonzero(outcome.reason)
+            indices.append(outcome.index[failed])
+            details.append(outcome.reason[failed] - 1 + start)
+            texts += outcome.reasons
+            start += len(outcome.reasons)
+        self.index = np.concatenate(indices) if indices else np.zeros(0, dtype=np.intp)
+        self.detail = np.concatenate(details) if details else np.zeros(0, dtype=np.intp)
+        if len(outcomes) > 1:
+            order = np.argsort(self.index, kind="stable")
+            self.index, self.detail = self.index[order], self.detail[order]
+        self.texts = texts
+        self._written: dict[int, bytes] = {}  # detail -> its JSON text, made when first used
+
+    def __len__(self) -> int:
+        return len(self.index)
+
+    def json_pieces(self):
+        if not len(self):
+            yield b"[]"
+            return
+        for start in range(0, len(self), self.CASES_PER_PIECE):
+            stop = min(start + self.CASES_PER_PIECE, len(self))
+            numbers = orjson.dumps(self.index[start:stop], option=orjson.OPT_SERIALIZE_NUMPY)[1:-1].split(b",")
+            details = [self._text(k) for k in self.detail[start:stop].tolist()]
+            yield ((b"[" if start == 0 else b",") + b",".join(
+                [b'{"index":' + number + b',"detail":' + detail + b"}"
+                 for number, detail in zip(numbers, details, strict=True)]) + (b"]" if stop == len(self) else b""))
+
+    def _text(self, k: int) -> bytes:
+        text = self._written.get(k)
+        if text is None:
+            text = self._written[k] = orjson.dumps(self.texts[k])
+        return text
+
+
 def run_calculation(calculation: Calculation, payload: Any, max_cases: int, stream: bool = False):
     """Validate, compute and lay out the response body of one request.
 
-    With ``stream``, the ``results`` of a rows answer may be a :class:`RowsText`, which
-    :mod:`service.api.jsonwrite` writes piece by piece (without a dict per case); otherwise the
-    body is plain data that ``orjson.dumps(body, option=OPT_SERIALIZE_NUMPY)`` writes.
+    With ``stream``, the ``results`` of a rows answer may be a :class:`RowsText`, and the
+    ``errors`` of a columns answer are an :class:`ErrorsText`, which :mod:`service.api.jsonwrite`
+    writes piece by piece (without a dict per case); otherwise the body is plain data that
+    ``orjson.dumps(body, option=OPT_SERIALIZE_NUMPY)`` writes.
 
     Returns
     -------
@@ -238,9 +287,12 @@ def run_calculation(calculation: Calculation, payload: Any, max_cases: int, stre
 
     if shape == "single":
         return _single_body(calculation, outcomes[0]), size
-    case_errors = [error for outcome in outcomes for error in outcome.errors()]
-    if len(outcomes) > 1:
-        case_errors.sort(key=lambda e: e["index"])
+    if shape == "columns" and stream:
+        case_errors = ErrorsText(outcomes)
+    else:
+        case_errors = [error for outcome in outcomes for error in outcome.errors()]
+        if len(outcomes) > 1:
+            case_errors.sort(key=lambda e: e["index"])
     if shape == "rows":
         results = (RowsText(calculation, outcomes, size) if stream and RowsText.takes(outcomes)
                    else _rows_body(calculation, outcomes, size))

@@ -29,7 +29,7 @@ def response(body: Any, mimetype: str = "application/json") -> Response:
     """``body`` as a JSON response; a large batch answer streamed in pieces."""
     if _cases(body) >= STREAM_CASES:
         return Response(pieces(body), mimetype=mimetype)
-    if isinstance(body, dict) and hasattr(body.get("results"), "json_pieces"):
+    if isinstance(body, dict) and any(hasattr(body.get(key), "json_pieces") for key in ("results", "errors")):
         return Response(b"".join(pieces(body)), mimetype=mimetype)
     return Response(orjson.dumps(body, option=OPTION), mimetype=mimetype)
 
