@@ -443,7 +443,7 @@ def _columns_groups(calculation: Calculation, payload: dict, max_cases: int):
 
 
 def _column_length(calculation: Calculation, name: str, value) -> int | None:
-    if isinstance(value, np.ndarray):  # a list of floats, read by the parser as an array
+    if isinstance(value, np.ndarray):  # a list of numbers, read by the parser as an array
         return None if isinstance(calculation._case_schema.fields.get(name), QuantityList) else len(value)
     if not isinstance(value, list):
         return None

@@ -66,8 +66,8 @@ class _CaseField(fields.Field):
         raise NotImplementedError
 
     def _load_array(self, array: np.ndarray):
-        """A column of JSON floats that the parser read as a float64 array (see
-        :mod:`service.api.jsonparse`): loaded as the list it was."""
+        """A column of JSON numbers that the parser read as a float64 array (see
+        :mod:`service.api.jsonparse`): loaded as the list of floats it stands for."""
         return self._load_column(array.tolist())
 
 
@@ -229,7 +229,7 @@ class QuantityList(_CaseField):
         self.item = Quantity(description, unit, minimum=minimum, exclusive_minimum=exclusive_minimum)
 
     def _deserialize(self, value, attr, data, **kwargs):
-        if isinstance(value, np.ndarray):  # floats the parser read as an array: as the list they were
+        if isinstance(value, np.ndarray):  # numbers the parser read as an array: as a list of floats
             value = value.tolist()
         if not isinstance(value, list) or not value:
             raise ValidationError("Must be a non-empty list of numbers.")
@@ -264,7 +264,7 @@ class QuantityPerStage(QuantityList):
                              exclusive_minimum=exclusive_minimum)
 
     def _deserialize(self, value, attr, data, **kwargs):
-        if isinstance(value, np.ndarray):  # floats the parser read as an array: as the list they were
+        if isinstance(value, np.ndarray):  # numbers the parser read as an array: as a list of floats
             value = value.tolist()
         if not isinstance(value, list):
             return self.item._load_one(value)

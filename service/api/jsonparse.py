@@ -11,8 +11,10 @@ reading) rather than as an exact ``int``; every numeric field converts it to tha
 
 A large columns batch is read a column at a time (:func:`loads`): parsed whole, its lists of
 Python floats, orjson's own copy of the text and the text itself are all alive at once, about
-4.5 times the body. Each list of numbers in ``columns`` is parsed alone instead and, if it holds
-only floats, kept as the float64 array it becomes anyway, so only one column is ever a list.
+4.5 times the body. Each list in ``columns`` is parsed alone instead (a piece at a time) and,
+if it holds only numbers, kept as the float64 array that the fields make of it anyway, so only a
+piece of a column is ever a list. This is the second difference no field can see: an integer in
+such a list comes back as the nearest float, as every numeric field reads it.
 """
 
 from __future__ import annotations
@@ -28,29 +30,33 @@ COLUMNS_BYTES = 1 << 20
 #: Quotes, brackets and braces up to which a body is looked at for columns: a columns batch has
 #: a few per field, rows have several per case.
 _MAX_MARKS = 4_096
-_MARKS = tuple(ord(c) for c in '"[]{}')
-_QUOTE, _OPEN_LIST, _CLOSE_LIST, _OPEN_OBJECT, _CLOSE_OBJECT = _MARKS
+_MARKS = tuple(ord(c) for c in '"[]{}\\')
+_QUOTE, _OPEN_LIST, _CLOSE_LIST, _OPEN_OBJECT, _CLOSE_OBJECT, _BACKSLASH = _MARKS
+#: The text is searched for marks, and a list parsed, about this many bytes at a time (a piece
+#: stays in the processor's cache, and its Python floats in memory the allocator reuses).
+_PIECE_BYTES = 1 << 20
 
 
 def loads(body: bytes | bytearray, strict: Callable[[bytes], Any]) -> Any:
     """The JSON value of ``body``: ``strict(body)``'s value or exception (see the module note).
 
-    In a large body, a list of floats that is a value of the top-level ``columns`` object comes
+    In a large body, a list of numbers that is a value of the top-level ``columns`` object comes
     back as the float64 array ``numpy.asarray(list, dtype=float)`` instead of the list.
     """
     value = by_columns(body) if len(body) >= COLUMNS_BYTES else None
-    if value is None:
-        try:
-            value = orjson.loads(body)
-        except orjson.JSONDecodeError:
-            return strict(body)
+    if value is not None:  # a key given twice has been ruled out
+        return value
+    try:
+        value = orjson.loads(body)
+    except orjson.JSONDecodeError:
+        return strict(body)
     if may_repeat_keys(body, value):
         return strict(body)
     return value
 
 
 def by_columns(body: bytes | bytearray) -> dict | None:
-    """``orjson.loads(body)`` with every list of floats in its ``columns`` object as a float64
+    """``orjson.loads(body)`` with every list of numbers in its ``columns`` object as a float64
     array, parsed one list at a time; None where the body is not read so (then the caller parses
     it whole, which also gives the error of a malformed body).
 
@@ -61,9 +67,17 @@ def by_columns(body: bytes | bytearray) -> dict | None:
     is valid JSON exactly when all of these parts are, and holds the same values. A key given
     twice is left to the caller (the cut lists could not be put back by position).
     """
-    if b"\\" in body or sum(body.count(mark) for mark in _MARKS) > _MAX_MARKS:
-        return None
-    marks = sorted(i for mark in _MARKS for i in _positions(body, mark))
+    marks = []
+    for start in range(0, len(body), _PIECE_BYTES):
+        stop = start + _PIECE_BYTES
+        for mark in _MARKS:
+            i = body.find(mark, start, stop)
+            while i >= 0:
+                if mark == _BACKSLASH or len(marks) == _MAX_MARKS:
+                    return None
+                marks.append(i)
+                i = body.find(mark, i + 1, stop)
+    marks.sort()
     lists, stack, in_string = [], [], False
     for k, i in enumerate(marks):
         mark = body[i]
@@ -101,24 +115,52 @@ def by_columns(body: bytes | bytearray) -> dict | None:
         return None
     columns = value.get("columns")
     for (inner, key), span in zip(places, lists, strict=True):
-        if span is None:
-            continue
-        try:
-            items = orjson.loads(view[span[0]:span[1] + 1])
-        except orjson.JSONDecodeError:
-            return None
-        if inner is columns and items and set(map(type, items)) == {float}:
-            items = np.asarray(items, dtype=float)
-        inner[key] = items
+        if span is not None:
+            items = _list(body, view, *span, floats=inner is columns)
+            if items is None:
+                return None
+            inner[key] = items
     return value
 
 
-def _positions(body: bytes | bytearray, mark: int) -> list[int]:
-    found, i = [], body.find(mark)
-    while i >= 0:
-        found.append(i)
-        i = body.find(mark, i + 1)
-    return found
+def _list(body, view: memoryview, first: int, last: int, floats: bool) -> list | np.ndarray | None:
+    """The flat list ``body[first:last + 1]`` (``[`` to ``]``), parsed a piece at a time: cut at
+    a comma every :data:`_PIECE_BYTES` or so, each piece written as a list of its own. With
+    ``floats``, a list of numbers only comes back as a float64 array. None if the text is not a
+    list (a piece that is not one, or is empty: a comma too many)."""
+    cuts = [first]
+    while last - cuts[-1] > _PIECE_BYTES:
+        comma = body.find(b",", cuts[-1] + _PIECE_BYTES, last)
+        if comma < 0:
+            break
+        cuts.append(comma)
+    cuts.append(last)
+    whole = len(cuts) == 2
+    arrays, items = [], None
+    for start, stop in zip(cuts, cuts[1:], strict=False):
+        text = view[first:last + 1] if whole else b"".join((b"[", view[start + 1:stop], b"]"))
+        try:
+            part = orjson.loads(text)
+        except orjson.JSONDecodeError:
+            return None
+        if whole and not part:  # the list as written is empty
+            return part
+        if not part:
+            return None
+        if items is None and floats and _numbers_only(body, start, stop):
+            arrays.append(np.asarray(part, dtype=float))
+            continue
+        if items is None:  # not numbers only after all: the list as it is written
+            items = [number for array in arrays for number in array.tolist()]
+            arrays = []
+        items += part
+    return items if items is not None else np.concatenate(arrays) if len(arrays) > 1 else arrays[0]
+
+
+def _numbers_only(body, start: int, stop: int) -> bool:
+    """Whether a piece of a flat list holds numbers only: a literal (true, false, null) is the
+    only other value without a quote, and each has a ``t``, ``f`` or ``n``."""
+    return all(body.find(letter, start, stop) < 0 for letter in (b"t", b"f", b"n"))
 
 
 def may_repeat_keys(body: bytes, value: Any) -> bool:

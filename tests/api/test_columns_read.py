@@ -1,7 +1,7 @@
 """A large columns batch read a column at a time answers byte for byte as the batch read whole.
 
 ``service.api.jsonparse`` reads a body of at least ``COLUMNS_BYTES`` a list at a time and keeps
-each list of floats in ``columns`` as a float64 array (a fraction of the memory of the list);
+each list of numbers in ``columns`` as a float64 array (a fraction of the memory of the list);
 the fields then load the array instead of the list. Here every body is read both ways (the
 threshold lowered to 0 or raised past any body) and the two answers are compared as bytes:
 valid batches with impossible cases, and invalid ones (a number out of range, a boolean, whole

@@ -30,12 +30,13 @@ values = st.recursive(
 @given(values)
 def test_pieces_join_to_the_text_of_one_dump(value):
     expected = orjson.dumps(value, option=OPTION)
-    original = jsonwrite.ROWS_PER_PIECE, jsonwrite.PIECE_BYTES
+    original = jsonwrite.ROWS_PER_PIECE, jsonwrite.PIECE_BYTES, jsonwrite.NUMBERS_PER_PIECE
     try:
-        jsonwrite.ROWS_PER_PIECE, jsonwrite.PIECE_BYTES = 3, 16  # many slices and pieces
+        # Many slices of lists and arrays, many pieces.
+        jsonwrite.ROWS_PER_PIECE, jsonwrite.PIECE_BYTES, jsonwrite.NUMBERS_PER_PIECE = 3, 16, 2
         assert b"".join(jsonwrite.pieces(value)) == expected
     finally:
-        jsonwrite.ROWS_PER_PIECE, jsonwrite.PIECE_BYTES = original
+        jsonwrite.ROWS_PER_PIECE, jsonwrite.PIECE_BYTES, jsonwrite.NUMBERS_PER_PIECE = original
 
 
 def test_a_large_columns_answer_is_streamed_and_a_small_one_is_not():
