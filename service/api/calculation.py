@@ -195,23 +195,22 @@ class ErrorsText:
     an array, each detail is written once, and a slice of cases is one join.
     """
 
-    CASES_PER_PIECE = 1_000
+    CASES_PER_PIECE = 4_096
 
     def __init__(self, outcomes: list[_Outcome]):
-        indices, details, texts, start = [], [], [], 0
+        indices, details, texts = [], [], []
         for outcome in outcomes:
             failed = np.flatnonzero(outcome.reason)
             indices.append(outcome.index[failed])
-            details.append(outcome.reason[failed] - 1 + start)
+            details.append(outcome.reason[failed] - 1 + len(texts))
             texts += outcome.reasons
-            start += len(outcome.reasons)
         self.index = np.concatenate(indices) if indices else np.zeros(0, dtype=np.intp)
         self.detail = np.concatenate(details) if details else np.zeros(0, dtype=np.intp)
         if len(outcomes) > 1:
             order = np.argsort(self.index, kind="stable")
             self.index, self.detail = self.index[order], self.detail[order]
-        self.texts = texts
-        self._written: dict[int, bytes] = {}  # detail -> its JSON text, made when first used
+        # Each detail's JSON text (a reason that no case reports has none).
+        self.texts = [orjson.dumps(text) if text is not None else None for text in texts]
 
     def __len__(self) -> int:
         return len(self.index)
@@ -222,17 +221,12 @@ class ErrorsText:
             return
         for start in range(0, len(self), self.CASES_PER_PIECE):
             stop = min(start + self.CASES_PER_PIECE, len(self))
-            numbers = orjson.dumps(self.index[start:stop], option=orjson.OPT_SERIALIZE_NUMPY)[1:-1].split(b",")
-            details = [self._text(k) for k in self.detail[start:stop].tolist()]
-            yield ((b"[" if start == 0 else b",") + b",".join(
-                [b'{"index":' + number + b',"detail":' + detail + b"}"
-                 for number, detail in zip(numbers, details, strict=True)]) + (b"]" if stop == len(self) else b""))
-
-    def _text(self, k: int) -> bytes:
-        text = self._written.get(k)
-        if text is None:
-            text = self._written[k] = orjson.dumps(self.texts[k])
-        return text
+            # Each case's texts in one list, the index and the detail filled in by slice.
+            parts = [b'{"index":', b"", b',"detail":', b"", b"},"] * (stop - start)
+            parts[1::5] = orjson.dumps(self.index[start:stop], option=orjson.OPT_SERIALIZE_NUMPY)[1:-1].split(b",")
+            parts[3::5] = map(self.texts.__getitem__, self.detail[start:stop].tolist())
+            parts[-1] = b"}]" if stop == len(self) else b"}"
+            yield (b"[" if start == 0 else b",") + b"".join(parts)
 
 
 def run_calculation(calculation: Calculation, payload: Any, max_cases: int, stream: bool = False):
@@ -666,14 +660,15 @@ def _outcome(result: CaseResults, index: np.ndarray, integer_outputs=frozenset()
             reason[(~finite) & (reason == 0)] = len(reasons)
         values[name] = whole
     failed = reason != 0
-    any_failed = bool(failed.any())
+    failed_cases = np.flatnonzero(failed)
+    any_failed = failed_cases.size > 0
     if any_failed:
-        values = {name: _blanked(a, failed, name in own) for name, a in values.items()}
+        values = {name: _blanked(a, failed_cases, name in own) for name, a in values.items()}
     checks = {}
     for name, check in result.checks.items():
         value = np.ascontiguousarray(check.value, dtype=float)
         if any_failed:
-            value = _blanked(value, failed, value is not check.value and value.flags.owndata)
+            value = _blanked(value, failed_cases, value is not check.value and value.flags.owndata)
         checks[name] = {
             "value": value,
             "status": (_status_objects(check.status_code, failed) if value.ndim == 1 else
@@ -686,16 +681,18 @@ def _outcome(result: CaseResults, index: np.ndarray, integer_outputs=frozenset()
     return _Outcome(index=index, values=values, checks=checks, reason=reason, reasons=reasons)
 
 
-def _blanked(array: np.ndarray, failed: np.ndarray, own: bool) -> np.ndarray:
-    """``array`` with NaN in the failed cases (rows): written in place into an array of this
-    layer's own, kept as it is where the core has blanked them already (as it does for the
-    cases it failed), else a copy, so that an array of the core's is never written to."""
+def _blanked(array: np.ndarray, failed_cases: np.ndarray, own: bool) -> np.ndarray:
+    """``array`` with NaN in the failed cases (rows, by position): written in place into an
+    array of this layer's own, kept as it is where the core has blanked them already (as it does
+    for the cases it failed), else a copy, so that an array of the core's is never written to."""
     if own:
-        array[failed] = np.nan
+        array[failed_cases] = np.nan
         return array
-    if np.isnan(array[failed]).all():
+    if np.isnan(array[failed_cases]).all():
         return array
-    return np.where(failed.reshape((-1,) + (1,) * (array.ndim - 1)), np.nan, array)
+    array = array.copy()
+    array[failed_cases] = np.nan
+    return array
 
 
 #: Every status as one shared Python object, and None for a case that failed.
