@@ -29,7 +29,7 @@ import orjson
 COLUMNS_BYTES = 1 << 20
 #: Quotes, brackets and braces up to which a body is looked at for columns: a columns batch has
 #: a few per field, rows have several per case.
-_MAX_MARKS = 4_096
+_MAX_MARKS = 1_024
 _MARKS = tuple(ord(c) for c in '"[]{}\\')
 _QUOTE, _OPEN_LIST, _CLOSE_LIST, _OPEN_OBJECT, _CLOSE_OBJECT, _BACKSLASH = _MARKS
 #: The text is searched for marks, and a list parsed, about this many bytes at a time (a piece
