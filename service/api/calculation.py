@@ -22,7 +22,7 @@ from marshmallow import Schema, ValidationError, missing
 
 from service.api.fields import CaseSchema, Option, Quantity, QuantityList
 from service.api.problems import MAX_LISTED_ERRORS, PHYSICALLY_IMPOSSIBLE, Problem, invalid_input
-from service.core.cases import CaseResults
+from service.core.cases import CaseResults, reason_texts
 from service.core.checks import STATUSES
 
 NOT_FINITE = "the result is not a finite number (overflow): check the magnitudes of the inputs"
@@ -178,7 +178,7 @@ class _Outcome:
     values: dict[str, np.ndarray]
     checks: dict[str, Any]
     reason: np.ndarray  # per case: 0 where it succeeded, else 1 + its position in ``reasons``
-    reasons: list[str]
+    reasons: list[str | None]  # None for a reason with a number per case: its texts come later in the list
 
     def errors(self) -> list[dict]:
         """``{"index", "detail"}`` of every failed case, found with numpy rather than a loop."""
@@ -187,12 +187,55 @@ class _Outcome:
                 for i, k in zip(self.index[failed].tolist(), self.reason[failed].tolist(), strict=True)]
 
 
+class ErrorsText:
+    """The ``errors`` of a batch answer, written as JSON text a slice of cases at a time.
+
+    The same bytes as ``orjson.dumps`` of the list of ``{"index", "detail"}`` of every failed
+    case in index order (see :meth:`_Outcome.errors`), without a dict per case: the indices are
+    an array, each detail is written once, and a slice of cases is one join.
+    """
+
+    CASES_PER_PIECE = 4_096
+
+    def __init__(self, outcomes: list[_Outcome]):
+        indices, details, texts = [], [], []
+        for outcome in outcomes:
+            failed = np.flatnonzero(outcome.reason)
+            indices.append(outcome.index[failed])
+            details.append(outcome.reason[failed] - 1 + len(texts))
+            texts += outcome.reasons
+        self.index = np.concatenate(indices) if indices else np.zeros(0, dtype=np.intp)
+        self.detail = np.concatenate(details) if details else np.zeros(0, dtype=np.intp)
+        if len(outcomes) > 1:
+            order = np.argsort(self.index, kind="stable")
+            self.index, self.detail = self.index[order], self.detail[order]
+        # Each detail's JSON text (a reason that no case reports has none).
+        self.texts = [orjson.dumps(text) if text is not None else None for text in texts]
+
+    def __len__(self) -> int:
+        return len(self.index)
+
+    def json_pieces(self):
+        if not len(self):
+            yield b"[]"
+            return
+        for start in range(0, len(self), self.CASES_PER_PIECE):
+            stop = min(start + self.CASES_PER_PIECE, len(self))
+            # Each case's texts in one list, the index and the detail filled in by slice.
+            parts = [b'{"index":', b"", b',"detail":', b"", b"},"] * (stop - start)
+            parts[1::5] = orjson.dumps(self.index[start:stop], option=orjson.OPT_SERIALIZE_NUMPY)[1:-1].split(b",")
+            parts[3::5] = map(self.texts.__getitem__, self.detail[start:stop].tolist())
+            parts[-1] = b"}]" if stop == len(self) else b"}"
+            yield (b"[" if start == 0 else b",") + b"".join(parts)
+
+
 def run_calculation(calculation: Calculation, payload: Any, max_cases: int, stream: bool = False):
     """Validate, compute and lay out the response body of one request.
 
-    With ``stream``, the ``results`` of a rows answer may be a :class:`RowsText`, which
-    :mod:`service.api.jsonwrite` writes piece by piece (without a dict per case); otherwise the
-    body is plain data that ``orjson.dumps(body, option=OPT_SERIALIZE_NUMPY)`` writes.
+    With ``stream``, the ``results`` of a rows answer may be a :class:`RowsText`, and the
+    ``errors`` of a columns answer are an :class:`ErrorsText`, which :mod:`service.api.jsonwrite`
+    writes piece by piece (without a dict per case); otherwise the body is plain data that
+    ``orjson.dumps(body, option=OPT_SERIALIZE_NUMPY)`` writes.
 
     Returns
     -------
@@ -238,9 +281,12 @@ def run_calculation(calculation: Calculation, payload: Any, max_cases: int, stre
 
     if shape == "single":
         return _single_body(calculation, outcomes[0]), size
-    case_errors = [error for outcome in outcomes for error in outcome.errors()]
-    if len(outcomes) > 1:
-        case_errors.sort(key=lambda e: e["index"])
+    if shape == "columns" and stream:
+        case_errors = ErrorsText(outcomes)
+    else:
+        case_errors = [error for outcome in outcomes for error in outcome.errors()]
+        if len(outcomes) > 1:
+            case_errors.sort(key=lambda e: e["index"])
     if shape == "rows":
         results = (RowsText(calculation, outcomes, size) if stream and RowsText.takes(outcomes)
                    else _rows_body(calculation, outcomes, size))
@@ -391,6 +437,8 @@ def _columns_groups(calculation: Calculation, payload: dict, max_cases: int):
 
 
 def _column_length(calculation: Calculation, name: str, value) -> int | None:
+    if isinstance(value, np.ndarray):  # a list of numbers, read by the parser as an array
+        return None if isinstance(calculation._case_schema.fields.get(name), QuantityList) else len(value)
     if not isinstance(value, list):
         return None
     if isinstance(calculation._case_schema.fields.get(name), QuantityList):
@@ -587,36 +635,48 @@ def _outcome(result: CaseResults, index: np.ndarray, integer_outputs=frozenset()
     whole-array operations, none a loop over the cases."""
     size = len(index)
     # The first reason that applies to a case is the one reported, so the masks go in backwards.
-    reasons = [reason for reason, _ in result.failures] + [NOT_FINITE]
+    reasons: list = [reason for reason, _ in result.failures]
     reason = np.zeros(size, dtype=np.intp)
     for code in range(len(result.failures), 0, -1):
         reason[np.broadcast_to(result.failures[code - 1][1], (size,))] = code
-    values = {}
+    for code, entry in enumerate(reasons, start=1):
+        if not isinstance(entry, str):
+            # A reason with a number per case: a code per distinct text, for the cases that report it.
+            reasons[code - 1] = None
+            where = reason == code
+            if where.any():
+                texts, which = reason_texts(entry, where)
+                reason[where] = len(reasons) + 1 + which
+                reasons += texts
+    reasons.append(NOT_FINITE)
+    values, own = {}, set()
     for name, array in result.values.items():
         # An input passed through as an output can be a broadcast view; the writer needs it whole.
-        array = np.ascontiguousarray(array, dtype=float)
-        finite = np.isfinite(array) if array.ndim == 1 else _finite_rows(array)
+        whole = np.ascontiguousarray(array, dtype=float)
+        if whole is not array and whole.flags.owndata:
+            own.add(name)
+        finite = np.isfinite(whole) if whole.ndim == 1 else _finite_rows(whole)
         if name in integer_outputs:
             # A count past 2**53 is not exact as a double, and past 2**63 orjson refuses it (a 500).
-            too_big = np.abs(np.where(np.isfinite(array), array, 0.0)) > MAX_WHOLE_OUTPUT
+            too_big = np.abs(np.where(np.isfinite(whole), whole, 0.0)) > MAX_WHOLE_OUTPUT
             finite &= ~(too_big if too_big.ndim == 1 else too_big.any(axis=1))
         if not finite.all():
             reason[(~finite) & (reason == 0)] = len(reasons)
-        values[name] = array
+        values[name] = whole
     failed = reason != 0
-    any_failed = bool(failed.any())
+    failed_cases = np.flatnonzero(failed)
+    any_failed = failed_cases.size > 0
     if any_failed:
-        values = {name: np.where(failed.reshape((-1,) + (1,) * (a.ndim - 1)), np.nan, a)
-                  for name, a in values.items()}
+        values = {name: _blanked(a, failed_cases, name in own) for name, a in values.items()}
     checks = {}
     for name, check in result.checks.items():
         value = np.ascontiguousarray(check.value, dtype=float)
-        status = np.asarray(check.status)
-        per_case = failed.reshape((-1,) + (1,) * (value.ndim - 1))
+        if any_failed:
+            value = _blanked(value, failed_cases, value is not check.value and value.flags.owndata)
         checks[name] = {
-            "value": np.where(per_case, np.nan, value) if any_failed else value,
-            "status": (_status_objects(status, failed) if status.ndim == 1 else
-                       np.where(failed.reshape((-1,) + (1,) * (status.ndim - 1)), None, status.astype(object))),
+            "value": value,
+            "status": (_status_objects(check.status_code, failed) if value.ndim == 1 else
+                       np.where(failed.reshape((-1,) + (1,) * (value.ndim - 1)), None, check.status.astype(object))),
             "limit": check.limit,
             "fail_limit": check.fail_limit,
             "comparison": check.comparison,
@@ -625,17 +685,29 @@ def _outcome(result: CaseResults, index: np.ndarray, integer_outputs=frozenset()
     return _Outcome(index=index, values=values, checks=checks, reason=reason, reasons=reasons)
 
 
+def _blanked(array: np.ndarray, failed_cases: np.ndarray, own: bool) -> np.ndarray:
+    """``array`` with NaN in the failed cases (rows, by position): written in place into an
+    array of this layer's own, kept as it is where the core has blanked them already (as it does
+    for the cases it failed), else a copy, so that an array of the core's is never written to."""
+    if own:
+        array[failed_cases] = np.nan
+        return array
+    if np.isnan(array[failed_cases]).all():
+        return array
+    array = array.copy()
+    array[failed_cases] = np.nan
+    return array
+
+
 #: Every status as one shared Python object, and None for a case that failed.
 _STATUS_OBJECTS = np.array([*STATUSES, None], dtype=object)
 
 
-def _status_objects(status: np.ndarray, failed: np.ndarray) -> np.ndarray:
-    """The statuses as an object array of the shared status strings, None where a case failed:
-    a lookup into :data:`_STATUS_OBJECTS` rather than one new string per case."""
-    matches = [(status == name).view(np.uint8) for name in STATUSES]
-    if not (sum(matches) == 1).all():  # a status outside STATUSES: keep it as it is
-        return np.where(failed, None, status.astype(object))
-    code = sum(k * match for k, match in enumerate(matches))
+def _status_objects(code: np.ndarray, failed: np.ndarray) -> np.ndarray:
+    """The statuses (positions in STATUSES, as ``RuleCheck.status_code``) as an object array of
+    the shared status strings, None where a case failed: a lookup into :data:`_STATUS_OBJECTS`
+    rather than one new string per case."""
+    code = np.array(code, dtype=np.uint8)
     code[failed] = len(STATUSES)
     return _STATUS_OBJECTS[code]
 
@@ -715,7 +787,7 @@ def _single_body(calculation: Calculation, result: CaseResults) -> dict:
     values = dict(zip(result.values, block[:, 0].tolist(), strict=True))
     for reason, mask in result.failures:
         if np.asarray(mask).item(0):
-            raise _impossible(reason)
+            raise _impossible(reason_texts(reason, np.asarray(mask))[0][0])
     if not all(map(math.isfinite, values.values())) or any(
             abs(values[name]) > MAX_WHOLE_OUTPUT for name in calculation._integer_outputs if name in values):
         raise _impossible(NOT_FINITE)

@@ -51,6 +51,8 @@ class _CaseField(fields.Field):
         return bool(getattr(self.parent, "columns", False))
 
     def _deserialize(self, value, attr, data, **kwargs):
+        if self._loads_columns() and isinstance(value, np.ndarray):
+            return self._load_array(value)
         if self._loads_columns() and isinstance(value, list):
             if not value:
                 raise ValidationError("A column must hold at least one value.")
@@ -62,6 +64,11 @@ class _CaseField(fields.Field):
 
     def _load_column(self, values: list):
         raise NotImplementedError
+
+    def _load_array(self, array: np.ndarray):
+        """A column of JSON numbers that the parser read as a float64 array (see
+        :mod:`service.api.jsonparse`): loaded as the list of floats it stands for."""
+        return self._load_column(array.tolist())
 
 
 class Quantity(_CaseField):
@@ -167,6 +174,9 @@ class Quantity(_CaseField):
             array = np.asarray(values, dtype=float)
         except OverflowError:  # an integer literal beyond the float range somewhere in the column
             array = np.asarray([float(v) if abs(v) < 1e308 or isinstance(v, float) else np.inf for v in values])
+        return self._load_array(array)
+
+    def _load_array(self, array: np.ndarray):
         bad = self._out_of_range(array)
         if bad.any():
             raise ValidationError({int(i): [self._range_message(array[i])] for i in np.flatnonzero(bad)})
@@ -219,6 +229,8 @@ class QuantityList(_CaseField):
         self.item = Quantity(description, unit, minimum=minimum, exclusive_minimum=exclusive_minimum)
 
     def _deserialize(self, value, attr, data, **kwargs):
+        if isinstance(value, np.ndarray):  # numbers the parser read as an array: as a list of floats
+            value = value.tolist()
         if not isinstance(value, list) or not value:
             raise ValidationError("Must be a non-empty list of numbers.")
         if self._loads_columns() and isinstance(value[0], list):
@@ -252,6 +264,8 @@ class QuantityPerStage(QuantityList):
                              exclusive_minimum=exclusive_minimum)
 
     def _deserialize(self, value, attr, data, **kwargs):
+        if isinstance(value, np.ndarray):  # numbers the parser read as an array: as a list of floats
+            value = value.tolist()
         if not isinstance(value, list):
             return self.item._load_one(value)
         if self._loads_columns() and value and not isinstance(value[0], list):

@@ -16,9 +16,12 @@ References
 
 from __future__ import annotations
 
+from functools import partial
+
 import numpy as np
 
 from service.core import diffusion, flowpath, zweifel
+from service.core.cases import prefixed, reason_for
 from service.core.checks import de_haller_check, deceleration_check, solidity_checks
 
 
@@ -60,7 +63,7 @@ def size_rows(machine, stations, rotor_aspect_ratio, stator_aspect_ratio, *, zwe
         ``row_pitch``, ``row_chord``, ``row_axial_chord``, ``row_blade_height``,
         ``row_mean_radius`` [m], ``row_stagger``, ``row_inlet_angle``, ``row_outlet_angle`` [deg],
         and ``row_zweifel_coefficient`` (turbine) or ``row_diffusion_factor`` (compressor) [-].
-    failures : list of (str, numpy.ndarray)
+    failures : list of (str or NumberedReason, numpy.ndarray)
         The row methods' failures, each prefixed with the row, e.g. ``row 3 (rotor 2): ...``.
 
     References
@@ -122,10 +125,15 @@ def size_rows(machine, stations, rotor_aspect_ratio, stator_aspect_ratio, *, zwe
         rows["row_solidity"][:, cols] = chord[:, cols] / pitch
         rows[judged][:, cols] = value
         for reason, mask in sized.failures:
-            mask = np.broadcast_to(mask, blades.shape)
             for i in range(blades.shape[1]):
-                failures.append((f"row {start + 2 * i + 1} ({kind} {i + 1}): {reason}", mask[:, i]))
+                column = partial(_column, shape=blades.shape, i=i)
+                failures.append((reason_for(prefixed(f"row {start + 2 * i + 1} ({kind} {i + 1}): ", reason), column),
+                                 column(mask)))
     return rows, failures
+
+
+def _column(array, shape, i):
+    return np.broadcast_to(array, shape)[:, i]
 
 
 def row_checks(machine, values):

@@ -8,7 +8,8 @@ every output; the HTTP layer turns them into per-case errors.
 
 from __future__ import annotations
 
-from dataclasses import dataclass, field
+from collections.abc import Callable
+from dataclasses import dataclass, field, replace
 
 import numpy as np
 
@@ -23,15 +24,16 @@ class CaseResults:
     ----------
     values : dict of str to numpy.ndarray
         Output arrays, each of shape ``(size,)`` (or ``(size, k)`` for per-stage lists).
-    failures : list of (str, numpy.ndarray)
+    failures : list of (str or NumberedReason, numpy.ndarray)
         Reasons with a boolean mask of the cases they apply to; the first reason that
-        applies to a case is the one reported.
+        applies to a case is the one reported. A :class:`NumberedReason` stands for a reason
+        whose text states a number of each case (see :func:`reason_texts`).
     checks : dict of str to RuleCheck
         Rules of thumb judged on every case.
     """
 
     values: dict[str, np.ndarray]
-    failures: list[tuple[str, np.ndarray]] = field(default_factory=list)
+    failures: list[tuple[str | NumberedReason, np.ndarray]] = field(default_factory=list)
     checks: dict[str, RuleCheck] = field(default_factory=dict)
 
     @property
@@ -56,12 +58,72 @@ class CaseResults:
         failed = other.failed()
         values = {**{name: np.where(failed, np.nan, array) for name, array in self.values.items()},
                   **{f"{prefix}_{name}": array for name, array in other.values.items()}}
-        failures = self.failures + [(f"{prefix}: {reason}", mask) for reason, mask in other.failures]
+        failures = self.failures + [(prefixed(f"{prefix}: ", reason), mask) for reason, mask in other.failures]
         checks = {**self.checks, **{f"{prefix}_{name}": check for name, check in other.checks.items()}}
         return CaseResults(values=values, failures=failures, checks=checks)
 
 
+@dataclass(frozen=True)
+class NumberedReason:
+    """A failure reason whose text states a number of each case, kept as one failure entry.
+
+    A batch of sizing cases whose targets are out of reach each has its own smallest reachable
+    value in its reason. As one ``(text, mask)`` entry per distinct text, a large batch would
+    hold hundreds of full-length masks; as ``(NumberedReason, mask)`` it holds one mask and one
+    array of numbers, and the texts are made only for the cases that report them.
+
+    Parameters
+    ----------
+    text : callable
+        ``text(number) -> str``: the reason of a case whose number is ``number``.
+    numbers : numpy.ndarray
+        Each case's number, already rounded as the text shows it (so that cases of one text
+        have one number), of the shape of the failure's mask or broadcastable to it. Cases
+        outside the mask may hold anything.
+    prefix : str
+        Put before every text: the row or stage the failure belongs to.
+    """
+
+    text: Callable[[float], str]
+    numbers: np.ndarray
+    prefix: str = ""
+
+    def texts(self, where) -> tuple[list[str], np.ndarray]:
+        """The distinct texts of the cases ``where`` (a boolean mask) and, for each of those cases
+        in order, the position of its text in that list."""
+        where = np.asarray(where, dtype=bool)
+        keys = np.broadcast_to(self.numbers, where.shape)[where]
+        unique, inverse = np.unique(keys, return_inverse=True)
+        return [self.prefix + self.text(float(key)) for key in unique.tolist()], inverse.reshape(-1)
+
+
+def reason_texts(reason: str | NumberedReason, where) -> tuple[list[str], np.ndarray]:
+    """The distinct texts of a failure reason over the cases ``where`` (a boolean mask), and for
+    each of those cases in order the position of its text in that list."""
+    if isinstance(reason, str):
+        return [reason], np.zeros(np.count_nonzero(where), dtype=np.intp)
+    return reason.texts(where)
+
+
+def prefixed(prefix: str, reason: str | NumberedReason) -> str | NumberedReason:
+    """The reason with ``prefix`` put before its text (of every case)."""
+    if isinstance(reason, str):
+        return prefix + reason
+    return replace(reason, prefix=prefix + reason.prefix)
+
+
+def reason_for(reason: str | NumberedReason, select: Callable[[np.ndarray], np.ndarray]) -> str | NumberedReason:
+    """The reason of the cases that ``select`` takes out of (or spreads) a failure's mask, for a
+    caller that applies ``select`` to the mask: a slice of rows, a subset put back in place.
+    ``select`` is applied to a :class:`NumberedReason`'s numbers as well; a text is the same for
+    every case."""
+    if isinstance(reason, str):
+        return reason
+    return replace(reason, numbers=select(reason.numbers))
+
+
 _FLOAT = np.dtype(np.float64)
+
 #: Cases up to which masked_results copies every output rather than checking whether it must.
 _SMALL = 64
 
@@ -84,8 +146,8 @@ def masked_results(values, failures, checks=None, shape=None, inputs=()) -> Case
     ----------
     values : dict of str to array_like
         Output arrays; each broadcast to ``shape``; integer outputs come back as int64.
-    failures : list of (str, array_like)
-        Reasons with a boolean mask of the cases they apply to; each broadcast to ``shape``.
+    failures : list of (str or NumberedReason, array_like)
+        Reasons with a boolean mask of the cases they apply to; each mask broadcast to ``shape``.
     checks : callable, optional
         Called with the masked values and the boolean mask of failed cases, returns the dict
         of :class:`RuleCheck`.

@@ -13,10 +13,10 @@ import numpy as np
 
 STATUSES = ("ok", "warn", "fail")
 COMPARISONS = ("at_least", "at_most")
-#: The statuses as one numpy array, indexed by each case's status code.
-_STATUS_NAMES = np.array(STATUSES, dtype=f"<U{max(map(len, STATUSES))}")
-
 COMMON_PRACTICE = "common practice"
+
+#: The statuses as one numpy array, indexed by each case's status code.
+_STATUS_TEXTS = np.array(STATUSES)
 
 
 @dataclass(frozen=True)
@@ -61,10 +61,16 @@ class RuleCheck:
     @property
     def status(self) -> np.ndarray:
         """Status of every case: ``ok``, ``warn`` or ``fail``. [-]"""
-        code = np.where(self._crosses(self.limit), STATUSES.index(self.beyond_limit), 0)
+        return np.asarray(_STATUS_TEXTS[self.status_code], dtype=_STATUS_TEXTS.dtype)
+
+    @property
+    def status_code(self) -> np.ndarray:
+        """Status of every case as its position in :data:`STATUSES` (``uint8``; ok 0, warn 1,
+        fail 2), without a string per case. [-]"""
+        code = np.where(self._crosses(self.limit), np.uint8(STATUSES.index(self.beyond_limit)), np.uint8(0))
         if self.fail_limit is not None:
-            code = np.where(self._crosses(self.fail_limit), STATUSES.index("fail"), code)
-        return _STATUS_NAMES[code]
+            code[self._crosses(self.fail_limit)] = STATUSES.index("fail")
+        return code
 
     def subset(self, index) -> RuleCheck:
         """The same rule restricted to the cases selected by ``index``."""

@@ -42,7 +42,7 @@ from __future__ import annotations
 
 import numpy as np
 
-from service.core.cases import broadcast_cases, masked_results
+from service.core.cases import NumberedReason, broadcast_cases, masked_results
 from service.core.checks import RuleCheck, de_haller_check, deceleration_check
 
 ROWS = ("rotor", "stator")
@@ -342,20 +342,15 @@ def no_turning_reason(smallest):
             f"{smallest:.3f} (1 - V2/V1) at every solidity, so no solidity gives the target")
 
 
-def _grouped(reason, number, mask):
-    """One (reason, mask) per distinct reason, the number rounded as the reason shows it."""
-    flat = np.flatnonzero(mask)
-    if flat.size == 0:
+def _numbered(reason, number, mask):
+    """One failure entry for every case of ``mask``, its text stating the case's ``number``
+    rounded as the text shows it."""
+    if not mask.any():
         return []
-    # Adding 0.0 turns -0.0 into 0.0, so both print alike and group together.
-    keys = np.round(np.ravel(number)[flat], 3) + 0.0
-    unique, inverse = np.unique(keys, return_inverse=True)
-    out = []
-    for k, key in enumerate(unique):
-        where = np.zeros(mask.size, dtype=bool)
-        where[flat[inverse == k]] = True
-        out.append((reason(float(key)), where.reshape(mask.shape)))
-    return out
+    numbers = np.zeros(mask.shape)
+    # Adding 0.0 turns -0.0 into 0.0, so both print alike and are one text.
+    numbers[mask] = np.round(number[mask], 3) + 0.0
+    return [(NumberedReason(reason, numbers), mask)]
 
 
 def _flow(axial_velocity, inlet_angle, outlet_angle, outlet_axial_velocity, inlet_radius, outlet_radius):
@@ -526,7 +521,7 @@ def evaluate_diffusion_sizing(row, axial_velocity, inlet_angle, outlet_angle, ta
         ``blade_count`` [-], ``pitch`` (``2 pi r_m / N``) [m] and
         ``diffusion_factor_achieved`` [-]. Failures: as the analysis, plus an unreachable
         target and a row without turning; these two reasons state the case's smallest
-        reachable factor, so the list holds one entry per distinct (rounded) value. Checks
+        reachable factor, each as one :class:`~service.core.cases.NumberedReason`. Checks
         ``diffusion_factor`` (on the achieved factor, or the target without a blade count),
         ``de_haller``, ``velocity_ratio``.
 
@@ -573,8 +568,8 @@ def evaluate_diffusion_sizing(row, axial_velocity, inlet_angle, outlet_angle, ta
         turning = _turning(flow["inlet_swirl"], flow["outlet_swirl"], inlet_radius, outlet_radius)
         unreachable = ~invalid & ~(target > smallest)
         no_turning = ~invalid & ~unreachable & ~(turning > _NO_TURNING * v1)
-        failures += _grouped(unreachable_target_reason, smallest, np.broadcast_to(unreachable, shape))
-        failures += _grouped(no_turning_reason, smallest, np.broadcast_to(no_turning, shape))
+        failures += _numbered(unreachable_target_reason, smallest, np.broadcast_to(unreachable, shape))
+        failures += _numbered(no_turning_reason, smallest, np.broadcast_to(no_turning, shape))
         return _finish(values, failures, row, span_position, judged, shape,
                        (axial_velocity, inlet_angle, outlet_angle, target_diffusion_factor, chord,
                         mean_radius, outlet_axial_velocity, inlet_radius, outlet_radius))

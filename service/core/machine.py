@@ -69,7 +69,7 @@ from __future__ import annotations
 import numpy as np
 
 from service.core import annulus, blade_rows, flowpath, gas, split, triangles, zweifel
-from service.core.cases import CaseResults
+from service.core.cases import CaseResults, reason_for
 
 MAX_STAGES = split.MAX_STAGES
 #: The rotor's share of a stage's entropy rise, by default. [-]
@@ -615,9 +615,12 @@ def evaluate_machine_design(
             else:
                 target[index, : array.shape[1]] = array
         for reason, mask in sub_failures:
-            full = np.zeros(m, dtype=bool)
-            full[index] = mask
-            failures.append((reason, full))
+            def in_place(a, index=index):
+                full = np.zeros(m, dtype=np.asarray(a).dtype)
+                full[index] = a
+                return full
+
+            failures.append((reason_for(reason, in_place), in_place(mask)))
     if not groups:
         for name in ("axial_length",):
             laid[name] = np.full(m, np.nan)

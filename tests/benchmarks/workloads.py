@@ -18,6 +18,7 @@ import numpy as np
 import orjson
 
 from service.core import diffusion, gas, triangles, zweifel
+from service.core.cases import reason_texts
 
 NUMPY = orjson.OPT_SERIALIZE_NUMPY
 
@@ -54,7 +55,11 @@ def _write(result, extra: dict | None = None) -> bytes:
     for reason, mask in result.failures:
         first = np.broadcast_to(mask, failed.shape) & ~failed
         if first.any():
-            errors[reason] = np.flatnonzero(first)
+            # A reason with a number per case has one text per distinct number.
+            texts, which = reason_texts(reason, first)
+            cases = np.flatnonzero(first)[np.argsort(which, kind="stable")]
+            ends = np.cumsum(np.bincount(which, minlength=len(texts)))[:-1]
+            errors.update(zip(texts, np.split(cases, ends), strict=True))
         failed |= first
     return orjson.dumps({"columns": columns, "errors": errors}, option=NUMPY)
 

@@ -1,8 +1,10 @@
-"""The shared masking of failed cases (service.core.cases.masked_results).
+"""The shared masking of failed cases (service.core.cases.masked_results) and the reasons.
 
-Properties checked against the definition in the module's docstring, not against physics:
+Properties checked against the definitions in the module's docstrings, not against physics:
 failed cases hold NaN (0 in integer outputs), every output is a full-shape C-contiguous array
-of its own (serialisers read them as flat buffers), and the caller's inputs are never written to.
+of its own (serialisers read them as flat buffers), the caller's inputs are never written to,
+and a reason with a number per case (NumberedReason) gives every case the text of its own
+number, through prefixes, slices and subsets.
 """
 
 from __future__ import annotations
@@ -11,7 +13,7 @@ import numpy as np
 import pytest
 
 from service.core import diffusion, triangles, zweifel
-from service.core.cases import masked_results
+from service.core.cases import CaseResults, NumberedReason, masked_results, prefixed, reason_for, reason_texts
 
 
 def test_masks_failed_cases_and_broadcasts_scalars():
@@ -72,3 +74,60 @@ def test_cores_leave_their_inputs_untouched(function, arguments):
         assert array.flags.c_contiguous, name
         if array.dtype.kind == "f":
             assert np.isnan(array[result.failed()]).all(), name
+
+
+def _at(number):
+    return f"reaches {number:.3f}"
+
+
+def test_a_numbered_reason_gives_each_case_the_text_of_its_own_number():
+    reason = NumberedReason(_at, np.array([0.25, 0.5, 0.25, 9.0, 0.0]))
+    texts, which = reason_texts(reason, np.array([True, True, True, False, True]))
+    # One text per distinct number among the chosen cases; the unchosen case's number makes none.
+    assert sorted(texts) == ["reaches 0.000", "reaches 0.250", "reaches 0.500"]
+    assert [texts[k] for k in which] == ["reaches 0.250", "reaches 0.500", "reaches 0.250", "reaches 0.000"]
+    # A plain text is the same for every chosen case.
+    texts, which = reason_texts("too hot", np.array([True, False, True]))
+    assert texts == ["too hot"]
+    np.testing.assert_array_equal(which, [0, 0])
+
+
+def test_a_numbered_reason_keeps_its_numbers_through_prefixes_slices_and_subsets():
+    numbers = np.array([[0.1, 0.2], [0.3, 0.4], [0.5, 0.6]])
+    mask = np.array([[True, False], [False, True], [True, True]])
+    reason = prefixed("stage 1: ", prefixed("row 2: ", NumberedReason(_at, numbers)))
+    assert prefixed("stage 1: ", "too hot") == "stage 1: too hot"
+
+    def second_column(a):
+        return a[:, 1]
+
+    column = reason_for(reason, second_column)
+    texts, which = reason_texts(column, second_column(mask))
+    assert [texts[k] for k in which] == ["stage 1: row 2: reaches 0.400", "stage 1: row 2: reaches 0.600"]
+
+    # Three cases computed as a subset of five, put back in place.
+    index = np.array([4, 0, 2])
+
+    def in_place(a):
+        full = np.zeros(5, dtype=a.dtype)
+        full[index] = a
+        return full
+
+    first = reason_for(reason_for(reason, lambda a: a[:, 0]), in_place)
+    placed = in_place(mask[:, 0])
+    texts, which = reason_texts(first, placed)
+    np.testing.assert_array_equal(placed, [False, False, True, False, True])
+    assert [texts[k] for k in which] == ["stage 1: row 2: reaches 0.500", "stage 1: row 2: reaches 0.100"]
+    assert reason_for("too hot", in_place) == "too hot"
+
+
+def test_merged_results_prefix_the_numbered_reasons_of_the_other():
+    mask = np.array([False, True, True])
+    other = CaseResults(values={"x": np.array([1.0, np.nan, np.nan])},
+                        failures=[(NumberedReason(_at, np.array([0.0, 0.7, 0.8])), mask)])
+    merged = CaseResults(values={"y": np.array([1.0, 2.0, 3.0])}).merged(other, "rotor")
+    np.testing.assert_array_equal(merged.failed(), mask)
+    (reason, where), = merged.failures
+    texts, which = reason_texts(reason, where)
+    assert [texts[k] for k in which] == ["rotor: reaches 0.700", "rotor: reaches 0.800"]
+    np.testing.assert_allclose(merged.values["y"], [1.0, np.nan, np.nan], rtol=0, atol=0)

@@ -23,7 +23,9 @@ from service.core.diffusion import (
     row_velocities,
     solidity_for_diffusion_factor,
     solidity_from_blade_count,
+    unreachable_target_reason,
 )
+from tests.core.helpers import reasons
 
 
 def _df_from_angles(a1_deg, a2_deg, sigma):
@@ -231,32 +233,45 @@ def test_unreachable_target_fails_with_the_smallest_reachable_factor():
     assert_array_equal(failed, [True, False, True])
     assert np.isnan(result.values["solidity"][0])
     assert np.isfinite(result.values["solidity"][1])
-    reasons = [reason for reason, mask in result.failures if mask.any()]
-    assert reasons == ["no solidity reaches the target diffusion factor: the smallest reachable diffusion "
-                       "factor is 0.268 (1 - V2/V1, approached as the solidity grows without bound)"]
+    unreachable = ("no solidity reaches the target diffusion factor: the smallest reachable diffusion "
+                   "factor is 0.268 (1 - V2/V1, approached as the solidity grows without bound)")
+    assert reasons(result) == [unreachable, None, unreachable]
 
 
 def test_unreachable_targets_with_different_minima_give_one_reason_each():
     # Two rows with different 1 - V2/V1 (angle form: 1 - cos a1 / cos a2), both asked for 0.1.
     result = evaluate_diffusion_sizing("stator", 150.0, [45.0, 50.0, 50.0], [15.0, 20.0, 20.0], 0.1)
-    named = {reason: mask for reason, mask in result.failures if mask.any()}
+    per_case = reasons(result)
     expected_45 = 1.0 - math.cos(math.radians(45.0)) / math.cos(math.radians(15.0))
     expected_50 = 1.0 - math.cos(math.radians(50.0)) / math.cos(math.radians(20.0))
-    assert len(named) == 2
-    masks = [mask for reason, mask in named.items() if f"{expected_45:.3f}" in reason]
-    assert_array_equal(masks[0], [True, False, False])
-    masks = [mask for reason, mask in named.items() if f"{expected_50:.3f}" in reason]
-    assert_array_equal(masks[0], [False, True, True])
+    assert len(set(per_case)) == 2
+    assert f"is {expected_45:.3f} (1 - V2/V1" in per_case[0]
+    assert per_case[1] == per_case[2]
+    assert f"is {expected_50:.3f} (1 - V2/V1" in per_case[1]
+
+
+def test_a_batch_of_unreachable_targets_keeps_one_failure_entry_and_each_case_its_own_minimum():
+    # 1 - V2/V1 = 1 - cos a1 / cos a2 at constant axial velocity (derived here); a target of 0.01
+    # is below every one of these minima, so every case fails, each with its own smallest factor.
+    inlet = np.linspace(40.0, 60.0, 201)
+    outlet = np.full_like(inlet, 10.0)
+    result = evaluate_diffusion_sizing("stator", 150.0, inlet, outlet, 0.01, chord=0.05, mean_radius=0.3)
+    assert result.failed().all()
+    entries = [reason for reason, mask in result.failures if np.any(mask)]
+    assert len(entries) == 1  # not one full-length mask per distinct minimum
+    expected = [unreachable_target_reason(round(1.0 - math.cos(math.radians(a1)) / math.cos(math.radians(10.0)), 3))
+                for a1 in inlet]
+    assert reasons(result) == expected
+    assert len(set(expected)) > 100
 
 
 def test_row_without_turning_cannot_be_sized():
     # Equal angles at equal axial velocity: no change of Vtheta, D = 1 - V2/V1 = 0 at every solidity.
     result = evaluate_diffusion_sizing("stator", 150.0, 30.0, 30.0, 0.3)
     assert result.failed()
-    reasons = [reason for reason, mask in result.failures if mask.any()]
-    assert len(reasons) == 1
-    assert reasons[0].startswith("the row does not turn the flow")
-    assert "0.000" in reasons[0]
+    (reason,) = reasons(result)
+    assert reason.startswith("the row does not turn the flow")
+    assert "is 0.000 (1 - V2/V1)" in reason
     assert np.isnan(result.values["solidity"])
 
 
@@ -267,8 +282,7 @@ def test_invalid_inputs_fail_per_case():
     assert np.all(np.isnan(result.values["diffusion_factor"][1:]))
     # Lieblein's definition in angle form for the one valid case.
     assert_allclose(result.values["diffusion_factor"][0], _df_from_angles(45.0, 15.0, 1.2), rtol=1e-12)
-    reasons = [reason for reason, mask in result.failures if mask.any()]
-    assert len(reasons) == 3
+    assert len({reason for reason, mask in result.failures if mask.any()}) == 3
 
 
 # --- checks -------------------------------------------------------------------------------------

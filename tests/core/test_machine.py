@@ -395,6 +395,17 @@ def test_an_unreachable_diffusion_factor_names_the_row():
     assert reasons(result)[0].startswith("row 1 (rotor 1): no solidity reaches the target diffusion factor")
 
 
+def test_unreachable_targets_in_cases_of_different_stage_counts_state_each_row_own_minimum():
+    # Cases 0 and 2 have the same flow, so case 0's rotor-1 V2/V1 gives case 2's smallest reachable
+    # factor 1 - V2/V1; case 1 has three stages and is laid out apart from them.
+    result = design(COMPRESSOR, mean_radius=0.3, stages=np.array([2, 3, 2]),
+                    target_diffusion_factor=np.array([0.6, 0.6, 0.05]))
+    found = reasons(result)
+    assert found[:2] == [None, None]
+    smallest = 1.0 - result.values["row_de_haller"][0, 0]
+    assert found[2] == "row 1 (rotor 1): " + diffusion.unreachable_target_reason(round(smallest, 3))
+
+
 def test_invalid_options_raise():
     with pytest.raises(ValueError, match="give exactly one of \\('mean_radius', 'hub_radius', 'tip_radius'\\)"):
         design(COMPRESSOR, stages=2, mean_radius=0.3, hub_radius=0.2)

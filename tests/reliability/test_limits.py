@@ -17,6 +17,7 @@ import pytest
 from werkzeug.test import EnvironBuilder, run_wsgi_app
 
 from service import create_app
+from service.api.app import LARGE_BODY_BYTES
 from service.api.problems import TOO_LARGE
 from service.api.registry import CALCULATIONS
 
@@ -68,6 +69,33 @@ def test_body_limit_holds_for_a_chunked_body(environment):
     assert status == 413, body
     assert json.loads(body)["type"] == TOO_LARGE
     assert headers["Content-Type"] == "application/problem+json"
+
+
+def _declared(app, body: bytes, length: int):
+    """Post body with a Content-Length of ``length`` (longer than the body: a client that stops)."""
+    environ = EnvironBuilder(path="/v1/triangles", method="POST", input_stream=io.BytesIO(body),
+                             content_type="application/json").get_environ()
+    environ["CONTENT_LENGTH"] = str(length)
+    app_iter, status, _ = run_wsgi_app(app, environ, buffered=True)
+    return int(status.split()[0]), b"".join(app_iter)
+
+
+def test_large_bodies_read_into_one_buffer_keep_the_limit_and_the_answers():
+    # Bodies of at least LARGE_BODY_BYTES are read by the service itself, not by get_data.
+    large = LARGE_BODY_BYTES + 12_345
+    app = create_app({"MAX_BODY_BYTES": large})
+    client = app.test_client()
+    small = client.post("/v1/triangles", data=_padded(4000), content_type="application/json")
+    at_limit = client.post("/v1/triangles", data=_padded(large), content_type="application/json")
+    assert at_limit.status_code == 200
+    assert at_limit.json == small.json
+    over = client.post("/v1/triangles", data=_padded(large + 1), content_type="application/json")
+    assert over.status_code == 413
+    assert over.json["type"] == TOO_LARGE
+    # A client that sends less than it declared gets the same answer for a small and a large body.
+    answers = [_declared(app, _padded(size)[: size // 2], size) for size in (4000, large)]
+    assert [status for status, _ in answers] == [400, 400]
+    assert json.loads(answers[0][1])["detail"] == json.loads(answers[1][1])["detail"]
 
 
 @pytest.mark.parametrize("calculation", CALCULATIONS, ids=lambda c: c.name)
