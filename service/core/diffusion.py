@@ -43,7 +43,7 @@ from __future__ import annotations
 import numpy as np
 
 from service.core.cases import NumberedReason, broadcast_cases, masked_results
-from service.core.checks import RuleCheck, de_haller_check, deceleration_check
+from service.core.checks import RuleCheck, de_haller_check, deceleration_check, solidity_checks
 
 ROWS = ("rotor", "stator")
 SPAN_POSITIONS = ("hub", "mean", "tip")
@@ -393,6 +393,7 @@ def _finish(values, failures, row, span_position, judged, shape, inputs):
             "diffusion_factor": diffusion_factor_check(masked, row, span_position),
             "de_haller": de_haller_check(out["de_haller"]),
             "velocity_ratio": deceleration_check(out["velocity_ratio"]),
+            **solidity_checks(out["solidity"]),
         }
 
     return masked_results(values, failures, checks, shape=shape, inputs=inputs)
@@ -440,7 +441,8 @@ def evaluate_diffusion_analysis(row, axial_velocity, inlet_angle, outlet_angle, 
         rotor motion) [m s^-1], ``inlet_velocity``, ``outlet_velocity`` [m s^-1] and
         ``solidity`` (as given or as resolved from chord and pitch or blade count) [-].
         Failures: non-positive axial velocity, a flow angle at or beyond 90 deg, non-positive
-        radii or solidity. Checks ``diffusion_factor``, ``de_haller``, ``velocity_ratio``.
+        radii or solidity. Checks ``diffusion_factor``, ``de_haller``, ``velocity_ratio``,
+        ``solidity_low``, ``solidity_high`` (:func:`service.core.checks.solidity_checks`).
 
     Raises
     ------
@@ -523,7 +525,8 @@ def evaluate_diffusion_sizing(row, axial_velocity, inlet_angle, outlet_angle, ta
         target and a row without turning; these two reasons state the case's smallest
         reachable factor, each as one :class:`~service.core.cases.NumberedReason`. Checks
         ``diffusion_factor`` (on the achieved factor, or the target without a blade count),
-        ``de_haller``, ``velocity_ratio``.
+        ``de_haller``, ``velocity_ratio``, ``solidity_low``, ``solidity_high`` (on the
+        ``solidity`` output, the one the target needs).
 
     Raises
     ------

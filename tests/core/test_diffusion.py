@@ -411,3 +411,15 @@ def test_property_sizing_round_trip_through_evaluate(a1, turning, sign, excess, 
     assert_allclose(counted.values["diffusion_factor"], sizing.values["diffusion_factor_achieved"],
                     rtol=1e-12)
     assert sizing.values["diffusion_factor_achieved"] <= target + 1e-12
+
+
+def test_sizing_flags_a_solidity_outside_the_band_of_the_cascade_data():
+    # A stator turning 10 deg reaches DF 0.45 with very few blades, one turning 50 deg to axial
+    # needs very many; the band 0.5 to 2.0 is common practice.
+    result = evaluate_diffusion_sizing("stator", 150.0, [40.0, 30.0, 50.0], [30.0, 0.0, 0.0], 0.45,
+                                       chord=0.05, mean_radius=0.3)
+    solidity = result.values["solidity"]
+    assert solidity[0] < 0.5 and 0.5 <= solidity[1] <= 2.0 and solidity[2] > 2.0
+    assert result.checks["solidity_low"].status.tolist() == ["warn", "ok", "ok"]
+    assert result.checks["solidity_high"].status.tolist() == ["ok", "ok", "warn"]
+    assert_allclose(result.checks["solidity_low"].value, solidity, rtol=0, atol=0)
