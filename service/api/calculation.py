@@ -799,7 +799,7 @@ def _single_body(calculation: Calculation, result: CaseResults) -> dict:
         value = value.item(0)
         checks[name] = {"value": value if math.isfinite(value) else None, "limit": check.limit,
                         "fail_limit": check.fail_limit, "comparison": check.comparison,
-                        "status": np.asarray(check.status).item(0), "basis": check.basis}
+                        "status": STATUSES[check.status_code.item(0)], "basis": check.basis}
     integer = calculation._integer_outputs
     body = {name: int(value) if name in integer else value for name, value in values.items()}
     body["checks"] = checks
