@@ -197,6 +197,10 @@ class Option(_CaseField):
         return value
 
     def _load_column(self, values: list):
+        first = values[0]
+        if type(first) is str and first in self.choices and values.count(first) == len(values):
+            # One choice in every case (rows that repeat it): no conversion of each string.
+            return np.full(len(values), first)
         # Strings only, all among the choices: checked at C speed before any per-item look.
         if not (set(map(type, values)) == {str} and set(values) <= set(self.choices)):
             bad = {i: [self._message()] for i, v in enumerate(values)
