@@ -451,7 +451,7 @@ def _row_blocks(cases: list[dict]) -> list[tuple[list[int], dict[str, list]]]:
     # A field given as lists splits a block by list length (one case's stages each).
     split = []
     for rows, columns in blocks:
-        listed = [name for name, column in columns.items() if list in set(map(type, column))]
+        listed = [name for name, column in columns.items() if _holds_lists(column)]
         if not listed:
             split.append((list(rows), columns))
             continue
@@ -472,13 +472,29 @@ def _uniform_columns(cases: list[dict]) -> dict[str, list] | None:
     then a slice of the values; None if the rows differ."""
     order = list(cases[0])
     width = len(order)
-    if not width or list(map(len, cases)).count(width) != len(cases):
-        return None
-    # Each row has ``width`` keys, so the keys of all rows equal ``order`` repeated only if each row's do.
-    if list(chain.from_iterable(cases)) != order * len(cases):
+    # The keys of all rows, one after the other, are ``order`` repeated only if every row's keys are
+    # ``order``: a row with more keys than ``order`` would hold one of them twice (any ``width + 1``
+    # keys in a row of that sequence do), which a JSON object parsed into a dict cannot, so no row
+    # has more, and then none has fewer.
+    if not width or list(chain.from_iterable(cases)) != order * len(cases):
         return None
     values = list(chain.from_iterable(map(dict.values, cases)))
     return {name: values[order.index(name)::width] for name in sorted(order)}
+
+
+def _holds_lists(column: list) -> bool:
+    """Whether some value of a column is a list. ``sum`` adds a column of numbers at C speed and
+    refuses anything else, so it settles the usual column several times faster than a look at
+    the type of each value; a column that repeats one string is settled by a count."""
+    try:
+        sum(column)
+        return False
+    except (TypeError, OverflowError):
+        pass
+    first = column[0]
+    if type(first) is str and column.count(first) == len(column):
+        return False
+    return list in set(map(type, column))
 
 
 def _blocks_by_names(cases: list[dict]) -> list[tuple[list[int], dict[str, list]]]:

@@ -159,6 +159,19 @@ class Quantity(_CaseField):
         return int(number) if self.integer else number
 
     def _load_column(self, values: list):
+        first = values[0]
+        if type(first) is float and first not in (0.0, 1.0) and values.count(first) == len(values):
+            # One number in every case (rows that repeat an inlet state): the values equal to a float
+            # other than 0 and 1 are numbers (no bool equals it) that convert to that float.
+            array = np.full(len(values), first)
+        else:
+            array = self._column_array(values)
+        bad = self._out_of_range(array)
+        if bad.any():
+            raise ValidationError({int(i): [self._range_message(array[i])] for i in np.flatnonzero(bad)})
+        return array.astype(np.int64) if self.integer else array
+
+    def _column_array(self, values: list) -> np.ndarray:
         if not set(map(type, values)) <= set(_NUMBER_TYPES):
             raise ValidationError(
                 {i: ["Not a number."] for i, v in enumerate(values) if not _is_number(v)}
@@ -167,10 +180,7 @@ class Quantity(_CaseField):
             array = np.asarray(values, dtype=float)
         except OverflowError:  # an integer literal beyond the float range somewhere in the column
             array = np.asarray([float(v) if abs(v) < 1e308 or isinstance(v, float) else np.inf for v in values])
-        bad = self._out_of_range(array)
-        if bad.any():
-            raise ValidationError({int(i): [self._range_message(array[i])] for i in np.flatnonzero(bad)})
-        return array.astype(np.int64) if self.integer else array
+        return array
 
 
 class Option(_CaseField):
