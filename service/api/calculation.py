@@ -492,7 +492,7 @@ def _holds_lists(column: list) -> bool:
     except (TypeError, OverflowError):
         pass
     first = column[0]
-    if type(first) is str and column.count(first) == len(column):
+    if type(first) is str and column[-1] == first and column.count(first) == len(column):
         return False
     return list in set(map(type, column))
 

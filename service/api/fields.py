@@ -160,7 +160,8 @@ class Quantity(_CaseField):
 
     def _load_column(self, values: list):
         first = values[0]
-        if type(first) is float and first not in (0.0, 1.0) and values.count(first) == len(values):
+        if (type(first) is float and first not in (0.0, 1.0) and values[-1] == first
+                and values.count(first) == len(values)):
             # One number in every case (rows that repeat an inlet state): the values equal to a float
             # other than 0 and 1 are numbers (no bool equals it) that convert to that float.
             array = np.full(len(values), first)
@@ -208,7 +209,8 @@ class Option(_CaseField):
 
     def _load_column(self, values: list):
         first = values[0]
-        if type(first) is str and first in self.choices and values.count(first) == len(values):
+        if (type(first) is str and first in self.choices and values[-1] == first
+                and values.count(first) == len(values)):
             # One choice in every case (rows that repeat it): no conversion of each string.
             return np.full(len(values), first)
         # Strings only, all among the choices: checked at C speed before any per-item look.
