@@ -33,17 +33,14 @@ NUMPY = orjson.OPT_SERIALIZE_NUMPY
 #: part), each byte of orjson's UTF-8 as the one character of Latin-1 with that code, so that
 #: encoding the joined text as Latin-1 gives back the very bytes.
 BYTES = "latin-1"
-#: A character that JSON text written by orjson never holds (control characters in strings are
-#: escaped): it marks where one case's text ends, where the cases of several outcomes interleave.
-_CASE_END = "\x00"
 
 
 class RowsText:
     """The ``results`` of a rows answer, written as JSON text a slice of rows at a time.
 
     Only for outcomes whose outputs and checks are one number per case (see :meth:`takes`).
-    Where outcomes of different options interleave, each outcome's slice is written as above and
-    cut into one text per case, and the cases are put back in request order.
+    Where outcomes of different options interleave, each outcome's cases in the slice are filled
+    as above, and their parts taken in request order a run of neighbouring cases at a time.
     """
 
     ROWS_PER_PIECE = 1_000
@@ -64,23 +61,36 @@ class RowsText:
 
     def json_pieces(self):
         layouts = [_RowLayout(outcome, self.integer_outputs) for outcome in self.outcomes]
-        if len(layouts) == 1:  # one outcome holds every case, in order
-            for start in range(0, self.size, self.ROWS_PER_PIECE):
-                stop = min(start + self.ROWS_PER_PIECE, self.size)
-                yield layouts[0].text(start, stop, "[" if start == 0 else ",", "]" if stop == self.size else "")
-            return
         for start in range(0, self.size, self.ROWS_PER_PIECE):
             stop = min(start + self.ROWS_PER_PIECE, self.size)
-            slots: list = [None] * (stop - start)
-            for outcome, layout in zip(self.outcomes, layouts, strict=True):
-                lo, hi = np.searchsorted(outcome.index, (start, stop)).tolist()
-                if lo < hi:
-                    for position, text in zip((outcome.index[lo:hi] - start).tolist(), layout.cases(lo, hi),
-                                              strict=True):
-                        slots[position] = text
-            slots[0] = ("," if start else "[") + slots[0]
-            yield ",".join(slots).encode(BYTES)
-        yield b"]"
+            if len(layouts) == 1:  # one outcome holds every case, in order
+                parts = layouts[0].filled(start, stop)
+            else:
+                parts = self._interleaved(layouts, start, stop)
+            parts[0] = ("[" if start == 0 else ",") + parts[0][1:]
+            if stop == self.size:
+                parts.append("]")
+            yield "".join(parts).encode(BYTES)
+
+    def _interleaved(self, layouts: list[_RowLayout], start: int, stop: int) -> list[str]:
+        """The parts of cases ``start`` to ``stop`` where outcomes interleave: each outcome's cases
+        in the slice filled at once, then taken in request order a run of neighbours at a time."""
+        owner = np.empty(stop - start, dtype=np.intp)
+        filled, widths = [], []
+        for k, (outcome, layout) in enumerate(zip(self.outcomes, layouts, strict=True)):
+            lo, hi = np.searchsorted(outcome.index, (start, stop)).tolist()
+            owner[outcome.index[lo:hi] - start] = k
+            filled.append(layout.filled(lo, hi) if lo < hi else [])
+            widths.append(len(layout.parts))
+        runs = np.flatnonzero(np.diff(owner)) + 1
+        bounds = [0, *runs.tolist(), stop - start]
+        taken = [0] * len(filled)  # parts of each outcome already placed
+        parts: list[str] = []
+        for k, first, last in zip(owner[bounds[:-1]].tolist(), bounds[:-1], bounds[1:], strict=True):
+            end = taken[k] + (last - first) * widths[k]
+            parts += filled[k][taken[k]:end]
+            taken[k] = end
+        return parts
 
 
 class _Column:
@@ -155,11 +165,10 @@ class _RowLayout:
         self.parts = [part if isinstance(part, str) else None for part in parts]
         self.slots = [(position, part) for position, part in enumerate(parts) if not isinstance(part, str)]
 
-    def _filled(self, first: str, lo: int, hi: int, separator: str) -> list[str]:
-        """The parts of cases ``lo`` to ``hi``: ``first`` before the first case, ``separator`` between cases."""
+    def filled(self, lo: int, hi: int) -> list[str]:
+        """The parts of the outcome's cases ``lo`` to ``hi``, each case's first part led by a comma."""
         width = len(self.parts)
-        parts = [separator + self.parts[0], *self.parts[1:]] * (hi - lo)
-        parts[0] = first + self.parts[0]
+        parts = ["," + self.parts[0], *self.parts[1:]] * (hi - lo)
         texts: dict[int, list[str]] = {}  # a column shared by several slots is written once
         for position, slot in self.slots:
             tokens = texts.get(id(slot))
@@ -167,16 +176,6 @@ class _RowLayout:
                 tokens = texts[id(slot)] = slot.tokens(lo, hi)
             parts[position::width] = tokens
         return parts
-
-    def text(self, lo: int, hi: int, opening: str, closing: str) -> bytes:
-        """Cases ``lo`` to ``hi`` as JSON text, comma-separated, between ``opening`` and ``closing``."""
-        parts = self._filled(opening, lo, hi, ",")
-        parts.append(closing)
-        return "".join(parts).encode(BYTES)
-
-    def cases(self, lo: int, hi: int) -> list[str]:
-        """Cases ``lo`` to ``hi``, one JSON text each (as Latin-1 characters)."""
-        return "".join(self._filled("", lo, hi, _CASE_END)).split(_CASE_END)
 
 
 def _shared(columns: dict[tuple, list[_Column]], column: _Column) -> _Column:
