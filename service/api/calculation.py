@@ -22,6 +22,7 @@ from marshmallow import Schema, ValidationError, missing
 
 from service.api.fields import CaseSchema, Option, Quantity, QuantityList
 from service.api.problems import MAX_LISTED_ERRORS, PHYSICALLY_IMPOSSIBLE, Problem, invalid_input
+from service.api.rowstext import RowsText
 from service.core.cases import CaseResults, reason_texts
 from service.core.checks import STATUSES
 
@@ -486,10 +487,67 @@ def _row_blocks(cases: list[dict]) -> list[tuple[list[int], dict[str, list]]]:
     """The rows as blocks of columns: rows that name the same fields (and give lists of the same
     lengths) form one block, as ``(positions, {field: values})`` with the fields sorted by name.
 
-    The blocks of keying every row by its sorted (field, list length) pairs, found with a few
-    passes at C speed (key order, name sort per distinct order, one gather per field) rather than
-    a sort and a key per row.
+    Found with a few passes at C speed rather than a sort and a key per row: when every row names
+    the same fields in the same order (the usual batch), all values are taken at once and each
+    column is a slice of them; otherwise the rows are keyed by their key order, the orders by their
+    sorted names, and each field is gathered once per block.
     """
+    uniform = _uniform_columns(cases)
+    if uniform is not None:
+        blocks = [(range(len(cases)), uniform)]
+    else:
+        blocks = _blocks_by_names(cases)
+    # A field given as lists splits a block by list length (one case's stages each).
+    split = []
+    for rows, columns in blocks:
+        listed = [name for name, column in columns.items() if _holds_lists(column)]
+        if not listed:
+            split.append((list(rows), columns))
+            continue
+        lengths = list(zip(*([len(v) if isinstance(v, list) else -1 for v in columns[name]] for name in listed),
+                           strict=True))
+        by_length: dict[tuple, list[int]] = {}
+        for position, key in enumerate(lengths):
+            by_length.setdefault(key, []).append(position)
+        for positions in by_length.values():
+            split.append(([rows[p] for p in positions],
+                          {name: [column[p] for p in positions] for name, column in columns.items()}))
+    return split
+
+
+def _uniform_columns(cases: list[dict]) -> dict[str, list] | None:
+    """The columns of rows that all name the same fields in the same order (the usual batch), with
+    the fields sorted by name: every key and every value taken in one pass at C speed, each column
+    then a slice of the values; None if the rows differ."""
+    order = list(cases[0])
+    width = len(order)
+    # The keys of all rows, one after the other, are ``order`` repeated only if every row's keys are
+    # ``order``: a row with more keys than ``order`` would hold one of them twice (any ``width + 1``
+    # keys in a row of that sequence do), which a JSON object parsed into a dict cannot, so no row
+    # has more, and then none has fewer.
+    if not width or list(chain.from_iterable(cases)) != order * len(cases):
+        return None
+    values = list(chain.from_iterable(map(dict.values, cases)))
+    return {name: values[order.index(name)::width] for name in sorted(order)}
+
+
+def _holds_lists(column: list) -> bool:
+    """Whether some value of a column is a list. ``sum`` adds a column of numbers at C speed and
+    refuses anything else, so it settles the usual column several times faster than a look at
+    the type of each value; a column that repeats one string is settled by a count."""
+    try:
+        sum(column)
+        return False
+    except (TypeError, OverflowError):
+        pass
+    first = column[0]
+    if type(first) is str and column[-1] == first and column.count(first) == len(column):
+        return False
+    return list in set(map(type, column))
+
+
+def _blocks_by_names(cases: list[dict]) -> list[tuple[list[int], dict[str, list]]]:
+    """The rows keyed by the sorted names of their fields: ``(positions, {field: values})``."""
     orders = list(map(tuple, cases))
     if orders.count(orders[0]) == len(orders):
         by_order = {orders[0]: range(len(cases))}
@@ -504,20 +562,7 @@ def _row_blocks(cases: list[dict]) -> list[tuple[list[int], dict[str, list]]]:
     for names, parts in by_names.items():
         rows = list(parts[0]) if len(parts) == 1 else sorted(chain.from_iterable(parts))
         block = cases if len(rows) == len(cases) else [cases[i] for i in rows]
-        columns = {name: list(map(itemgetter(name), block)) for name in names}
-        # A field given as lists splits the block by list length (one case's stages each).
-        listed = [name for name, column in columns.items() if list in set(map(type, column))]
-        if not listed:
-            blocks.append((rows, columns))
-            continue
-        lengths = list(zip(*([len(v) if isinstance(v, list) else -1 for v in columns[name]] for name in listed),
-                           strict=True))
-        by_length: dict[tuple, list[int]] = {}
-        for position, key in enumerate(lengths):
-            by_length.setdefault(key, []).append(position)
-        for positions in by_length.values():
-            blocks.append(([rows[p] for p in positions],
-                           {name: [column[p] for p in positions] for name, column in columns.items()}))
+        blocks.append((rows, {name: list(map(itemgetter(name), block)) for name in names}))
     return blocks
 
 
@@ -833,155 +878,6 @@ def _rows_body(calculation: Calculation, outcomes: list[_Outcome], size: int) ->
             for j, i in enumerate(outcome.index.tolist()):
                 results[i] = _case_body(calculation, outcome, j)
     return results
-
-
-class RowsText:
-    """The ``results`` of a rows answer, written as JSON text a slice of rows at a time.
-
-    The same bytes as ``orjson.dumps(_rows_body(...))``, without a dict per case: each column
-    of a slice is written by orjson as a whole and split into its numbers, and the slice is one
-    join of those numbers with the constant texts between them (the keys, a rule's limit and
-    basis), made once per outcome. Where outcomes of different options interleave, each case's
-    object is one ``%`` substitution into that text instead. Only for outcomes whose outputs and
-    checks are one number per case (see :meth:`takes`).
-    """
-
-    ROWS_PER_PIECE = 1_000
-
-    def __init__(self, calculation: Calculation, outcomes: list[_Outcome], size: int):
-        self.calculation, self.outcomes, self.size = calculation, outcomes, size
-        self._once: dict = {}  # made once per outcome: its row text, the checks that repeat outputs
-
-    @staticmethod
-    def takes(outcomes: list[_Outcome]) -> bool:
-        return all(o.values or o.checks for o in outcomes) and all(
-            a.ndim == 1 for o in outcomes for a in o.values.values()) and all(
-            c["value"].ndim == 1 for o in outcomes for c in o.checks.values()) and all(
-            len(o.index) < 2 or bool((np.diff(o.index) > 0).all()) for o in outcomes)
-
-    def __len__(self) -> int:
-        return self.size
-
-    def json_pieces(self):
-        if len(self.outcomes) != 1:
-            yield from self._pieces_in_order()
-            return
-        # One outcome holds every case, in order: each slice is one join of its constant texts
-        # and its numbers, without a text per case.
-        outcome = self.outcomes[0]
-        segments = _row_segments(outcome)
-        # The text that closes one case and opens the next, then the texts between the numbers.
-        cycle_of = [segments[-1] + b"," + segments[0], *segments[1:-1]]
-        width = 2 * len(cycle_of)
-        repeated: dict[int, list[list[bytes]]] = {}
-        for start in range(0, self.size, self.ROWS_PER_PIECE):
-            stop = min(start + self.ROWS_PER_PIECE, self.size)
-            count = stop - start
-            if count not in repeated:
-                repeated[count] = [[segment] * count for segment in cycle_of]
-            # Every case's texts and numbers in one list, filled a field at a time by slice.
-            parts: list = [None] * (count * width + 1)
-            for k, (texts, numbers) in enumerate(zip(repeated[count], self._tokens(outcome, start, stop),
-                                                     strict=True)):
-                parts[2 * k:-1:width] = texts
-                parts[2 * k + 1::width] = numbers
-            parts[0] = (b"[" if start == 0 else b",") + segments[0]
-            parts[-1] = segments[-1] + (b"]" if stop == self.size else b"")
-            yield b"".join(parts)
-
-    def _pieces_in_order(self):
-        for start in range(0, self.size, self.ROWS_PER_PIECE):
-            stop = min(start + self.ROWS_PER_PIECE, self.size)
-            yield (b"," if start else b"[") + b",".join(self._rows(start, stop))
-        yield b"]"
-
-    def _rows(self, start: int, stop: int) -> list[bytes]:
-        slots: list = [None] * (stop - start)
-        for outcome in self.outcomes:
-            lo, hi = np.searchsorted(outcome.index, (start, stop)).tolist()
-            if lo < hi:
-                for position, text in zip((outcome.index[lo:hi] - start).tolist(),
-                                          self._outcome_rows(outcome, lo, hi), strict=True):
-                    slots[position] = text
-        return slots
-
-    def _outcome_rows(self, outcome: _Outcome, lo: int, hi: int) -> list[bytes]:
-        tokens = self._tokens(outcome, lo, hi)
-        template = self._once.get(id(outcome))
-        if template is None:
-            template = self._once[id(outcome)] = b"%b".join(
-                segment.replace(b"%", b"%%") for segment in _row_segments(outcome))
-        return list(map(template.__mod__, zip(*tokens, strict=True)))
-
-    def _same_as_output(self, outcome: _Outcome) -> dict[str, int | None]:
-        """For each check, the position of a float output holding exactly its values, if any."""
-        key = ("same", id(outcome))
-        if key not in self._once:
-            integer = self.calculation._integer_outputs
-            floats = [(k, a) for k, (name, a) in enumerate(outcome.values.items()) if name not in integer]
-            # Compared bit for bit, so that -0.0 and 0.0 are not taken for one another.
-            self._once[key] = {
-                name: next((k for k, a in floats if a.shape == check["value"].shape and a.dtype == check["value"].dtype
-                            and np.array_equal(_bits(a), _bits(check["value"]))), None)
-                for name, check in outcome.checks.items()}
-        return self._once[key]
-
-    def _tokens(self, outcome: _Outcome, lo: int, hi: int) -> list[list[bytes]]:
-        """Cases ``lo`` to ``hi`` of the outcome: per output, then per check value and status, the
-        JSON text of each case's number."""
-        integer = self.calculation._integer_outputs
-        tokens = [_int_tokens(a[lo:hi]) if name in integer else _number_tokens(a[lo:hi])
-                  for name, a in outcome.values.items()]
-        same = self._same_as_output(outcome)
-        for check_name, check in outcome.checks.items():
-            # A rule judges an output more often than not (the de Haller numbers): its texts are reused.
-            k = same[check_name]
-            tokens.append(tokens[k] if k is not None else _number_tokens(check["value"][lo:hi]))
-            statuses = check["status"][lo:hi].tolist()
-            try:
-                tokens.append(list(map(_STATUS_TOKENS.__getitem__, statuses)))
-            except (KeyError, TypeError):
-                tokens.append([orjson.dumps(status) for status in statuses])
-        return tokens
-
-
-def _bits(array: np.ndarray) -> np.ndarray:
-    return np.ascontiguousarray(array).view(np.uint8)
-
-
-_STATUS_TOKENS = {**{status: orjson.dumps(status) for status in STATUSES}, None: b"null"}
-
-
-def _number_tokens(array: np.ndarray) -> list[bytes]:
-    """Each number of a 1-D float array as orjson writes it (NaN as null)."""
-    return orjson.dumps(np.ascontiguousarray(array), option=orjson.OPT_SERIALIZE_NUMPY)[1:-1].split(b",")
-
-
-def _int_tokens(array: np.ndarray) -> list[bytes]:
-    """Each number of a float array as a whole number (``int(value)``), null where not finite."""
-    if np.isfinite(array).all() and (np.abs(array) < 2.0**63).all():
-        return orjson.dumps(array.astype(np.int64), option=orjson.OPT_SERIALIZE_NUMPY)[1:-1].split(b",")
-    return orjson.dumps([int(v) if math.isfinite(v) else None for v in array.tolist()])[1:-1].split(b",")
-
-
-def _row_segments(outcome: _Outcome) -> list[bytes]:
-    """One case's JSON object as the constant texts between its numbers and statuses, in the
-    order of :func:`_case_body`: the outputs, then each check's value, limit, fail_limit,
-    comparison, status and basis."""
-    option = orjson.OPT_SERIALIZE_NUMPY
-    segments, text = [], b"{"
-    for name in outcome.values:
-        segments.append(text + (b"," if segments else b"") + orjson.dumps(name) + b":")
-        text = b""
-    text += (b"," if segments else b"") + b'"checks":{'
-    for k, (name, check) in enumerate(outcome.checks.items()):
-        segments.append(text + (b"," if k else b"") + orjson.dumps(name) + b':{"value":')
-        segments.append(b',"limit":' + orjson.dumps(check["limit"], option=option)
-                        + b',"fail_limit":' + orjson.dumps(check["fail_limit"], option=option)
-                        + b',"comparison":' + orjson.dumps(check["comparison"], option=option) + b',"status":')
-        text = b',"basis":' + orjson.dumps(check["basis"], option=option) + b"}"
-    segments.append(text + b"}}")
-    return segments
 
 
 def _check_rows(check: dict) -> list[dict]:

@@ -166,6 +166,17 @@ class Quantity(_CaseField):
         return int(number) if self.integer else number
 
     def _load_column(self, values: list):
+        first = values[0] if values else None
+        if (type(first) is float and first not in (0.0, 1.0) and values[-1] == first
+                and values.count(first) == len(values)):
+            # One number in every case (rows that repeat an inlet state): the values equal to a float
+            # other than 0 and 1 are numbers (no bool equals it) that convert to that float.
+            array = np.full(len(values), first)
+        else:
+            array = self._column_array(values)
+        return self._load_array(array)
+
+    def _column_array(self, values: list) -> np.ndarray:
         if not set(map(type, values)) <= set(_NUMBER_TYPES):
             raise ValidationError(
                 {i: ["Not a number."] for i, v in enumerate(values) if not _is_number(v)}
@@ -174,7 +185,7 @@ class Quantity(_CaseField):
             array = np.asarray(values, dtype=float)
         except OverflowError:  # an integer literal beyond the float range somewhere in the column
             array = np.asarray([float(v) if abs(v) < 1e308 or isinstance(v, float) else np.inf for v in values])
-        return self._load_array(array)
+        return array
 
     def _load_array(self, array: np.ndarray):
         bad = self._out_of_range(array)
@@ -207,6 +218,11 @@ class Option(_CaseField):
         return value
 
     def _load_column(self, values: list):
+        first = values[0] if values else None
+        if (type(first) is str and first in self.choices and values[-1] == first
+                and values.count(first) == len(values)):
+            # One choice in every case (rows that repeat it): no conversion of each string.
+            return np.full(len(values), first)
         # Strings only, all among the choices: checked at C speed before any per-item look.
         if not (set(map(type, values)) == {str} and set(values) <= set(self.choices)):
             bad = {i: [self._message()] for i, v in enumerate(values)

@@ -210,7 +210,7 @@ def _shapes(case: dict, name: str, value):
 def test_wrong_type_is_422_at_the_field(client, value):
     shapes = _shapes(TRIANGLES, "flow_coefficient", value)
     if isinstance(value, list):
-        shapes = shapes[:1]  # a list is a column in columns
+        shapes = shapes[:2]  # a list is a column in columns
     for body, pointer in shapes:
         assert pointers(invalid(post(client, "triangles", body))) == [pointer], body
 
@@ -491,3 +491,13 @@ def test_every_response_carries_nosniff_and_errors_are_not_cached(client):
         assert response.headers.get("X-Content-Type-Options") == "nosniff", response
         if response.status_code >= 400:
             problem_body(response, response.status_code)  # problem+json, no traceback, no-store
+
+
+@pytest.mark.parametrize("field", ["flow_coefficient", "reaction", "weights"])
+def test_an_empty_list_for_a_per_stage_field_is_a_422_in_every_row(client, field):
+    # A regression: an empty list reached a column fast path that looked at its first value (a 500).
+    good = EXAMPLES["machine-design"].good
+    response = post(client, "machine-design", {"cases": [good, {**good, field: []}]})
+    assert response.status_code in (200, 422), response.get_data(as_text=True)
+    if response.status_code == 422:
+        assert any(pointer.startswith("/cases/1/") for pointer in pointers(problem_body(response, 422)))

@@ -78,6 +78,18 @@ def test_corners_of_the_text_writer():
     assert b"10% rule" in text and "Müller".encode() in text
 
 
+@pytest.mark.parametrize("cases", [
+    pytest.param([{"x": 2.0, "kind": "b"}] * 5, id="one-case-repeated"),
+    pytest.param([{"x": 60.0}] * 4, id="every-case-failed"),
+    pytest.param([{"x": 2.0}, {"x": 60.0}, {"x": 2.0}, {"x": 2.0}], id="one-value-and-a-failure"),
+])
+def test_columns_of_one_value_are_written_into_the_text_around_them(cases):
+    # Every column holds one value (or one value and the nulls of a failed case): the writer folds
+    # such a column into its constant text, or writes it as usual where a case failed.
+    text, reference = _texts(cases)
+    assert text == reference
+
+
 @settings(max_examples=60, deadline=None)
 @given(st.lists(st.fixed_dictionaries({"x": st.floats(0.001, 100.0, allow_nan=False)},
                                       optional={"kind": st.sampled_from(["a", "b"])}), min_size=1, max_size=20))

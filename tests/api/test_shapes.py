@@ -163,6 +163,18 @@ def test_rows_give_results_in_request_order_equal_to_single_cases(client, name):
     assert body["errors"] == []
 
 
+@pytest.mark.parametrize("name", NAMES)
+def test_rows_answer_alike_whatever_the_order_of_their_keys(client, name):
+    # Rows are read as columns at once when all name their fields in one order: the same case with
+    # its keys in another order, and one case repeated (every column one value), answer as alone.
+    good = EXAMPLES[name].good
+    turned = dict(reversed(list(good.items())))
+    for cases in ([good, turned, good], [turned, turned, turned], [good] * 3):
+        body = ok_body(post(client, name, rows_of(cases)))
+        assert body["errors"] == []
+        assert_batch_matches_singles(client, name, cases, rows=body)
+
+
 def test_rows_mix_machines_and_modes_with_each_case_on_its_own_stations(client):
     calc = calculation("triangles")
     duty = mode_case(calc, find_mode(calc, "Duty", "NoRows"))
