@@ -10,7 +10,7 @@ layout, identically for every endpoint.
 from __future__ import annotations
 
 import math
-from collections.abc import Callable, Mapping
+from collections.abc import Callable, Mapping, Sequence
 from dataclasses import dataclass, field
 from itertools import chain
 from operator import itemgetter
@@ -465,7 +465,7 @@ def _rows_groups(calculation: Calculation, payload: dict, max_cases: int):
     groups, errors = [], []
     for rows, raw in _row_blocks(cases):
         names = list(raw)
-        index = np.asarray(rows)
+        index = np.arange(rows.start, rows.stop, rows.step) if isinstance(rows, range) else np.asarray(rows)
 
         def pointer(f, rest, rows=rows):
             if rest and isinstance(rest[0], int):
@@ -483,7 +483,7 @@ def _rows_groups(calculation: Calculation, payload: dict, max_cases: int):
     return groups, len(cases), errors
 
 
-def _row_blocks(cases: list[dict]) -> list[tuple[list[int], dict[str, list]]]:
+def _row_blocks(cases: list[dict]) -> list[tuple[Sequence[int], dict[str, list]]]:
     """The rows as blocks of columns: rows that name the same fields (and give lists of the same
     lengths) form one block, as ``(positions, {field: values})`` with the fields sorted by name.
 
@@ -502,7 +502,7 @@ def _row_blocks(cases: list[dict]) -> list[tuple[list[int], dict[str, list]]]:
     for rows, columns in blocks:
         listed = [name for name, column in columns.items() if _holds_lists(column)]
         if not listed:
-            split.append((list(rows), columns))
+            split.append((rows, columns))
             continue
         lengths = list(zip(*([len(v) if isinstance(v, list) else -1 for v in columns[name]] for name in listed),
                            strict=True))

@@ -40,7 +40,7 @@ class RowsText:
 
     Only for outcomes whose outputs and checks are one number per case (see :meth:`takes`).
     Where outcomes of different options interleave, each outcome's cases in the slice are filled
-    as above, and their parts taken in request order a run of neighbouring cases at a time.
+    the same way, and their parts taken in request order a run of neighbouring cases at a time.
     """
 
     ROWS_PER_PIECE = 1_000
