@@ -415,7 +415,6 @@ def _subset(p, index):
 def _stage_count_for_loading(machine, rule, held, p, weights, max_stages):
     """Fewest stages whose laid-out stages (each at its own blade speed) keep the loading limit."""
     m = p["mass_flow"].shape[0]
-    found = np.zeros(m, dtype=np.int64)
     limit = p["max_loading_coefficient"]
     highest = np.full(m, max_stages)
     lowest = np.ones(m, dtype=np.int64)
@@ -427,26 +426,20 @@ def _stage_count_for_loading(machine, rule, held, p, weights, max_stages):
             machine, rule, "polytropic", p["pressure_ratio"], p["polytropic_efficiency"], p["total_temperature"],
             p["cp"], p["gamma"], blade_speed(p["radius"], p["shaft_speed"]), limit, max_stages=max_stages), 1)
         lowest = np.where(lowest == 0, max_stages + 1, lowest)
-    pending = lowest <= np.minimum(highest, max_stages)
-    for count in range(1, max_stages + 1):
-        active = np.flatnonzero(pending & (lowest <= count))
-        if active.size:
-            sub = _subset(p, active)
-            sub_weights = None if weights is None else weights[active]
-            sp = _split(machine, rule, sub, "stages", np.full(active.size, count), sub_weights, held, max_stages)
-            values, failures = _layout(machine, held, count, sub, sp.values)
-            failed = sp.failed()
-            for _, mask in failures:
-                failed |= mask
-            with np.errstate(invalid="ignore"):
-                meets = ~failed & np.all(values["stage_loading_coefficient"] <= limit[active, None] * (1 + LIMIT_RTOL),
-                                         axis=1)
-            found[active[meets]] = count
-            pending[active[meets]] = False
-        pending &= count < highest
-        if not pending.any():
-            break
-    return found
+
+    def meets(active, count):
+        sub = _subset(p, active)
+        sub_weights = None if weights is None else weights[active]
+        sp = _split(machine, rule, sub, "stages", np.full(active.size, count), sub_weights, held, max_stages)
+        values, failures = _layout(machine, held, count, sub, sp.values)
+        failed = sp.failed()
+        for _, mask in failures:
+            failed |= mask
+        with np.errstate(invalid="ignore"):
+            return ~failed & np.all(values["stage_loading_coefficient"] <= limit[active, None] * (1 + LIMIT_RTOL),
+                                    axis=1)
+
+    return split.fewest_count(lowest, highest, max_stages, meets)
 
 
 def evaluate_machine_design(

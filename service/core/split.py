@@ -528,23 +528,47 @@ def _fewest_stages(machine, rule, efficiency_model, pressure_ratio, efficiency, 
     _check_option("efficiency_model", efficiency_model, EFFICIENCY_MODELS)
     if (rule == "weights") != (weights is not None):
         raise ValueError("weights must be given with rule 'weights', and only with it")
-    n = pressure_ratio.shape[0]
-    found = np.zeros(n, dtype=np.int64)
-    highest = np.full(n, max_stages, dtype=np.int64)
+    highest = np.full(pressure_ratio.shape[0], max_stages, dtype=np.int64)
     if rule == "weights":
         lowest, usable = weight_counts(weights)
         highest = np.where(usable, np.minimum(lowest, max_stages), 0)
-    lowest = np.maximum(lowest, 1)
-    pending = lowest <= highest
-    for count in range(int(lowest[pending].min(initial=max_stages + 1)), max_stages + 1):
+
+    def meets(active, count):
+        rows = None if weights is None else weights[active]
+        ratio, tau = _split(machine, rule, efficiency_model, pressure_ratio[active], count,
+                            efficiency[active], gamma[active], rows)
+        return np.max(worst_stage(active, ratio, tau), axis=1) <= limit[active] * (1.0 + LIMIT_RTOL)
+
+    return fewest_count(np.maximum(lowest, 1), highest, max_stages, meets)
+
+
+def fewest_count(lowest, highest, max_stages, meets):
+    """Per case, the smallest stage count from ``lowest`` to ``highest`` (and ``max_stages``) that
+    ``meets`` accepts; 0 where none does.
+
+    Parameters
+    ----------
+    lowest, highest : numpy.ndarray of int
+        Bounds of each case's count; ``lowest`` must be a proven lower bound.
+    max_stages : int
+        The largest count tried.
+    meets : callable
+        ``meets(active, count)``: for the cases of index array ``active``, a boolean array of
+        whether ``count`` stages meet the limit. Called once per count, with the cases still open.
+
+    Returns
+    -------
+    numpy.ndarray of int64
+        The fewest stages, or 0. [-]
+    """
+    found = np.zeros(lowest.shape[0], dtype=np.int64)
+    pending = lowest <= np.minimum(highest, max_stages)
+    for count in range(max(1, int(lowest[pending].min(initial=max_stages + 1))), max_stages + 1):
         active = np.flatnonzero(pending & (lowest <= count))
         if active.size:
-            rows = None if weights is None else weights[active]
-            ratio, tau = _split(machine, rule, efficiency_model, pressure_ratio[active], count,
-                                efficiency[active], gamma[active], rows)
-            meets = np.max(worst_stage(active, ratio, tau), axis=1) <= limit[active] * (1.0 + LIMIT_RTOL)
-            found[active[meets]] = count
-            pending[active[meets]] = False
+            passed = active[meets(active, count)]
+            found[passed] = count
+            pending[passed] = False
         pending &= count < highest
         if not pending.any():
             break
