@@ -102,7 +102,11 @@ def request_id() -> str:
     that it is the same wherever it appears; an app used without it (a bare request context)
     decides it here on first use.
     """
-    environ = request.environ
+    return _environ_request_id(request.environ)
+
+
+def _environ_request_id(environ) -> str:
+    """The id kept in the request's WSGI environ, decided and kept there on first use."""
     found = environ.get(ENVIRON_REQUEST_ID)
     if found is None:
         found = environ[ENVIRON_REQUEST_ID] = accepted_request_id(environ.get("HTTP_X_REQUEST_ID", ""))
@@ -294,7 +298,7 @@ class _Observed:
 
     def __call__(self, environ, start_response):
         started = time.perf_counter()
-        identifier = environ[ENVIRON_REQUEST_ID] = accepted_request_id(environ.get("HTTP_X_REQUEST_ID", ""))
+        identifier = _environ_request_id(environ)
         statuses = []
 
         def start(status, headers, exc_info=None):
