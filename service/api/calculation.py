@@ -642,8 +642,12 @@ def _resolve_mode(calculation: Calculation, group: _Group, options: dict, positi
     if not scored:
         if {name for m in calculation.modes for name in m.when} - set(options):
             return None, errors  # an option that failed to load; its own error names it
-        return None, errors + [(p, "No way to compute this case with these options.")
-                               for p in group.case_pointers("", positions)]
+        # The options themselves are valid but no input form takes them together: name them.
+        restricting = sorted({name for m in calculation.modes for name in m.when} & set(options))
+        detail = ("No way to compute this case with these options together: "
+                  + ", ".join(f"{name} {options[name]!r}" for name in restricting) + ".")
+        return None, errors + [(p, detail) for name in (restricting or [""])
+                               for p in group.case_pointers(name, positions)]
     _, best, missing, extra = min(scored, key=lambda item: item[0])
     fewest = min(score for score, *_ in scored)
     nearest = [mode for score, mode, _, _ in scored if score == fewest]

@@ -150,6 +150,33 @@ EXAMPLES = {
              "reaction": 0.45, "rotor_aspect_ratio": 1.8, "stator_aspect_ratio": 1.4},
         ),
     ),
+    "stage-efficiency": Example(
+        base={"machine": "compressor", "loss_model": "lieblein_howell", "total_temperature": 288.15,
+              "rotor_aspect_ratio": 2.0, "stator_aspect_ratio": 2.5},
+        values={"flow_coefficient": 0.5, "loading_coefficient": 0.4, "reaction": 0.5, "blade_speed": 300.0,
+                "axial_velocity": 150.0, "alpha1": 30.0, "alpha2": 55.0, "alpha3": -10.0,
+                "rotor_solidity": 1.2, "stator_solidity": 1.1, "reynolds_number": 2.0e5,
+                "total_pressure": 101325.0, "blade_height": 0.05},
+        # As for the triangles: a total temperature of 10 K leaves a negative static temperature at
+        # station 1 at these duty coefficients (V1^2 / (2 cp) = 15.2 K, derived there).
+        good={"machine": "compressor", "loss_model": "lieblein_howell", "flow_coefficient": 0.5,
+              "loading_coefficient": 0.4, "reaction": 0.5, "blade_speed": 300, "total_temperature": 288.15,
+              "rotor_aspect_ratio": 2.0, "stator_aspect_ratio": 2.5, "rotor_solidity": 1.2, "stator_solidity": 1.1},
+        bad={"machine": "compressor", "loss_model": "lieblein_howell", "flow_coefficient": 0.5,
+             "loading_coefficient": 0.4, "reaction": 0.5, "blade_speed": 300, "total_temperature": 10,
+             "rotor_aspect_ratio": 2.0, "stator_aspect_ratio": 2.5, "rotor_solidity": 1.2, "stator_solidity": 1.1},
+        bad_reason="static temperature",
+        variants=(
+            {"machine": "turbine", "loss_model": "soderberg", "flow_coefficient": 0.6, "loading_coefficient": 1.5,
+             "reaction": 0.4, "blade_speed": 340.0, "gas": "combustion_products", "total_temperature": 1100.0,
+             "total_pressure": 4.0e5, "rotor_aspect_ratio": 2.0, "stator_aspect_ratio": 1.6, "blade_height": 0.05,
+             "thickness_to_chord": 0.2},
+            {"machine": "compressor", "loss_model": "lieblein_howell", "flow_coefficient": 0.55,
+             "loading_coefficient": 0.35, "reaction": 0.6, "blade_speed": 250, "total_temperature": 300,
+             "total_pressure": 1e5, "rotor_aspect_ratio": 2.2, "stator_aspect_ratio": 2.8, "rotor_solidity": 1.3,
+             "stator_solidity": 1.0, "tip_clearance_to_height": 0.01},
+        ),
+    ),
 }
 
 

@@ -1,0 +1,164 @@
+"""``POST /v1/stage-efficiency``: row losses and stage efficiencies of a repeating stage by a named
+set of loss correlations."""
+
+from __future__ import annotations
+
+import copy
+
+from marshmallow import Schema
+
+from service.api.calculation import Calculation, Mode, combine_modes
+from service.api.common import GasInputs, InletStateInputs, machine_field, output, positive
+from service.api.fields import Option, Quantity
+from service.api.triangles import FLOW, TrianglesInput, TrianglesOutput
+from service.core import gas, triangles
+from service.core.losses import stage as losses
+
+#: The stage's flow is given exactly as for /v1/triangles: the same fields, the same modes.
+FLOW_FIELDS = ("flow_coefficient", "loading_coefficient", "reaction", "blade_speed", "axial_velocity",
+               "alpha1", "alpha2", "alpha3")
+
+
+class StageEfficiencyInput(GasInputs, InletStateInputs):
+    machine = machine_field(required=True)
+    locals().update({name: copy.deepcopy(TrianglesInput._declared_fields[name]) for name in FLOW_FIELDS})
+    total_temperature = positive("Total (stagnation) temperature at the inlet (station 1). [K]", "K", required=True)
+    loss_model = Option(
+        "Correlation set: `soderberg` (turbine stages: Soderberg's loss with its aspect-ratio and Reynolds "
+        "corrections, Dixon & Hall ch. 4) or `lieblein_howell` (compressor stages: Lieblein's profile loss from "
+        "the wake momentum thickness, NASA SP-36 ch. 6; Howell's annulus and secondary drag, Saravanamuttoo et "
+        "al. ch. 5; Vavra's tip-clearance drag).", losses.LOSS_MODELS, required=True)
+    rotor_aspect_ratio = positive("Blade height over axial chord of the rotor. [-]", "-", required=True)
+    stator_aspect_ratio = positive("Blade height over axial chord of the stator. [-]", "-", required=True)
+    rotor_solidity = positive("Solidity (true chord over pitch) of the compressor rotor at the mean radius. [-]",
+                              "-")
+    stator_solidity = positive("Solidity (true chord over pitch) of the compressor stator at the mean radius. [-]",
+                               "-")
+    tip_clearance_to_height = Quantity(
+        "Compressor rotor tip clearance over blade height; without it no clearance loss is counted. [-]", "-",
+        minimum=0.0, maximum=1.0, exclusive_maximum=True)
+    reynolds_number = positive(
+        "Soderberg's Reynolds number of both turbine rows: exit density and velocity (row frame), hydraulic "
+        "diameter 2 s h cos(alpha_out) / (s cos(alpha_out) + h) of the exit of the blade passage, viscosity. [-]",
+        "-")
+    blade_height = positive("Blade height of both turbine rows, for their Reynolds numbers from the state. [m]", "m")
+    dynamic_viscosity = positive("Dynamic viscosity of the gas (default: air by Sutherland's law at each row's exit "
+                                 "temperature). [Pa s]", "Pa s")
+    thickness_to_chord = Quantity("Maximum thickness over chord of the turbine blades; judged against Soderberg's "
+                                  "range 0.15-0.25, not used in the loss. [-]", "-", minimum=0.0, maximum=1.0,
+                                  exclusive_minimum=True, exclusive_maximum=True)
+
+
+def _loss_outputs() -> dict:
+    docs = {
+        "total_to_total_efficiency": output(
+            "Stage total-to-total isentropic efficiency from the row losses (enthalpy-loss relation with the "
+            "static temperature ratio T3/T2, Dixon & Hall ch. 4). [-]", "-"),
+        "total_to_static_efficiency": output(
+            "Stage total-to-static isentropic efficiency: the exit kinetic energy counted as lost. [-]", "-"),
+    }
+    for row in ("stator", "rotor"):
+        frame = "absolute" if row == "stator" else "relative"
+        docs.update({
+            f"{row}_loss_coefficient": output(
+                f"Loss coefficient of the {row} ({frame} frame): soderberg, the enthalpy loss over the exit kinetic "
+                "energy (h_out - h_out,s) / (V_out^2 / 2); lieblein_howell, the stagnation-pressure loss over the "
+                "inlet dynamic pressure (p0_in - p0_out) / (p0_in - p_in), the sum of its four parts. [-]", "-"),
+            f"{row}_enthalpy_loss": output(
+                f"Enthalpy of the {row}'s exit state above the isentropic state at the same pressure. [J kg^-1]",
+                "J kg^-1"),
+            f"{row}_entropy_rise": output(f"Entropy rise across the {row}. [J kg^-1 K^-1]", "J kg^-1 K^-1"),
+            f"{row}_deflection": output(f"soderberg: flow deflection of the {row}, |inlet - outlet angle|. [deg]",
+                                        "deg"),
+            f"{row}_nominal_loss": output(
+                f"soderberg: nominal loss coefficient of the {row}, 0.04 (1 + 1.5 (deflection / 100)^2), at "
+                "aspect ratio 3 and Reynolds number 1e5. [-]", "-"),
+            f"{row}_aspect_ratio_loss": output(
+                f"soderberg: the {row}'s loss coefficient corrected to its aspect ratio (Reynolds number 1e5). [-]",
+                "-"),
+            f"{row}_reynolds_number": output(f"soderberg: Reynolds number of the {row} (see reynolds_number). [-]",
+                                             "-"),
+            f"{row}_profile_loss": output(
+                f"lieblein_howell: profile loss of the {row} from Lieblein's wake momentum thickness. [-]", "-"),
+            f"{row}_annulus_loss": output(f"lieblein_howell: Howell's annulus-wall loss of the {row}. [-]", "-"),
+            f"{row}_secondary_loss": output(f"lieblein_howell: Howell's secondary loss of the {row}. [-]", "-"),
+            f"{row}_tip_clearance_loss": output(
+                f"lieblein_howell: tip-clearance loss of the {row} (Vavra's drag; zero for the stator). [-]", "-"),
+            f"{row}_lift_coefficient": output(
+                f"lieblein_howell: lift coefficient of the {row} on the vector-mean velocity. [-]", "-"),
+            f"{row}_diffusion_factor": output(f"lieblein_howell: Lieblein diffusion factor of the {row}. [-]", "-"),
+            f"{row}_equivalent_diffusion_ratio": output(
+                f"lieblein_howell: Lieblein's equivalent diffusion ratio of the {row}. [-]", "-"),
+            f"{row}_momentum_thickness": output(
+                f"lieblein_howell: wake momentum thickness over chord of the {row}. [-]", "-"),
+        })
+    return docs
+
+
+StageEfficiencyOutput = Schema.from_dict(
+    {**{name: copy.deepcopy(f) for name, f in TrianglesOutput._declared_fields.items()
+        if not name.startswith(("stator_", "rotor_"))},
+     **_loss_outputs()},
+    name="StageEfficiencyOutput",
+)
+
+_GEOMETRY = ("rotor_solidity", "stator_solidity", "tip_clearance_to_height", "reynolds_number", "blade_height",
+             "dynamic_viscosity", "thickness_to_chord")
+
+
+def _compute(mode: Mode, options: dict, inputs: dict):
+    machine = options["machine"]
+    cp, gamma = gas.gas_properties(options.get("gas", "air"), inputs.get("cp"), inputs.get("gamma"))
+    state = {"total_temperature": inputs["total_temperature"], "total_pressure": inputs.get("total_pressure"),
+             "cp": cp, "gamma": gamma}
+    if mode.includes("Duty"):
+        stage = triangles.evaluate_stage_from_duty(
+            machine, inputs["flow_coefficient"], inputs["loading_coefficient"], inputs["reaction"],
+            inputs["blade_speed"], **state)
+    else:
+        first, second = ("alpha1", "alpha2") if machine == "compressor" else ("alpha2", "alpha3")
+        stage = triangles.evaluate_stage_from_angles(
+            machine, inputs["blade_speed"], inputs["axial_velocity"], inputs[first], inputs[second], **state)
+    geometry = {name: inputs[name] for name in _GEOMETRY if inputs.get(name) is not None}
+    return losses.with_stage_efficiency(stage, machine, options["loss_model"], cp, gamma,
+                                        rotor_aspect_ratio=inputs["rotor_aspect_ratio"],
+                                        stator_aspect_ratio=inputs["stator_aspect_ratio"], **geometry)
+
+
+_TURBINE = {"machine": ("turbine",), "loss_model": ("soderberg",)}
+LOSSES = (
+    Mode("SoderbergReynolds", "loss_model soderberg (turbine) with reynolds_number",
+         required=("reynolds_number",), optional=("thickness_to_chord", "total_pressure"), when=_TURBINE),
+    Mode("SoderbergState", "loss_model soderberg (turbine) with total_pressure and blade_height (Reynolds number "
+         "from the state)", required=("total_pressure", "blade_height"),
+         optional=("dynamic_viscosity", "thickness_to_chord"), when=_TURBINE),
+    Mode("LiebleinHowell", "loss_model lieblein_howell (compressor) with rotor_solidity and stator_solidity",
+         required=("rotor_solidity", "stator_solidity"), optional=("tip_clearance_to_height", "total_pressure"),
+         when={"machine": ("compressor",), "loss_model": ("lieblein_howell",)}),
+)
+
+CALCULATION = Calculation(
+    name="stage-efficiency",
+    summary="Row losses and stage efficiencies of a repeating stage from published loss correlations",
+    description=(
+        "The stage's velocity triangles as for /v1/triangles (duty coefficients, or blade speed, axial velocity "
+        "and the rotor's two absolute angles) with the inlet total temperature, plus the row geometry the named "
+        "correlation set needs. `soderberg` (turbine): each row's enthalpy loss coefficient from Soderberg's "
+        "correlation, 0.04 (1 + 1.5 (deflection/100)^2) at aspect ratio 3 and Reynolds number 1e5, corrected "
+        "for aspect ratio and Reynolds number (Dixon & Hall, Fluid Mechanics and Thermodynamics of "
+        "Turbomachinery, 7th ed., ch. 4); fitted on deflections up to 120 deg and blades at Zweifel's "
+        "coefficient 0.8; no tip-clearance loss. `lieblein_howell` (compressor): profile loss from Lieblein's "
+        "wake momentum thickness against the equivalent diffusion ratio (NASA SP-36 ch. 6; NACA 65-series "
+        "cascade data, inlet angles 30-70 deg, solidities 0.5-1.5, diffusion factors up to 0.6), Howell's "
+        "annulus drag 0.020 s/h and secondary drag 0.018 C_L^2 (Saravanamuttoo et al., Gas Turbine Theory, "
+        "ch. 5) and Vavra's tip-clearance drag 0.29 (k/h) C_L^1.5. The stage total-to-total and "
+        "total-to-static efficiencies follow from the row enthalpy losses with the static temperature ratio "
+        "T3/T2 (Dixon & Hall ch. 4). Every correlation input outside its fitted range gets a `warn` check "
+        "naming the correlation's source; the number is still answered. Preliminary-design estimates: a "
+        "design that matters is checked by detailed analysis and test."
+    ),
+    schema=StageEfficiencyInput,
+    outputs=StageEfficiencyOutput,
+    modes=combine_modes(FLOW, LOSSES),
+    compute=_compute,
+)
