@@ -248,8 +248,10 @@ def evaluate_stage_efficiency(machine, loss_model, flow: Mapping, cp, gamma, rot
         (f"the {row} loss is outside its correlation (e.g. an equivalent diffusion ratio past stall)",
          ~np.isfinite(loss[row])) for row, *_ in rows
     ]
+    # A negative total-to-static efficiency is a real answer (the exit static pressure below the inlet
+    # total pressure); a total-to-total one is not.
     failures.append(("the estimated losses exceed the stage work: no positive efficiency",
-                     ~(ts > 0.0) & np.isfinite(ts)))
+                     ~(tt > 0.0) & np.isfinite(tt)))
     judged = {name: RuleCheck(value=np.broadcast_to(check.value, shape), limit=check.limit,
                               comparison=check.comparison, basis=check.basis) for name, check in checks.items()}
     return masked_results({name: np.broadcast_to(v, shape) for name, v in values.items()}, failures,
