@@ -8,6 +8,9 @@ One module per correlation family:
   momentum thickness and the equivalent diffusion ratio (NASA SP-36, ch. 6);
 - :mod:`~service.core.losses.howell`: Howell's annulus and secondary drag and a tip-clearance
   drag of compressor rows (Saravanamuttoo et al., ch. 5);
+- :mod:`~service.core.losses.ainley`: the Ainley-Mathieson family with the Dunham-Came and
+  Kacker-Okapuu revisions, as far as the published equations go (AM's profile charts and KO's
+  trailing-edge chart are not fitted; see the module);
 - :mod:`~service.core.losses.efficiency`: loss-coefficient conversions and the stage
   total-to-total and total-to-static efficiencies from the row losses;
 - :mod:`~service.core.losses.stage`: :func:`evaluate_stage_efficiency`, a named correlation set
