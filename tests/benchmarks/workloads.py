@@ -19,6 +19,7 @@ import orjson
 
 from service.core import diffusion, gas, triangles, zweifel
 from service.core.cases import reason_texts
+from service.core.losses.stage import with_stage_efficiency
 
 NUMPY = orjson.OPT_SERIALIZE_NUMPY
 
@@ -169,4 +170,49 @@ DIFFUSION = Workload(
     baseline=_diffusion_baseline,
 )
 
-WORKLOADS = (TRIANGLES, ZWEIFEL, DIFFUSION)
+
+# -- stage efficiency: a compressor duty sweep through Lieblein's and Howell's losses --------------
+
+
+def _stage_efficiency_columns(size: int, rng: np.random.Generator) -> dict:
+    return {
+        "machine": "compressor",
+        "loss_model": "lieblein_howell",
+        "flow_coefficient": rng.uniform(0.4, 0.7, size).tolist(),
+        "loading_coefficient": rng.uniform(0.3, 0.45, size).tolist(),
+        "reaction": rng.uniform(0.5, 0.7, size).tolist(),
+        "blade_speed": rng.uniform(250.0, 350.0, size).tolist(),
+        "total_temperature": 288.15,
+        "rotor_aspect_ratio": 2.5,
+        "stator_aspect_ratio": 3.0,
+        "rotor_solidity": rng.uniform(0.9, 1.4, size).tolist(),
+        "stator_solidity": 1.1,
+        "tip_clearance_to_height": 0.01,
+    }
+
+
+def _stage_efficiency_baseline(body: bytes) -> bytes:
+    c = _arrays(body)
+    cp, gamma = gas.gas_properties("air")
+    stage = triangles.evaluate_stage_from_duty(
+        c["machine"], c["flow_coefficient"], c["loading_coefficient"], c["reaction"], c["blade_speed"],
+        total_temperature=c["total_temperature"], cp=cp, gamma=gamma)
+    result = with_stage_efficiency(stage, c["machine"], c["loss_model"], cp, gamma,
+                                   rotor_aspect_ratio=c["rotor_aspect_ratio"],
+                                   stator_aspect_ratio=c["stator_aspect_ratio"], rotor_solidity=c["rotor_solidity"],
+                                   stator_solidity=c["stator_solidity"],
+                                   tip_clearance_to_height=c["tip_clearance_to_height"])
+    return _write(result)
+
+
+STAGE_EFFICIENCY = Workload(
+    name="stage-efficiency",
+    path="/v1/stage-efficiency",
+    single={"machine": "compressor", "loss_model": "lieblein_howell", "flow_coefficient": 0.5,
+            "loading_coefficient": 0.4, "reaction": 0.6, "blade_speed": 300.0, "total_temperature": 288.15,
+            "rotor_aspect_ratio": 2.5, "stator_aspect_ratio": 3.0, "rotor_solidity": 1.2, "stator_solidity": 1.1},
+    columns=_stage_efficiency_columns,
+    baseline=_stage_efficiency_baseline,
+)
+
+WORKLOADS = (TRIANGLES, ZWEIFEL, DIFFUSION, STAGE_EFFICIENCY)

@@ -252,7 +252,7 @@ def evaluate_stage_efficiency(machine, loss_model, flow: Mapping, cp, gamma, rot
     # total pressure); a total-to-total one is not.
     failures.append(("the estimated losses exceed the stage work: no positive efficiency",
                      ~(tt > 0.0) & np.isfinite(tt)))
-    judged = {name: RuleCheck(value=np.broadcast_to(check.value, shape), limit=check.limit,
+    judged = {name: RuleCheck(value=np.ascontiguousarray(np.broadcast_to(check.value, shape)), limit=check.limit,
                               comparison=check.comparison, basis=check.basis) for name, check in checks.items()}
     return masked_results({name: np.broadcast_to(v, shape) for name, v in values.items()}, failures,
                           lambda out, failed: judged, shape=shape)
