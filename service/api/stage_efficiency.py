@@ -25,7 +25,10 @@ class StageEfficiencyInput(GasInputs, InletStateInputs):
     total_temperature = positive("Total (stagnation) temperature at the inlet (station 1). [K]", "K", required=True)
     loss_model = Option(
         "Correlation set: `soderberg` (turbine stages: Soderberg's loss with its aspect-ratio and Reynolds "
-        "corrections, Dixon & Hall ch. 4) or `lieblein_howell` (compressor stages: Lieblein's profile loss from "
+        "corrections, Dixon & Hall ch. 4), `kacker_okapuu` (turbine stages: Ainley-Mathieson profile loss from "
+        "the caller's chart readings with the Kacker-Okapuu revision, Kacker-Okapuu secondary loss, Denton's "
+        "trailing-edge loss, Dunham-Came tip-clearance loss) or `lieblein_howell` (compressor stages: Lieblein's "
+        "profile loss from "
         "the wake momentum thickness, NASA SP-36 ch. 6; Howell's annulus and secondary drag, Saravanamuttoo et "
         "al. ch. 5; Vavra's tip-clearance drag).", losses.LOSS_MODELS, required=True)
     rotor_aspect_ratio = positive("Blade height over axial chord of the rotor. [-]", "-", required=True)
@@ -35,7 +38,8 @@ class StageEfficiencyInput(GasInputs, InletStateInputs):
     stator_solidity = positive("Solidity (true chord over pitch) of the compressor stator at the mean radius. [-]",
                                "-")
     tip_clearance_to_height = Quantity(
-        "Compressor rotor tip clearance over blade height; without it no clearance loss is counted. [-]", "-",
+        "Rotor tip clearance over blade height (lieblein_howell, kacker_okapuu: an unshrouded tip); without it no "
+        "clearance loss is counted. [-]", "-",
         minimum=0.0, maximum=1.0, exclusive_maximum=True)
     reynolds_number = positive(
         "Soderberg's Reynolds number of both turbine rows: exit density and velocity (row frame), hydraulic "
@@ -44,9 +48,23 @@ class StageEfficiencyInput(GasInputs, InletStateInputs):
     blade_height = positive("Blade height of both turbine rows, for their Reynolds numbers from the state. [m]", "m")
     dynamic_viscosity = positive("Dynamic viscosity of the gas (default: air by Sutherland's law at each row's exit "
                                  "temperature). [Pa s]", "Pa s")
-    thickness_to_chord = Quantity("Maximum thickness over chord of the turbine blades; judged against Soderberg's "
-                                  "range 0.15-0.25, not used in the loss. [-]", "-", minimum=0.0, maximum=1.0,
+    thickness_to_chord = Quantity("Maximum thickness over chord of both turbine rows: kacker_okapuu's profile loss "
+                                  "(Ainley & Mathieson's thickness correction); soderberg only judges it against "
+                                  "the range 0.15-0.25. [-]", "-", minimum=0.0, maximum=1.0,
                                   exclusive_minimum=True, exclusive_maximum=True)
+    locals().update({
+        f"{row}_{kind}_profile_loss": Quantity(
+            f"kacker_okapuu: Ainley & Mathieson's (1951, Fig. 4) profile loss Y_p of {kind} blades (inlet angle "
+            f"{'0' if kind == 'nozzle' else 'equal to the outlet angle'}) read at the {row}'s pitch-chord ratio and "
+            "outlet angle (t/c 0.2, Re 2e5); the service does not fit those charts. [-]", "-",
+            minimum=0.0, maximum=1.0)
+        for row in ("stator", "rotor") for kind in ("nozzle", "impulse")})
+    trailing_edge_thickness_to_throat = Quantity(
+        "kacker_okapuu: trailing-edge thickness over throat width of both turbine rows (Denton's trailing-edge "
+        "loss). [-]", "-", minimum=0.0, maximum=1.0, exclusive_maximum=True)
+    base_pressure_coefficient = Quantity(
+        "kacker_okapuu: base pressure coefficient at the trailing edge, (p_base - p_out) / (rho V_out^2 / 2), "
+        "usually negative (Denton 1993). [-]", "-", minimum=-2.0, maximum=1.0)
 
 
 def _loss_outputs() -> dict:
@@ -63,7 +81,8 @@ def _loss_outputs() -> dict:
             f"{row}_loss_coefficient": output(
                 f"Loss coefficient of the {row} ({frame} frame): soderberg, the enthalpy loss over the exit kinetic "
                 "energy (h_out - h_out,s) / (V_out^2 / 2); lieblein_howell, the stagnation-pressure loss over the "
-                "inlet dynamic pressure (p0_in - p0_out) / (p0_in - p_in), the sum of its four parts. [-]", "-"),
+                "inlet dynamic pressure (p0_in - p0_out) / (p0_in - p_in); kacker_okapuu, over the exit dynamic "
+                "pressure (p0_in - p0_out) / (p0_out - p_out); each the sum of its four parts. [-]", "-"),
             f"{row}_enthalpy_loss": output(
                 f"Enthalpy of the {row}'s exit state above the isentropic state at the same pressure. [J kg^-1]",
                 "J kg^-1"),
@@ -79,11 +98,18 @@ def _loss_outputs() -> dict:
             f"{row}_reynolds_number": output(f"soderberg: Reynolds number of the {row} (see reynolds_number). [-]",
                                              "-"),
             f"{row}_profile_loss": output(
-                f"lieblein_howell: profile loss of the {row} from Lieblein's wake momentum thickness. [-]", "-"),
+                f"lieblein_howell, kacker_okapuu: profile loss of the {row} (Lieblein's wake momentum thickness; "
+                "Ainley & Mathieson's charts blended and scaled by Kacker & Okapuu). [-]", "-"),
             f"{row}_annulus_loss": output(f"lieblein_howell: Howell's annulus-wall loss of the {row}. [-]", "-"),
-            f"{row}_secondary_loss": output(f"lieblein_howell: Howell's secondary loss of the {row}. [-]", "-"),
+            f"{row}_secondary_loss": output(
+                f"lieblein_howell, kacker_okapuu: secondary loss of the {row} (Howell's; Kacker & Okapuu's). [-]",
+                "-"),
             f"{row}_tip_clearance_loss": output(
-                f"lieblein_howell: tip-clearance loss of the {row} (Vavra's drag; zero for the stator). [-]", "-"),
+                f"lieblein_howell, kacker_okapuu: tip-clearance loss of the {row} (Vavra's drag; Dunham & Came's "
+                "loss; zero for the stator). [-]", "-"),
+            f"{row}_trailing_edge_loss": output(
+                f"kacker_okapuu: trailing-edge loss of the {row} (Denton's mixed-out base-pressure relation). [-]",
+                "-"),
             f"{row}_lift_coefficient": output(
                 f"lieblein_howell: lift coefficient of the {row} on the vector-mean velocity. [-]", "-"),
             f"{row}_diffusion_factor": output(f"lieblein_howell: Lieblein diffusion factor of the {row}. [-]", "-"),
@@ -103,7 +129,9 @@ StageEfficiencyOutput = Schema.from_dict(
 )
 
 _GEOMETRY = ("rotor_solidity", "stator_solidity", "tip_clearance_to_height", "reynolds_number", "blade_height",
-             "dynamic_viscosity", "thickness_to_chord")
+             "dynamic_viscosity", "thickness_to_chord", "trailing_edge_thickness_to_throat",
+             "base_pressure_coefficient")
+_CHARTS = tuple(f"{row}_{kind}_profile_loss" for row in ("stator", "rotor") for kind in ("nozzle", "impulse"))
 
 
 def _compute(mode: Mode, options: dict, inputs: dict):
@@ -120,6 +148,8 @@ def _compute(mode: Mode, options: dict, inputs: dict):
         stage = triangles.evaluate_stage_from_angles(
             machine, inputs["blade_speed"], inputs["axial_velocity"], inputs[first], inputs[second], **state)
     geometry = {name: inputs[name] for name in _GEOMETRY if inputs.get(name) is not None}
+    if inputs.get(_CHARTS[0]) is not None:
+        geometry["profile_chart_losses"] = {name: inputs[name] for name in _CHARTS}
     return losses.with_stage_efficiency(stage, machine, options["loss_model"], cp, gamma,
                                         rotor_aspect_ratio=inputs["rotor_aspect_ratio"],
                                         stator_aspect_ratio=inputs["stator_aspect_ratio"], **geometry)
@@ -132,6 +162,11 @@ LOSSES = (
     Mode("SoderbergState", "loss_model soderberg (turbine) with total_pressure and blade_height (Reynolds number "
          "from the state)", required=("total_pressure", "blade_height"),
          optional=("dynamic_viscosity", "thickness_to_chord"), when=_TURBINE),
+    Mode("KackerOkapuu", "loss_model kacker_okapuu (turbine) with the four profile-loss chart readings, "
+         "thickness_to_chord, trailing_edge_thickness_to_throat and base_pressure_coefficient",
+         required=(*_CHARTS, "thickness_to_chord", "trailing_edge_thickness_to_throat", "base_pressure_coefficient"),
+         optional=("tip_clearance_to_height", "total_pressure"),
+         when={"machine": ("turbine",), "loss_model": ("kacker_okapuu",)}),
     Mode("LiebleinHowell", "loss_model lieblein_howell (compressor) with rotor_solidity and stator_solidity",
          required=("rotor_solidity", "stator_solidity"), optional=("tip_clearance_to_height", "total_pressure"),
          when={"machine": ("compressor",), "loss_model": ("lieblein_howell",)}),
@@ -147,7 +182,15 @@ CALCULATION = Calculation(
         "correlation, 0.04 (1 + 1.5 (deflection/100)^2) at aspect ratio 3 and Reynolds number 1e5, corrected "
         "for aspect ratio and Reynolds number (Dixon & Hall, Fluid Mechanics and Thermodynamics of "
         "Turbomachinery, 7th ed., ch. 4); fitted on deflections up to 120 deg and blades at Zweifel's "
-        "coefficient 0.8; no tip-clearance loss. `lieblein_howell` (compressor): profile loss from Lieblein's "
+        "coefficient 0.8; no tip-clearance loss. `kacker_okapuu` (turbine): each row's stagnation-pressure loss "
+        "coefficient Y on the exit dynamic pressure as profile + secondary + trailing edge + tip clearance: "
+        "Ainley & Mathieson's (1951) profile loss blended between the caller's readings of their nozzle and "
+        "impulse charts with Kacker & Okapuu's (1982) sign-preserving form, thickness correction, 2/3 and 0.914 "
+        "scaling and compressibility factor; Kacker & Okapuu's secondary loss (Dunham & Came's with their "
+        "aspect-ratio function, 1.2 and K_s); Denton's (1993) trailing-edge loss in place of Kacker & Okapuu's "
+        "chart; Dunham & Came's (1970) tip-clearance loss of a plain tip; no shock, incidence or Reynolds "
+        "corrections; charts fitted on t/c 0.15-0.25 and outlet angles 40-80 deg (several coefficients quoted "
+        "from memory, see the README). `lieblein_howell` (compressor): profile loss from Lieblein's "
         "wake momentum thickness against the equivalent diffusion ratio (NASA SP-36 ch. 6; NACA 65-series "
         "cascade data, inlet angles 30-70 deg, solidities 0.5-1.5, diffusion factors up to 0.6), Howell's "
         "annulus drag 0.020 s/h and secondary drag 0.018 C_L^2 (Saravanamuttoo et al., Gas Turbine Theory, "

@@ -156,7 +156,10 @@ EXAMPLES = {
         values={"flow_coefficient": 0.5, "loading_coefficient": 0.4, "reaction": 0.5, "blade_speed": 300.0,
                 "axial_velocity": 150.0, "alpha1": 30.0, "alpha2": 55.0, "alpha3": -10.0,
                 "rotor_solidity": 1.2, "stator_solidity": 1.1, "reynolds_number": 2.0e5,
-                "total_pressure": 101325.0, "blade_height": 0.05},
+                "total_pressure": 101325.0, "blade_height": 0.05, "thickness_to_chord": 0.2,
+                "stator_nozzle_profile_loss": 0.025, "stator_impulse_profile_loss": 0.07,
+                "rotor_nozzle_profile_loss": 0.03, "rotor_impulse_profile_loss": 0.08,
+                "trailing_edge_thickness_to_throat": 0.05, "base_pressure_coefficient": -0.15},
         # As for the triangles: a total temperature of 10 K leaves a negative static temperature at
         # station 1 at these duty coefficients (V1^2 / (2 cp) = 15.2 K, derived there).
         good={"machine": "compressor", "loss_model": "lieblein_howell", "flow_coefficient": 0.5,
@@ -175,6 +178,13 @@ EXAMPLES = {
              "loading_coefficient": 0.35, "reaction": 0.6, "blade_speed": 250, "total_temperature": 300,
              "total_pressure": 1e5, "rotor_aspect_ratio": 2.2, "stator_aspect_ratio": 2.8, "rotor_solidity": 1.3,
              "stator_solidity": 1.0, "tip_clearance_to_height": 0.01},
+            {"machine": "turbine", "loss_model": "kacker_okapuu", "blade_speed": 330.0, "axial_velocity": 200.0,
+             "alpha2": 68.0, "alpha3": -5.0, "gas": "combustion_products", "total_temperature": 1300.0,
+             "rotor_aspect_ratio": 2.2, "stator_aspect_ratio": 1.7, "thickness_to_chord": 0.18,
+             "stator_nozzle_profile_loss": 0.028, "stator_impulse_profile_loss": 0.075,
+             "rotor_nozzle_profile_loss": 0.03, "rotor_impulse_profile_loss": 0.085,
+             "trailing_edge_thickness_to_throat": 0.04, "base_pressure_coefficient": -0.12,
+             "tip_clearance_to_height": 0.008},
         ),
     ),
 }

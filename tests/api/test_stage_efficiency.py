@@ -71,3 +71,25 @@ def test_missing_geometry_names_the_field(client):
     case = {k: v for k, v in COMPRESSOR.items() if k != "stator_solidity"}
     problem = problem_body(post(client, "stage-efficiency", {"cases": [COMPRESSOR, case]}), 422)
     assert "/cases/1/stator_solidity" in pointers(problem)
+
+
+KACKER_OKAPUU = {"machine": "turbine", "loss_model": "kacker_okapuu", "gas": "combustion_products",
+                 "flow_coefficient": 0.6, "loading_coefficient": 1.5, "reaction": 0.45, "blade_speed": 300.0,
+                 "total_temperature": 1300.0, "rotor_aspect_ratio": 2.5, "stator_aspect_ratio": 2.0,
+                 "thickness_to_chord": 0.2, "stator_nozzle_profile_loss": 0.025, "stator_impulse_profile_loss": 0.07,
+                 "rotor_nozzle_profile_loss": 0.03, "rotor_impulse_profile_loss": 0.08,
+                 "trailing_edge_thickness_to_throat": 0.05, "base_pressure_coefficient": -0.15}
+
+
+def test_kacker_okapuu_breakdown(client):
+    body = ok_body(post(client, "stage-efficiency", {**KACKER_OKAPUU, "tip_clearance_to_height": 0.01}))
+    for row in ("rotor", "stator"):
+        parts = sum(body[f"{row}_{p}_loss"] for p in ("profile", "secondary", "trailing_edge", "tip_clearance"))
+        assert_allclose(body[f"{row}_loss_coefficient"], parts, rtol=1e-12)
+    assert body["checks"]["rotor_outlet_angle_high"]["basis"].startswith("Ainley & Mathieson")
+
+
+def test_kacker_okapuu_needs_the_chart_readings(client):
+    case = {k: v for k, v in KACKER_OKAPUU.items() if k != "rotor_impulse_profile_loss"}
+    problem = problem_body(post(client, "stage-efficiency", case), 422)
+    assert "/rotor_impulse_profile_loss" in pointers(problem)

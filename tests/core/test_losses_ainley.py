@@ -2,6 +2,7 @@
 
 import math
 
+import numpy as np
 import pytest
 from hypothesis import given, settings
 from hypothesis import strategies as st
@@ -84,3 +85,58 @@ def test_denton_trailing_edge_loss():
     assert_allclose(ainley.denton_trailing_edge_loss(0.1, -0.15), 0.025, rtol=1e-12)
     # A thin wake alone mixes out to 2 theta / w, the same as Lieblein's wake loss (service.core.losses.lieblein).
     assert_allclose(ainley.denton_trailing_edge_loss(0.0, 0.0, 0.01), 0.02, rtol=1e-12)
+
+
+def _ko_stage(**changes):
+    from service.core import gas, triangles
+    from service.core.losses.stage import with_stage_efficiency
+
+    cp, gamma = gas.gas_properties("combustion_products")
+    stage = triangles.evaluate_stage_from_duty("turbine", 0.6, 1.5, 0.45, 300.0, total_temperature=1300.0,
+                                               cp=cp, gamma=gamma)
+    charts = {"stator_nozzle_profile_loss": 0.025, "stator_impulse_profile_loss": 0.07,
+              "rotor_nozzle_profile_loss": 0.03, "rotor_impulse_profile_loss": 0.08}
+    geometry = dict(rotor_aspect_ratio=2.5, stator_aspect_ratio=2.0, thickness_to_chord=0.2,
+                    profile_chart_losses=charts, trailing_edge_thickness_to_throat=0.05,
+                    base_pressure_coefficient=-0.15, **changes)
+    return stage, with_stage_efficiency(stage, "turbine", "kacker_okapuu", cp, gamma, **geometry)
+
+
+def test_kacker_okapuu_stage_sums_its_parts_and_converts_y_exactly():
+    # The row's Y is the sum of its four parts (Kacker & Okapuu 1982); its entropy rise is R ln(p0_in/p0_out)
+    # with p0_in/p0_out = 1 + Y (1 - p/p0) at the exit Mach number (definition of Y, derived in
+    # tests/core/test_losses_compressor.py).
+    stage, result = _ko_stage(tip_clearance_to_height=0.01)
+    v = result.values
+    parts = sum(v[f"rotor_{p}_loss"] for p in ("profile", "secondary", "trailing_edge", "tip_clearance"))
+    assert_allclose(v["rotor_loss_coefficient"], parts, rtol=1e-12)
+    gamma, cp = 1.333, 1148.0
+    m = float(stage.values["M_rel3"])
+    ratio = 1 + float(v["rotor_loss_coefficient"]) * (1 - (1 + (gamma - 1) / 2 * m * m) ** (-gamma / (gamma - 1)))
+    assert_allclose(v["rotor_entropy_rise"], cp * (gamma - 1) / gamma * math.log(ratio), rtol=1e-10)
+    assert float(v["stator_tip_clearance_loss"]) == 0.0
+
+
+def test_kacker_okapuu_clearance_costs_about_two_points_per_percent():
+    # A rule of thumb for unshrouded turbine rotors (common practice; also the size of Kacker & Okapuu's
+    # 0.93 k / (h cos a2) decrement): about 1.5-3 points of efficiency per 1 % of clearance to height.
+    _, clean = _ko_stage()
+    _, leaky = _ko_stage(tip_clearance_to_height=0.01)
+    drop = float(clean.values["total_to_total_efficiency"] - leaky.values["total_to_total_efficiency"])
+    assert 0.01 < drop < 0.035
+
+
+def test_kacker_okapuu_thickness_outside_the_charts_warns():
+    stage, result = _ko_stage()
+    assert str(result.checks["thickness_to_chord_high"].status) == "ok"
+    from service.core import gas
+    from service.core.losses.stage import with_stage_efficiency
+
+    cp, gamma = gas.gas_properties("combustion_products")
+    charts = {f"{r}_{k}_profile_loss": 0.03 for r in ("stator", "rotor") for k in ("nozzle", "impulse")}
+    thick = with_stage_efficiency(stage, "turbine", "kacker_okapuu", cp, gamma, rotor_aspect_ratio=2.5,
+                                  stator_aspect_ratio=2.0, thickness_to_chord=0.3, profile_chart_losses=charts,
+                                  trailing_edge_thickness_to_throat=0.05, base_pressure_coefficient=-0.15)
+    assert str(thick.checks["thickness_to_chord_high"].status) == "warn"
+    assert "R&M 2974" in thick.checks["thickness_to_chord_high"].basis
+    assert np.isfinite(thick.values["total_to_total_efficiency"])

@@ -24,30 +24,36 @@ from service.core import flowpath, zweifel
 from service.core.cases import CaseResults, broadcast_cases, masked_results
 from service.core.checks import RuleCheck
 from service.core.diffusion import diffusion_factor, row_velocities
-from service.core.losses import efficiency, howell, lieblein, soderberg
+from service.core.losses import ainley, efficiency, howell, lieblein, soderberg
 from service.core.triangles import MACHINES
 
-#: Loss models: the correlation set named in an answer. ``soderberg`` is for turbine stages,
-#: ``lieblein_howell`` for compressor stages.
-LOSS_MODELS = ("soderberg", "lieblein_howell")
+#: Loss models: the correlation set named in an answer. ``soderberg`` and ``kacker_okapuu`` are for
+#: turbine stages, ``lieblein_howell`` for compressor stages.
+LOSS_MODELS = ("soderberg", "kacker_okapuu", "lieblein_howell")
 #: The machine each loss model applies to.
-LOSS_MODEL_MACHINE = {"soderberg": "turbine", "lieblein_howell": "compressor"}
+LOSS_MODEL_MACHINE = {"soderberg": "turbine", "kacker_okapuu": "turbine", "lieblein_howell": "compressor"}
 
 SODERBERG_BASIS = ("Soderberg's correlation, as given by Dixon & Hall (2014), Fluid Mechanics and Thermodynamics "
                    "of Turbomachinery, 7th ed., ch. 4")
 LIEBLEIN_BASIS = "Lieblein (1959), ASME J. Basic Eng. 81; NASA SP-36 (1965), ch. 6"
+AINLEY_BASIS = ("Ainley & Mathieson (1951), ARC R&M 2974 (profile-loss charts: t/c 0.15-0.25, outlet angles "
+                "40-80 deg)")
 CASCADE_BASIS = ("NACA 65-series cascade tests behind Lieblein's correlation: Herrig, Emery & Erwin (1957), "
                  "NACA TN 3916")
 
 
 def _rows(machine, flow):
     """(row, inlet angle, outlet angle, inlet speed, outlet speed, inlet Mach, exit temperature) in the
-    row's own frame."""
+    row's own frame (the turbine rotor's inlet Mach number only where the flow has it)."""
     if machine == "compressor":
         return (("rotor", flow["beta1"], flow["beta2"], flow["W1"], flow["W2"], flow["M_rel1"], flow["T2"]),
                 ("stator", flow["alpha2"], flow["alpha3"], flow["V2"], flow["V3"], flow["M2"], flow["T3"]))
     return (("stator", flow["alpha1"], flow["alpha2"], flow["V1"], flow["V2"], flow["M1"], flow["T2"]),
-            ("rotor", flow["beta2"], flow["beta3"], flow["W2"], flow["W3"], None, flow["T3"]))
+            ("rotor", flow["beta2"], flow["beta3"], flow["W2"], flow["W3"], flow.get("M_rel2"), flow["T3"]))
+
+
+#: Exit Mach number of each turbine row in its own frame.
+_EXIT_MACH = {"turbine": {"stator": "M2", "rotor": "M_rel3"}}
 
 
 def _range_checks(name, value, low, high, basis):
@@ -154,10 +160,41 @@ def _lieblein_howell(flow, rows, cp, gamma, aspect_ratio, solidity, tip_clearanc
     return values, checks, loss
 
 
+def _kacker_okapuu(flow, rows, cp, gamma, aspect_ratio, charts, thickness_to_chord, trailing_edge_thickness_to_throat,
+                   base_pressure_coefficient, tip_clearance_to_height):
+    values, checks, loss = {}, {}, {}
+    for row, inlet, outlet, _, _, m_in, t_out in rows:
+        m_out = flow[_EXIT_MACH["turbine"][row]]
+        stagger = flowpath.stagger_estimate(inlet, outlet)
+        height_to_chord = aspect_ratio[row] * np.cos(np.radians(stagger))
+        blend = ainley.profile_loss_blend(charts[f"{row}_nozzle_profile_loss"], charts[f"{row}_impulse_profile_loss"],
+                                          inlet, outlet, thickness_to_chord, "kacker_okapuu")
+        parts = {
+            "profile_loss": ainley.kacker_okapuu_profile_loss(blend, m_in, m_out),
+            "secondary_loss": ainley.kacker_okapuu_secondary_loss(inlet, outlet, height_to_chord,
+                                                                  1.0 / np.asarray(aspect_ratio[row], dtype=float),
+                                                                  m_in, m_out),
+            "trailing_edge_loss": ainley.denton_trailing_edge_loss(trailing_edge_thickness_to_throat,
+                                                                   base_pressure_coefficient),
+        }
+        clearance = tip_clearance_to_height if (row == "rotor" and tip_clearance_to_height is not None) else 0.0
+        parts["tip_clearance_loss"] = ainley.dunham_came_tip_clearance_loss(
+            np.asarray(clearance, dtype=float) * height_to_chord, height_to_chord, inlet, outlet)
+        total = sum(parts.values())
+        values.update({f"{row}_{name}": part for name, part in parts.items()})
+        values[f"{row}_loss_coefficient"] = total
+        ratio = efficiency.pressure_ratio_from_exit_loss(total, m_out, gamma)
+        loss[row] = efficiency.enthalpy_loss(efficiency.entropy_rise(ratio, cp, gamma), t_out, cp)
+        checks.update(_range_checks(f"{row}_outlet_angle", np.abs(outlet), *ainley.OUTLET_ANGLE_RANGE, AINLEY_BASIS))
+    checks.update(_range_checks("thickness_to_chord", thickness_to_chord, *ainley.THICKNESS_RANGE, AINLEY_BASIS))
+    return values, checks, loss
+
+
 def evaluate_stage_efficiency(machine, loss_model, flow: Mapping, cp, gamma, rotor_aspect_ratio, stator_aspect_ratio,
                               *, rotor_solidity=None, stator_solidity=None, tip_clearance_to_height=None,
                               reynolds_number=None, blade_height=None, dynamic_viscosity=None,
-                              thickness_to_chord=None) -> CaseResults:
+                              thickness_to_chord=None, profile_chart_losses=None,
+                              trailing_edge_thickness_to_throat=None, base_pressure_coefficient=None) -> CaseResults:
     """Row losses and the stage efficiencies of a repeating stage, by a named correlation set.
 
     Parameters
@@ -166,7 +203,9 @@ def evaluate_stage_efficiency(machine, loss_model, flow: Mapping, cp, gamma, rot
         ``compressor`` or ``turbine``.
     loss_model : str
         One of :data:`LOSS_MODELS`, for its machine (:data:`LOSS_MODEL_MACHINE`):
-        ``soderberg`` (turbine: :mod:`service.core.losses.soderberg`) or ``lieblein_howell``
+        ``soderberg`` (turbine: :mod:`service.core.losses.soderberg`), ``kacker_okapuu`` (turbine:
+        :mod:`service.core.losses.ainley`, profile + secondary + trailing edge + tip clearance,
+        with Ainley and Mathieson's chart readings given) or ``lieblein_howell``
         (compressor: :mod:`~service.core.losses.lieblein` profile loss, :mod:`~service.core.losses.howell`
         annulus, secondary and tip-clearance losses).
     flow : mapping of str to array_like
@@ -184,7 +223,8 @@ def evaluate_stage_efficiency(machine, loss_model, flow: Mapping, cp, gamma, rot
     rotor_solidity, stator_solidity : array_like, optional
         Chord over pitch (compressor). [-]
     tip_clearance_to_height : array_like, optional
-        Rotor tip clearance over blade height (compressor); without it no clearance loss. [-]
+        Rotor tip clearance over blade height (compressor, ``kacker_okapuu``); without it no
+        clearance loss. [-]
     reynolds_number : array_like, optional
         Soderberg's Reynolds number of both turbine rows (exit velocity, hydraulic diameter).
         Without it it is found from ``rho1``, ``blade_height`` and the viscosity. [-]
@@ -193,16 +233,25 @@ def evaluate_stage_efficiency(machine, loss_model, flow: Mapping, cp, gamma, rot
     dynamic_viscosity : array_like, optional
         [Pa s]; by default air's by Sutherland's law.
     thickness_to_chord : array_like, optional
-        Maximum thickness over chord of the turbine blades; only judged against Soderberg's
-        range (0.15-0.25). [-]
+        Maximum thickness over chord of the turbine blades: ``kacker_okapuu``'s profile loss
+        (required there); ``soderberg`` only judges it against its range (0.15-0.25). [-]
+    profile_chart_losses : mapping of str to array_like, optional
+        ``kacker_okapuu``: Ainley and Mathieson's profile-loss chart readings at each row's
+        pitch-chord ratio and outlet angle, keys ``stator_nozzle_profile_loss``,
+        ``stator_impulse_profile_loss``, ``rotor_nozzle_profile_loss``,
+        ``rotor_impulse_profile_loss``. [-]
+    trailing_edge_thickness_to_throat, base_pressure_coefficient : array_like, optional
+        ``kacker_okapuu``: both rows' trailing-edge thickness over throat and base pressure
+        coefficient, for Denton's trailing-edge loss. [-]
 
     Returns
     -------
     CaseResults
         Values: ``{row}_loss_coefficient`` (turbine rows: Soderberg's enthalpy loss coefficient on
         the exit kinetic energy; compressor rows: stagnation-pressure loss on the inlet dynamic
-        pressure) and its parts (``{row}_nominal_loss``, ``{row}_aspect_ratio_loss``; or
-        ``{row}_profile_loss``, ``_annulus_loss``, ``_secondary_loss``, ``_tip_clearance_loss``),
+        pressure; ``kacker_okapuu``: stagnation-pressure loss on the exit dynamic pressure, Ainley's Y)
+        and its parts (``{row}_nominal_loss``, ``{row}_aspect_ratio_loss``; or ``{row}_profile_loss``,
+        ``_annulus_loss`` or ``_trailing_edge_loss``, ``_secondary_loss``, ``_tip_clearance_loss``),
         ``{row}_entropy_rise`` [J kg^-1 K^-1], ``{row}_enthalpy_loss`` [J kg^-1],
         ``total_to_total_efficiency``, ``total_to_static_efficiency`` [-] and the correlations'
         intermediate numbers. Failures: losses beyond the correlation, losses above the work.
@@ -228,6 +277,10 @@ def evaluate_stage_efficiency(machine, loss_model, flow: Mapping, cp, gamma, rot
         else:
             reynolds = {"stator": reynolds_number, "rotor": reynolds_number}
         values, checks, loss = _soderberg(flow, rows, cp, gamma, aspect_ratio, reynolds, thickness_to_chord)
+    elif loss_model == "kacker_okapuu":
+        values, checks, loss = _kacker_okapuu(flow, rows, cp, gamma, aspect_ratio, profile_chart_losses,
+                                              thickness_to_chord, trailing_edge_thickness_to_throat,
+                                              base_pressure_coefficient, tip_clearance_to_height)
     else:
         values, checks, loss = _lieblein_howell(flow, rows, cp, gamma, aspect_ratio,
                                                 {"rotor": rotor_solidity, "stator": stator_solidity},
@@ -252,7 +305,7 @@ def evaluate_stage_efficiency(machine, loss_model, flow: Mapping, cp, gamma, rot
     # total pressure); a total-to-total one is not.
     failures.append(("the estimated losses exceed the stage work: no positive efficiency",
                      ~(tt > 0.0) & np.isfinite(tt)))
-    judged = {name: RuleCheck(value=np.ascontiguousarray(np.broadcast_to(check.value, shape)), limit=check.limit,
+    judged = {name: RuleCheck(value=np.array(np.broadcast_to(check.value, shape), order="C"), limit=check.limit,
                               comparison=check.comparison, basis=check.basis) for name, check in checks.items()}
     return masked_results({name: np.broadcast_to(v, shape) for name, v in values.items()}, failures,
                           lambda out, failed: judged, shape=shape)
