@@ -33,6 +33,10 @@ def flowpath_svg(payload: dict, body: dict) -> str:
     return _svg(flowpath_figure(payload, body))
 
 
+#: Line styles of the hub and tip triangles drawn over the mean ones (when the answer has them).
+_SPAN_STYLES = (("hub", ":"), ("tip", "--"))
+
+
 def triangles_svg(payload: dict, body: dict) -> str:
     """:func:`triangles_figure` as an SVG document."""
     return _svg(triangles_figure(payload, body))
@@ -107,7 +111,9 @@ def triangles_figure(payload: dict, body: dict):
         One panel per rotor station: tangential velocity [m/s] across (positive in
         the direction of rotor motion), axial velocity [m/s] down the page (the flow direction). The
         absolute velocity V, relative velocity W and blade speed U close each triangle; ids
-        ``vector-V{k}``, ``vector-W{k}``, ``vector-U{k}`` for the rotor's stations ``k``.
+        ``vector-V{k}``, ``vector-W{k}``, ``vector-U{k}`` for the rotor's stations ``k``. With hub
+        and tip values in the answer their V and W are drawn thinner (hub dotted, tip dashed), ids
+        ``vector-V{k}-hub``, ``vector-W{k}-tip``, ...
     """
     import matplotlib
     from matplotlib.figure import Figure
@@ -119,7 +125,8 @@ def triangles_figure(payload: dict, body: dict):
         {2: "rotor inlet (stator exit)", 3: "rotor exit"}
     u = body["blade_speed"]
     with matplotlib.rc_context(_STYLE):
-        figure = Figure(figsize=(9.0, 3.9), layout="constrained")
+        spanwise = f"Vx{stations[0]}_hub" in body
+        figure = Figure(figsize=(9.0, 4.6 if spanwise else 3.9), layout="constrained")
         panels = figure.subplots(1, 2)
         for axes, k in zip(panels, stations, strict=True):
             vx, vt, wt = body[f"Vx{k}"], body[f"Vtheta{k}"], body[f"Wtheta{k}"]
@@ -136,19 +143,33 @@ def triangles_figure(payload: dict, body: dict):
                 arrow.set_gid(f"vector-{name}")
                 axes.add_patch(arrow)
                 axes.plot([], [], color=colour, label=label)
+            for end, style in _SPAN_STYLES:
+                if f"Vx{k}_{end}" not in body:
+                    continue
+                evx, evt, ewt = body[f"Vx{k}_{end}"], body[f"Vtheta{k}_{end}"], body[f"Wtheta{k}_{end}"]
+                for name, tip_point, colour in ((f"V{k}", (evt, -evx), "black"), (f"W{k}", (ewt, -evx), ROTOR_COLOUR)):
+                    arrow = FancyArrowPatch((0.0, 0.0), tip_point, arrowstyle="-|>", mutation_scale=8, color=colour,
+                                            linewidth=0.9, linestyle=style, alpha=0.7, shrinkA=0, shrinkB=0)
+                    arrow.set_gid(f"vector-{name}-{end}")
+                    axes.add_patch(arrow)
+                axes.plot([], [], color="0.4", linestyle=style,
+                          label=f"{end}: alpha{k} = {body[f'alpha{k}_{end}']:.1f} deg, "
+                                f"beta{k} = {body[f'beta{k}_{end}']:.1f} deg, U = {body[f'blade_speed_{end}']:.0f} m/s")
             axes.axhline(0.0, color="0.7", linewidth=0.5)
             axes.axvline(0.0, color="0.7", linewidth=0.5)
             axes.set_title(f"Station {k}: {names[k]}")
             axes.set_xlabel("tangential velocity [m/s] (+ in the direction of rotor motion)")
-            axes.legend(loc="upper center", bbox_to_anchor=(0.5, -0.2), fontsize=8, frameon=False)
+            axes.legend(loc="upper center", bbox_to_anchor=(0.5, -0.26 if spanwise else -0.2), fontsize=8,
+                        frameon=False)
             axes.grid(True, linewidth=0.3)
         panels[0].set_ylabel("axial velocity [m/s] (flow downwards)")
-        extent = max(abs(body[f"{c}theta{k}"]) for c in "VW" for k in stations)
-        low = min(min(body[f"{c}theta{k}"] for c in "VW" for k in stations), 0.0)
-        high = max(max(body[f"{c}theta{k}"] for c in "VW" for k in stations), 0.0)
+        suffixes = [""] + [f"_{end}" for end, _ in _SPAN_STYLES if f"Vx{stations[0]}_{end}" in body]
+        swirls = [body[f"{c}theta{k}{s}"] for c in "VW" for k in stations for s in suffixes]
+        extent = max(abs(v) for v in swirls)
+        low, high = min(min(swirls), 0.0), max(max(swirls), 0.0)
         for axes in panels:
             axes.set_xlim(low - 0.1 * extent, high + 0.1 * extent)
-            axes.set_ylim(-1.15 * max(body[f"Vx{k}"] for k in stations), 0.1 * extent)
+            axes.set_ylim(-1.15 * max(body[f"Vx{k}{s}"] for k in stations for s in suffixes), 0.1 * extent)
             axes.set_aspect("equal", adjustable="box")
         figure.suptitle(f"{machine.capitalize()} stage velocity triangles: phi = {body['flow_coefficient']:.3f}, "
                         f"psi = {body['loading_coefficient']:.3f}, R = {body['reaction']:.3f}")

@@ -4,6 +4,8 @@ These tests check the wrapping (fields, modes, shapes, errors), not the physics 
 (tests/core/test_span.py does that).
 """
 
+from xml.etree import ElementTree
+
 import pytest
 from numpy.testing import assert_allclose
 
@@ -95,3 +97,15 @@ def test_vortex_without_an_annulus_and_a_mixed_annulus_are_refused(client):
     unknown = problem_body(post(client, "triangles", {**STAGE, "hub_radius": 0.3, "tip_radius": 0.5,
                                                       "vortex": "tornado"}), 422)
     assert pointers(unknown) == ["/vortex"]
+
+
+@pytest.mark.parametrize(("stage", "stations"), [(STAGE, (1, 2)), (TURBINE, (2, 3))])
+def test_the_triangles_drawing_adds_the_hub_and_tip_triangles(client, stage, stations):
+    response = client.post("/v1/triangles", json={**stage, "hub_radius": 0.4, "tip_radius": 0.5},
+                           headers={"Accept": "image/svg+xml"})
+    assert response.status_code == 200 and response.mimetype == "image/svg+xml"
+    ids = sorted(e.get("id") for e in ElementTree.fromstring(response.data).iter()
+                 if (e.get("id") or "").startswith("vector-"))
+    mean = [f"vector-{v}{k}" for v in "VWU" for k in stations]
+    ends = [f"vector-{v}{k}-{end}" for v in "VW" for k in stations for end in span.SPAN_ENDS]
+    assert ids == sorted(mean + ends)
