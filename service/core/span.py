@@ -61,6 +61,8 @@ References
 
 from __future__ import annotations
 
+from dataclasses import replace
+
 import numpy as np
 
 from service.core import diffusion, span_checks, triangles
@@ -418,5 +420,7 @@ rotor_solidity, stator_solidity
     failed = span.failed()
     merged = {name: np.where(failed, np.nan, array) if failed.any() else array for name, array in values.items()}
     merged.update(span.values)
-    return CaseResults(values=merged, failures=stage.failures + span.failures, checks={**stage.checks, **span.checks})
+    # replace() keeps whatever else the stage's results carry.
+    return replace(stage, values=merged, failures=stage.failures + span.failures,
+                   checks={**stage.checks, **span.checks})
 
