@@ -644,7 +644,8 @@ def _resolve_mode(calculation: Calculation, group: _Group, options: dict, positi
             return None, errors  # an option that failed to load; its own error names it
         return None, errors + [(p, "No way to compute this case with these options.")
                                for p in group.case_pointers("", positions)]
-    _, best, missing, extra = min(scored, key=lambda item: item[0])
+    # Among the nearest modes, the one that takes the fields given: a field given shows the intent.
+    _, best, missing, extra = min(scored, key=lambda item: (item[0], len(item[3])))
     fewest = min(score for score, *_ in scored)
     nearest = [mode for score, mode, _, _ in scored if score == fewest]
     alternatives = "; or ".join(m.description for m in nearest)
