@@ -106,7 +106,8 @@ MachineOutput = Schema.from_dict(
         "station_alpha": _list(f"Absolute flow angle from axial {_STATION}. [deg]", "deg"),
         "station_blade_speed": _list(
             f"Blade speed of the adjacent rotor at the station's own mean radius, 2 pi N r / 60, {_STATION}; null "
-            "where no rotor is next to the station (compressor outlet, turbine inlet). [m s^-1]", "m s^-1", null_entries=True),
+            "where no rotor is next to the station (compressor outlet, turbine inlet). [m s^-1]", "m s^-1",
+            null_entries=True),
         "station_relative_tangential_velocity": _list(
             f"Relative tangential velocity V_theta - U {_STATION}, in the frame of the adjacent rotor at the "
             "station's own radius; null where no rotor is next to the station. [m s^-1]", "m s^-1", null_entries=True),

@@ -406,12 +406,10 @@ def _layout(machine, held, n, p, sp):
             else p["outlet_swirl"]
         vx_st[:, -1] = vx[:, -1]
         swirl_st[:, -1] = vx[:, -1] * np.tan(np.radians(outlet))
-        no_rotor = s - 1
     else:
         vx_st[:, 0] = vx[:, 0]
         swirl_st[:, 0] = design_swirl[:, 0] if p["inlet_swirl"] is None else \
             vx[:, 0] * np.tan(np.radians(p["inlet_swirl"]))
-        no_rotor = 0
     speed_st = np.hypot(vx_st, swirl_st)
     relative_swirl = swirl_st - u_st
     relative = np.hypot(vx_st, relative_swirl)
