@@ -185,7 +185,7 @@ def _low_swirl(u, flow_coefficient, work, reaction, fixed_angle):
     return swirl
 
 
-def _solved_radius(held, radius, p, t0, p0, needed, velocities, given=None):
+def _solved_radius(held, radius, p, t0, p0, needed, velocities, given=None, guess=None):
     """Mean radius, (m, n), of one station of every stage with the hub or tip radius held.
 
     The station's velocities depend on the blade speed at its own radius, so its annulus and its blade
@@ -208,11 +208,14 @@ def _solved_radius(held, radius, p, t0, p0, needed, velocities, given=None):
         the entries of ``needed`` and ``given`` of the problems solved.
     given : dict of numpy.ndarray, optional
         Per-stage values that may be NaN (e.g. a swirl angle fixed at some stages only).
+    guess : numpy.ndarray, optional
+        A hub-to-tip ratio near the station's, (m, n): the search starts there
+        (:func:`service.core.annulus.hub_to_tip_ratio_near`). [-]
 
     Returns
     -------
-    numpy.ndarray
-        The station's mean radius; NaN where no annulus passes the mass flow. [m]
+    radius, hub_to_tip_ratio : numpy.ndarray
+        The station's mean radius [m] and hub-to-tip ratio [-]; NaN where no annulus passes the mass flow.
     """
     m, n = t0.shape
 
@@ -239,10 +242,12 @@ def _solved_radius(held, radius, p, t0, p0, needed, velocities, given=None):
         return np.where(vx / state["speed_of_sound"] < 1.0, ratio, np.nan)
 
     ratio = np.full(m * n, np.nan)
-    if solved.size:
+    if solved.size and guess is None:
         ratio[solved] = annulus.hub_to_tip_ratio_for_flow(held, sub["radius"], flow_ratio)
+    elif solved.size:
+        ratio[solved] = annulus.hub_to_tip_ratio_near(held, sub["radius"], flow_ratio, guess.ravel()[solved])
     ring = annulus.annulus_from_hub_to_tip_ratio(held, every["radius"], ratio)
-    return ring["mean_radius"].reshape(m, n)
+    return ring["mean_radius"].reshape(m, n), ratio.reshape(m, n)
 
 
 def enthalpy_reaction(machine, station_static_temperature):
@@ -362,9 +367,9 @@ def _layout(machine, held, n, p, sp):
     if held == "mean":
         stage_radius = np.broadcast_to(radius[:, None], (m, n)).astype(float)
     else:
-        stage_radius = _solved_radius(held, radius, p, t0[:, design], p0[:, design],
-                                      {"phi": phi, "work": work, "reaction": reaction}, _design_velocities,
-                                      {"fixed": fixed})
+        stage_radius, stage_ratio = _solved_radius(held, radius, p, t0[:, design], p0[:, design],
+                                                   {"phi": phi, "work": work, "reaction": reaction},
+                                                   _design_velocities, {"fixed": fixed})
         for i in range(n):
             failures.append((
                 f"stage {i + 1}: no annulus with the {held} radius held passes the mass flow at station "
@@ -385,8 +390,9 @@ def _layout(machine, held, n, p, sp):
     if held == "mean":
         other_radius = stage_radius
     else:
-        other_radius = _solved_radius(held, radius, p, t0[:, other], p0[:, other],
-                                      {"vx": vx, "work": work, "moment": moment}, _euler_velocities)
+        other_radius, _ = _solved_radius(held, radius, p, t0[:, other], p0[:, other],
+                                         {"vx": vx, "work": work, "moment": moment}, _euler_velocities,
+                                         guess=stage_ratio)
         for i in range(n):
             failures.append((
                 f"stage {i + 1}: no annulus with the {held} radius held passes the mass flow at station "
