@@ -514,6 +514,18 @@ def test_hub_to_tip_ratio_for_flow_finds_the_shortest_blade_that_passes_it():
     assert_allclose(ratio, np.sqrt(1 - 0.05 / (np.pi * np.array([0.3, 0.2]) ** 2)), rtol=1e-10)
 
 
+def test_hub_to_tip_ratio_near_a_guess_is_the_closed_form_and_falls_back_without_one():
+    # The same closed-form annulus (A = pi r_t^2 (1 - x^2), derived here) from a guess near the root, far from
+    # it, and with no guess (NaN: the scan from short blades takes over); a flow no annulus passes gives NaN.
+    tip = np.array([0.3, 0.2, 0.25, 0.25])
+    expected = np.sqrt(1 - 0.05 / (np.pi * tip ** 2))
+    expected[3] = np.nan
+    needed = np.array([0.05, 0.05, 0.05, 1.0])
+    ratio = annulus.hub_to_tip_ratio_near("tip", tip, lambda ring, which: ring["area"] / needed[which],
+                                          np.array([0.8, 0.1, np.nan, 0.5]))
+    assert_allclose(ratio, expected, rtol=1e-10)
+
+
 def test_flowpath_row_mean_and_layout():
     assert_allclose(flowpath.row_mean([1.0, 3.0, 7.0]), [2.0, 5.0])
     layout = flowpath.axial_layout(np.array([0.02, 0.03, 0.04]), 0.5)
