@@ -56,6 +56,7 @@ import numpy as np
 
 from service.core.cases import NumberedReason, broadcast_cases, masked_results
 from service.core.checks import RuleCheck, de_haller_check, deceleration_check, solidity_checks
+from service.core.triangles import angular_velocity
 
 ROWS = ("rotor", "stator")
 SPAN_POSITIONS = ("hub", "mean", "tip")
@@ -115,24 +116,6 @@ def _turning(inlet_swirl, outlet_swirl, inlet_radius, outlet_radius, shaft_speed
         r1, r2, speed = broadcast_cases(inlet_radius, outlet_radius, shaft_speed)
         change = change + 2.0 * angular_velocity(speed) * (r2 - r1)
     return np.abs(change)
-
-
-def angular_velocity(shaft_speed):
-    """Angular velocity of a shaft.
-
-    .. math:: \\Omega = 2 \\pi N / 60
-
-    Parameters
-    ----------
-    shaft_speed : array_like
-        Shaft speed. [rev min^-1]
-
-    Returns
-    -------
-    numpy.ndarray
-        Angular velocity. [rad s^-1]
-    """
-    return np.asarray(shaft_speed, dtype=float) * (2.0 * np.pi / 60.0)
 
 
 def row_velocities(axial_velocity, inlet_angle, outlet_angle, outlet_axial_velocity=None):

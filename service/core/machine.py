@@ -154,24 +154,8 @@ def station_total_states(machine, stage_inlet_total_temperature, stage_outlet_to
     return temperature, pressure
 
 
-def blade_speed(mean_radius, shaft_speed):
-    """Blade speed at a radius.
-
-    .. math:: U = 2 \\pi r N / 60
-
-    Parameters
-    ----------
-    mean_radius : array_like
-        Radius. [m]
-    shaft_speed : array_like
-        Shaft speed. [rev min^-1]
-
-    Returns
-    -------
-    numpy.ndarray
-        Blade speed. [m s^-1]
-    """
-    return 2.0 * np.pi * np.asarray(mean_radius, dtype=float) * np.asarray(shaft_speed, dtype=float) / 60.0
+#: Blade speed at a radius from the shaft speed (:func:`service.core.triangles.blade_speed`).
+blade_speed = triangles.blade_speed
 
 
 def _low_swirl(u, flow_coefficient, work, reaction, fixed_angle):
