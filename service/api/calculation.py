@@ -644,7 +644,8 @@ def _resolve_mode(calculation: Calculation, group: _Group, options: dict, positi
             return None, errors  # an option that failed to load; its own error names it
         return None, errors + [(p, "No way to compute this case with these options.")
                                for p in group.case_pointers("", positions)]
-    _, best, missing, extra = min(scored, key=lambda item: item[0])
+    # Among the nearest modes, the one that takes the fields given: a field given shows the intent.
+    _, best, missing, extra = min(scored, key=lambda item: (item[0], len(item[3])))
     fewest = min(score for score, *_ in scored)
     nearest = [mode for score, mode, _, _ in scored if score == fewest]
     alternatives = "; or ".join(m.description for m in nearest)
@@ -700,7 +701,11 @@ def _outcome(result: CaseResults, index: np.ndarray, integer_outputs=frozenset()
         whole = np.ascontiguousarray(array, dtype=float)
         if whole is not array and whole.flags.owndata:
             own.add(name)
-        finite = np.isfinite(whole) if whole.ndim == 1 else _finite_rows(whole)
+        if name in result.absent:
+            # Entries that do not apply are NaN by design, not a failure.
+            finite = _finite_rows(np.where(result.absent[name], 0.0, whole))
+        else:
+            finite = np.isfinite(whole) if whole.ndim == 1 else _finite_rows(whole)
         if name in integer_outputs:
             # A count past 2**53 is not exact as a double, and past 2**63 orjson refuses it (a 500).
             too_big = np.abs(np.where(np.isfinite(whole), whole, 0.0)) > MAX_WHOLE_OUTPUT
@@ -772,8 +777,9 @@ def _finite_rows(array: np.ndarray) -> np.ndarray:
 
 def _scalar(calculation: Calculation, name: str, value):
     if isinstance(value, np.ndarray):  # one case's per-stage list, NaN-padded; all NaN where it failed
-        finite = value[np.isfinite(value)]
-        return [_scalar(calculation, name, v) for v in finite] if finite.size else None
+        finite = np.flatnonzero(np.isfinite(value))
+        # The padding after the last value is cut; a NaN before it is an entry that does not apply: null.
+        return [_scalar(calculation, name, v) for v in value[: finite[-1] + 1]] if finite.size else None
     if not np.isfinite(value):
         return None
     return int(value) if name in calculation._integer_outputs else float(value)

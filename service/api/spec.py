@@ -144,7 +144,10 @@ def _add_calculation(spec: APISpec, plugin, calculation: Calculation) -> None:
     for name, field in calculation.outputs().fields.items():
         prop = plugin.converter.field2property(field)
         if prop.pop("x-per-stage", False):
-            outputs[name] = {**prop, "type": ["array", "null"], "items": {"type": prop.get("type", "number")}}
+            item = prop.get("type", "number")
+            # Entries that may not apply (a rotor-frame value at a station without a rotor) are null.
+            item = [item, "null"] if prop.pop("x-null-entries", False) else item
+            outputs[name] = {**prop, "type": ["array", "null"], "items": {"type": item}}
         else:
             outputs[name] = {**prop, "type": [prop.get("type", "number"), "null"]}
     checks = {"type": "object", "description": "Rules of thumb the case was judged against.",

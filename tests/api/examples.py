@@ -87,7 +87,8 @@ EXAMPLES = {
     "diffusion-factor": Example(
         base={"axial_velocity": 150.0, "inlet_angle": 50.0, "outlet_angle": 20.0},
         values={"solidity": 1.2, "chord": 0.05, "pitch": 0.04, "blade_count": 40, "mean_radius": 0.3,
-                "target_diffusion_factor": 0.45},
+                "target_diffusion_factor": 0.45, "inlet_radius": 0.3, "outlet_radius": 0.31,
+                "shaft_speed": 9000.0},
         # 1 - V2/V1 = 1 - cos 50 / cos 20 = 0.316 (derived here, constant axial velocity): no
         # solidity reaches a diffusion factor below it (Lieblein's definition).
         good={"axial_velocity": 150.0, "inlet_angle": 50.0, "outlet_angle": 20.0,

@@ -362,10 +362,19 @@ def test_missing_machine_is_the_only_error_named(client):
 
 
 def test_fields_given_together_are_named_where_one_is_missing(client):
-    alone = {k: v for k, v in EXAMPLES["diffusion-factor"].good.items()} | {"inlet_radius": 0.3}
+    alone = {k: v for k, v in EXAMPLES["diffusion-factor"].good.items()} | {"row": "stator", "inlet_radius": 0.3}
     body = {"cases": [EXAMPLES["diffusion-factor"].good, alone, alone]}
     assert pointers(invalid(post(client, "diffusion-factor", body))) == ["/cases/1/outlet_radius",
                                                                           "/cases/2/outlet_radius"]
+
+
+def test_a_rotor_row_with_radii_needs_the_shaft_speed(client):
+    # Issue 19 item 1: a rotor's radius-change form needs the blade speed (the absolute angular momentum).
+    rotor = {k: v for k, v in EXAMPLES["diffusion-factor"].good.items()} | {"inlet_radius": 0.3,
+                                                                              "outlet_radius": 0.33}
+    assert pointers(invalid(post(client, "diffusion-factor", rotor))) == ["/shaft_speed"]
+    stator = rotor | {"row": "stator", "shaft_speed": 9000.0}
+    assert pointers(invalid(post(client, "diffusion-factor", stator))) == ["/shaft_speed"]
 
 
 def test_a_field_that_needs_another_is_named_where_that_one_is_missing(client):
