@@ -46,8 +46,11 @@ for the other laws ``V_x`` varies with radius and with station.
 
 Reaction at a radius is the static enthalpy definition, ``h = h0 - V^2/2`` at that radius:
 compressor ``(h2 - h1) / (h3 - h1)``, turbine ``(h2 - h3) / (h1 - h3)``, which is
-``1 - (V_theta,in + V_theta,out) / (2U)`` wherever the axial velocity is the same through the
-rotor ([1] eq. 6.16; [2] ch. 5).
+``1 - (V_theta,in + V_theta,out) / (2U)`` wherever the axial velocity is the same at the three
+stations ([1] eq. 6.16; [2] ch. 5), as for the free vortex.
+
+Everything broadcasts: a machine's stages may be passed as ``(cases, stages)`` arrays, and the
+failure masks come back in that shape.
 
 References
 ----------
