@@ -14,7 +14,7 @@ from service.api.common import (
     positive,
 )
 from service.api.fields import Quantity, QuantityPerStage
-from service.core import flowpath, gas, zweifel
+from service.core import flowpath, gas, machine_span, zweifel
 from service.core import machine as design
 
 
@@ -63,6 +63,28 @@ def _list(description: str, unit: str, integer: bool = False, null_entries: bool
     if null_entries:
         field.metadata["x-null-entries"] = True
     return field
+
+
+_SPAN_WORDS = {
+    "station_tangential_velocity": ("Absolute tangential velocity", "m s^-1"),
+    "station_alpha": ("Absolute flow angle from axial", "deg"),
+    "station_beta": ("Relative flow angle from axial (null where no rotor is next to the station)", "deg"),
+    "station_mach": ("Absolute Mach number", "-"),
+    "station_relative_mach": ("Relative Mach number (null where no rotor is next to the station)", "-"),
+    "station_axial_mach": ("Axial Mach number", "-"),
+    "station_static_temperature": ("Static temperature", "K"),
+    "row_de_haller": ("Outlet over inlet speed in the row's frame", "-"),
+    "row_diffusion_factor": ("Compressor: diffusion factor (NASA SP-36 radius-change form)", "-"),
+    "row_solidity": ("Solidity of the same chord and blade count, sigma_m r_m / r", "-"),
+}
+
+
+def _span_list(name: str, end: str):
+    words, unit = _SPAN_WORDS[name]
+    where = "at every station" if name.startswith("station_") else "of every row"
+    return _list(f"{words} {where} at the {end}: each station a free vortex about its mean radius "
+                 f"(r V_theta and V_x uniform along the span). [{unit}]", unit,
+                 null_entries=name in ("station_beta", "station_relative_mach"))
 
 
 _STATION = "at every station, 1 to 2n+1 in flow order"
@@ -144,6 +166,12 @@ MachineOutput = Schema.from_dict(
         "flowpath_x": _list("Flowpath outline: axial positions, each row's leading and trailing edge. [m]", "m"),
         "flowpath_hub_radius": _list("Flowpath outline: hub radius at each point of flowpath_x. [m]", "m"),
         "flowpath_tip_radius": _list("Flowpath outline: tip radius at each point of flowpath_x. [m]", "m"),
+        "stage_rotor_tip_relative_mach": _list("Relative Mach number at each rotor's inlet tip (free vortex). [-]",
+                                               "-"),
+        **{f"stage_reaction_{end}": _list(f"Enthalpy reaction of each stage along the {end} line (free vortex). [-]",
+                                          "-") for end in machine_span.SPAN_ENDS},
+        **{f"{name}_{end}": _span_list(name, end) for name in (*machine_span.STATION_OUTPUTS, *machine_span.ROW_OUTPUTS)
+           for end in machine_span.SPAN_ENDS},
     },
     name="MachineOutput",
 )

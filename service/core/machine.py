@@ -68,7 +68,7 @@ from __future__ import annotations
 
 import numpy as np
 
-from service.core import annulus, blade_rows, flowpath, gas, split, triangles, zweifel
+from service.core import annulus, blade_rows, flowpath, gas, machine_span, split, triangles, zweifel
 from service.core.cases import CaseResults, reason_for
 
 MAX_STAGES = split.MAX_STAGES
@@ -437,6 +437,10 @@ def _layout(machine, held, n, p, sp):
         zweifel_coefficient=p["zweifel_coefficient"] if machine == "turbine" else None,
         target_diffusion_factor=p["target_diffusion_factor"], solidity=p["solidity"], shaft_speed=p["shaft_speed"])
     failures += row_failures
+    rotor_frame = np.ones(s, dtype=bool)
+    rotor_frame[-1 if machine == "compressor" else 0] = False
+    span, span_failures = machine_span.spanwise(machine, stations, rows, n, p["shaft_speed"], cp, gamma, rotor_frame)
+    failures += span_failures
     layout = flowpath.axial_layout(rows["row_axial_chord"], p["axial_gap"])
     stations["station_axial_position"] = layout["station_position"]
     line = flowpath.outline(layout["leading_edge"], layout["trailing_edge"], ring["hub_radius"], ring["tip_radius"])
@@ -452,7 +456,7 @@ def _layout(machine, held, n, p, sp):
     overall = {"axial_length": layout["axial_length"]}
     outline = {"flowpath_x": line["x"], "flowpath_hub_radius": line["hub_radius"],
                "flowpath_tip_radius": line["tip_radius"]}
-    return {**overall, **stages, **stations, **rows, **outline}, failures
+    return {**overall, **stages, **stations, **rows, **outline, **span}, failures
 
 
 def _cases(values, per_stage, weights):
@@ -732,7 +736,8 @@ def evaluate_machine_design(
 
 #: Station outputs of the rotor frame: none at the station no rotor is next to.
 ROTOR_FRAME_OUTPUTS = ("station_blade_speed", "station_relative_tangential_velocity", "station_relative_velocity",
-                       "station_beta", "station_relative_mach")
+                       "station_beta", "station_relative_mach", "station_beta_hub", "station_beta_tip",
+                       "station_relative_mach_hub", "station_relative_mach_tip")
 
 
 def _without_rotor(machine, values):
@@ -764,4 +769,5 @@ def _checks(machine, values):
         checks["stage_pressure_ratio"] = split.compressor_stage_pressure_ratio_check(values["stage_pressure_ratio"])
     checks["stage_loading_coefficient"] = split.stage_loading_check(machine, values["stage_loading_coefficient"])
     checks.update(blade_rows.row_checks(machine, values))
+    checks.update(machine_span.span_checks(machine, values))
     return checks
