@@ -33,6 +33,9 @@ def flowpath_svg(payload: dict, body: dict) -> str:
     return _svg(flowpath_figure(payload, body))
 
 
+#: Outline colours of the rows whose hub or tip check warns or fails.
+_FLAG_COLOURS = {"warn": "#e69f00", "fail": "#000000"}
+
 #: Line styles of the hub and tip triangles drawn over the mean ones (when the answer has them).
 _SPAN_STYLES = (("hub", ":"), ("tip", "--"))
 
@@ -56,14 +59,20 @@ def flowpath_figure(payload: dict, body: dict):
     -------
     matplotlib.figure.Figure
         Axial position [m] against radius [m], equal scales; rotor rows red, stator
-        rows blue, each labelled with its name and blade count, ids ``row-1`` .. ``row-2n``.
+        rows blue, each labelled with its name and blade count, ids ``row-1`` .. ``row-2n``; a row
+        whose hub or tip check warns is outlined (id ``row-j-warn``), one that fails outlined and
+        hatched (``row-j-fail``), and labelled with the span ends flagged.
     """
     import matplotlib
     from matplotlib.figure import Figure
     from matplotlib.patches import Patch, Polygon
 
+    from service.core.machine_span import flagged_rows
+
     machine = payload["machine"]
     rotor_first = machine == "compressor"
+    flagged = flagged_rows(machine, {name: check["status"] for name, check in body.get("checks", {}).items()
+                                     if isinstance(check["status"], list)})
     with matplotlib.rc_context(_STYLE):
         figure = Figure(figsize=(9.0, 4.2), layout="constrained")
         axes = figure.add_subplot()
@@ -81,6 +90,14 @@ def flowpath_figure(payload: dict, body: dict):
             row = Polygon(corners, closed=True, facecolor=colour, edgecolor="black", linewidth=0.5, alpha=0.8)
             row.set_gid(f"row-{j + 1}")
             axes.add_patch(row)
+            if j in flagged:
+                status, ends = flagged[j]
+                mark = Polygon(corners, closed=True, fill=False, edgecolor=_FLAG_COLOURS[status], linewidth=2.0,
+                               hatch="///" if status == "fail" else None)
+                mark.set_gid(f"row-{j + 1}-{status}")
+                axes.add_patch(mark)
+                axes.text(0.5 * (le + te), max(tip[2 * j], tip[2 * j + 1]), f"{status}: {' '.join(ends)}",
+                          ha="center", va="bottom", fontsize=6, color=_FLAG_COLOURS[status])
             axes.text(0.5 * (le + te), 0.25 * (hub[2 * j] + tip[2 * j] + hub[2 * j + 1] + tip[2 * j + 1]),
                       f"{kind}{j // 2 + 1}\n{count}", ha="center", va="center", fontsize=7, color="white")
         axes.set_aspect("equal", adjustable="datalim")
@@ -90,7 +107,10 @@ def flowpath_figure(payload: dict, body: dict):
                        f"axial length {body['axial_length']:.3f} m (row labels: name and blade count)")
         axes.grid(True, linewidth=0.3)
         handles = [Patch(facecolor=ROTOR_COLOUR, label="rotor"), Patch(facecolor=STATOR_COLOUR, label="stator"),
-                   *axes.get_lines()]
+                   *axes.get_lines(),
+                   *(Patch(fill=False, edgecolor=_FLAG_COLOURS[status], linewidth=2.0,
+                           hatch="///" if status == "fail" else None, label=f"hub or tip check: {status}")
+                     for status in ("warn", "fail") if any(s == status for s, _ in flagged.values()))]
         axes.legend(handles=handles, loc="best", fontsize=8)
         return figure
 

@@ -193,6 +193,43 @@ def spanwise(machine, stations, rows, stage_count, shaft_speed, cp, gamma, rotor
     return values, failures
 
 
+#: The spanwise checks that judge one row (or one stage's rotor) each: (row kind, span end), so a
+#: drawing or a report can mark the row whose hub or tip a check flags (:func:`flagged_rows`).
+ROW_SPAN_CHECKS = {
+    "rotor_diffusion_factor_tip": ("rotor", "tip"), "stator_diffusion_factor_hub": ("stator", "hub"),
+    "rotor_de_haller_hub": ("rotor", "hub"), "stator_de_haller_hub": ("stator", "hub"),
+    "stage_reaction_hub": ("rotor", "hub"), "stage_rotor_tip_relative_mach": ("rotor", "tip"),
+}
+
+
+def flagged_rows(machine, statuses):
+    """The rows whose hub or tip a spanwise check flags, with the worst status and the span ends.
+
+    Parameters
+    ----------
+    machine : str
+        ``compressor`` (rows R1, S1, R2, ...) or ``turbine`` (S1, R1, S2, ...).
+    statuses : dict of str to sequence of str or None
+        Each check's status per rotor or stator (front to rear), as answered; checks not in
+        :data:`ROW_SPAN_CHECKS` are passed over.
+
+    Returns
+    -------
+    dict of int to (str, tuple of str)
+        Row index (from 0) to its worst status (``warn`` or ``fail``) and the span ends flagged.
+    """
+    flagged = {}
+    for name, (kind, end) in ROW_SPAN_CHECKS.items():
+        for i, status in enumerate(statuses.get(name) or ()):
+            if status not in ("warn", "fail"):
+                continue
+            row = 2 * i + (0 if (kind == "rotor") == (machine == "compressor") else 1)
+            worst, ends = flagged.get(row, ("warn", ()))
+            flagged[row] = ("fail" if "fail" in (worst, status) else "warn",
+                            ends if end in ends else (*ends, end))
+    return flagged
+
+
 def smallest_blade_height_check(blade_height) -> RuleCheck:
     """The shortest blade of a machine.
 
