@@ -200,8 +200,43 @@ def _trim():
 
 
 def post_worker_init(worker):
-    """Note the worker's resident size once the app is loaded, the base of post_request's checks."""
+    """Note the worker's resident size once the app is loaded, the base of post_request's checks,
+    and have gunicorn's own error answers written as problem documents."""
     worker.meanline_start_bytes = _resident_bytes()
+    _answer_server_errors_as_problems()
+
+
+def _server_problem(status, reason, detail):
+    """The bytes of a problem document answering a request that gunicorn refused itself."""
+    import json
+    import uuid
+
+    from service.api.access import SECURITY_HEADERS
+
+    identifier = str(uuid.uuid4())
+    body = json.dumps({"type": "about:blank", "title": reason, "status": status, "detail": detail,
+                       "request_id": identifier}).encode("utf-8")
+    headers = [f"HTTP/1.1 {status} {reason}", "Connection: close", "Content-Type: application/problem+json",
+               f"Content-Length: {len(body)}", "Cache-Control: no-store", f"X-Request-ID: {identifier}",
+               *(f"{name}: {value}" for name, value in SECURITY_HEADERS.items())]
+    return ("\r\n".join(headers) + "\r\n\r\n").encode("latin-1") + body
+
+
+def _answer_server_errors_as_problems():
+    """Replace gunicorn's HTML error page (``gunicorn.util.write_error``) in this worker.
+
+    Gunicorn answers a request it cannot parse itself, before the app sees it: a request line over
+    ``limit_request_line`` (414), too many or too long header fields (431), a malformed request
+    line, header or chunked framing (400), an unsupported transfer coding (501). Its workers write
+    that answer through ``gunicorn.util.write_error``, which has no setting, so this worker's copy
+    of it is replaced by one writing the same status as ``application/problem+json``.
+    """
+    from gunicorn import util
+
+    def write_error(sock, status_int, reason, mesg):
+        util.write_nonblock(sock, _server_problem(int(status_int), reason, mesg or reason))
+
+    util.write_error = write_error
 
 
 def post_request(worker, req, environ, resp):

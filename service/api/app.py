@@ -196,7 +196,20 @@ def read_json():
     if not (mimetype == "application/json" or mimetype.endswith("+json")):
         raise Problem(415, "Unsupported Media Type",
                       f"Send the body as application/json, not {mimetype or 'no Content-Type'}.")
-    body = _request_body()
+    encoding = request.headers.get("Content-Encoding", "").strip().lower()
+    if encoding not in ("", "identity"):
+        # Read as it is, a compressed body would fail as malformed JSON (or, decoded, outgrow the
+        # body limit that was checked on its compressed size): say what is wrong instead.
+        raise Problem(415, "Unsupported Media Type",
+                      f"The service does not decode Content-Encoding {encoding!r}: send the JSON uncompressed.")
+    try:
+        body = _request_body()
+    except _FRAMING_ERRORS as error:
+        # The server found the body's framing broken while the app read it (a chunk size that is
+        # not hexadecimal, a chunk without its CRLF, a body that ends early): the client's fault.
+        raise Problem(400, "Malformed request body",
+                      f"The body could not be read: {type(error).__name__}. Check its chunked framing.",
+                      MALFORMED) from None
     # Werkzeug refuses a declared length above the limit itself; a chunked body is cut at the
     # limit instead, so one that reaches it may have been longer.
     limit = current_app.config["MAX_BODY_BYTES"]
@@ -211,6 +224,13 @@ def read_json():
     except RecursionError:
         raise Problem(400, "Malformed JSON", "The body is nested too deeply.", MALFORMED) from None
 
+
+try:  # the server's errors for a body whose framing is broken, raised where the app reads it
+    from gunicorn.http.errors import NoMoreData, ParseException
+
+    _FRAMING_ERRORS: tuple = (ParseException, NoMoreData)
+except ImportError:  # another WSGI server
+    _FRAMING_ERRORS = ()
 
 #: A body declared at least this long is read into one buffer of its length, this many bytes at a time.
 LARGE_BODY_BYTES = 1 << 20
