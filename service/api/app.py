@@ -6,6 +6,7 @@ import json
 import logging
 import math
 import os
+from collections import Counter
 from collections.abc import Mapping
 
 import orjson
@@ -160,11 +161,13 @@ def _json(body) -> Response:
 
 
 def _reject_duplicate_keys(pairs):
-    names = [name for name, _ in pairs]
-    if len(set(names)) != len(names):
-        duplicates = sorted({name for name in names if names.count(name) > 1})
-        raise Problem(400, "Malformed JSON", f"Duplicate keys in one object: {', '.join(duplicates)}.", MALFORMED)
-    return dict(pairs)
+    result = dict(pairs)
+    if len(result) != len(pairs):
+        counts = Counter(name for name, _ in pairs)  # linear: one count per name, not a scan per name
+        duplicates = sorted(name for name, count in counts.items() if count > 1)
+        shown = ", ".join(duplicates[:20]) + (f" and {len(duplicates) - 20} more" if len(duplicates) > 20 else "")
+        raise Problem(400, "Malformed JSON", f"Duplicate keys in one object: {shown}.", MALFORMED)
+    return result
 
 
 def _parse_int(text: str):

@@ -21,7 +21,7 @@ import orjson
 from marshmallow import Schema, ValidationError, missing
 
 from service.api.fields import CaseSchema, Option, Quantity, QuantityList
-from service.api.problems import MAX_LISTED_ERRORS, PHYSICALLY_IMPOSSIBLE, Problem, invalid_input
+from service.api.problems import MAX_LISTED_ERRORS, PHYSICALLY_IMPOSSIBLE, Problem, invalid_input, unlisted
 from service.api.rowstext import RowsText
 from service.core.cases import CaseResults, reason_texts
 from service.core.checks import STATUSES
@@ -357,15 +357,29 @@ def _load_valid(plan, raw: dict):
     return loaded
 
 
-def _load(schema: CaseSchema, raw: dict, pointer, plan=None):
+def _load(schema: CaseSchema, raw: dict, pointer, plan=None, listed: int = MAX_LISTED_ERRORS):
     """Loaded fields and errors; where loading fails, the valid option values still come back so
-    that the input mode can be judged too and every offending field is named at once."""
+    that the input mode can be judged too and every offending field is named at once. Unknown
+    fields beyond the first ``listed`` are counted, not named."""
     if plan is not None:
         loaded = _load_valid(plan, raw)
         if loaded is not None:
             return loaded, []
+    unknown_errors = []
+    if not schema.load_fields.keys() >= raw.keys():
+        # Unknown fields are reported here rather than by marshmallow, which builds a message for
+        # each through several layers (thousands of them took seconds); past MAX_LISTED_ERRORS they
+        # are only counted, so that refusing them costs one pass over the keys.
+        unknown = [name for name in raw if name not in schema.load_fields]
+        raw = {name: value for name, value in raw.items() if name in schema.load_fields}
+        for name in unknown[:listed]:
+            pointers = pointer(name if name != "" else _EMPTY_NAME, ())
+            pointers = [pointers] if isinstance(pointers, str) else pointers
+            unknown_errors += [(one, "Unknown field.") for one in pointers]
+        if len(unknown) > listed:
+            unknown_errors.append(unlisted((len(unknown) - listed) * _pointer_count(pointer)))
     try:
-        return schema.load(raw), []
+        loaded = schema.load(raw)
     except ValidationError as error:
         options = {}
         for name, f in schema.fields.items():
@@ -373,7 +387,17 @@ def _load(schema: CaseSchema, raw: dict, pointer, plan=None):
                 value = raw.get(name, f.load_default)
                 if isinstance(value, str) or (isinstance(value, list) and all(isinstance(v, str) for v in value)):
                     options[name] = value if isinstance(value, str) else np.asarray(value, dtype=str)
-        return options, list(_flatten(error.messages, pointer))
+        return options, list(_flatten(error.messages, pointer)) + unknown_errors
+    if unknown_errors:
+        options = {name: loaded[name] for name in loaded if isinstance(schema.fields.get(name), Option)}
+        return options, unknown_errors
+    return loaded, []
+
+
+def _pointer_count(pointer) -> int:
+    """How many cases a message about a whole field concerns (rows: every row of a block)."""
+    pointers = pointer("", ())
+    return 1 if isinstance(pointers, str) else len(pointers)
 
 
 class _EmptyName:
@@ -410,8 +434,7 @@ def _single_group(calculation: Calculation, payload: dict):
 
 
 def _columns_groups(calculation: Calculation, payload: dict, max_cases: int):
-    extra = [(_join("", key), "Unknown field: give one of 'cases' or 'columns'.")
-             for key in payload if key != "columns"]
+    extra = _unknown_top_level(payload, "columns")
     columns = payload["columns"]
     if not isinstance(columns, dict):
         raise invalid_input([("/columns", "Must be an object of field names to values or lists of values.")])
@@ -448,7 +471,7 @@ def _column_length(calculation: Calculation, name: str, value) -> int | None:
 
 
 def _rows_groups(calculation: Calculation, payload: dict, max_cases: int):
-    extra = [(_join("", key), "Unknown field: give one of 'cases' or 'columns'.") for key in payload if key != "cases"]
+    extra = _unknown_top_level(payload, "cases")
     cases = payload["cases"]
     if not isinstance(cases, list):
         raise invalid_input([("/cases", "Must be a list of case objects.")])
@@ -477,7 +500,9 @@ def _rows_groups(calculation: Calculation, payload: dict, max_cases: int):
             return [_join(f"/cases/{rows[p]}", f) for p in positions[: MAX_LISTED_ERRORS + 1]]
 
         schema = calculation._columns_schema
-        data, group_errors = _load(schema, raw, pointer, calculation._plans[id(schema)])
+        # Once a response's worth of errors is named, further unknown fields are only counted.
+        data, group_errors = _load(schema, raw, pointer, calculation._plans[id(schema)],
+                                   max(MAX_LISTED_ERRORS - len(errors), 0))
         errors.extend(group_errors)
         groups.append(_Group(data, frozenset(names), index, pointer, case_pointers))
     return groups, len(cases), errors
@@ -528,7 +553,8 @@ def _uniform_columns(cases: list[dict]) -> dict[str, list] | None:
     if not width or list(chain.from_iterable(cases)) != order * len(cases):
         return None
     values = list(chain.from_iterable(map(dict.values, cases)))
-    return {name: values[order.index(name)::width] for name in sorted(order)}
+    position = {name: i for i, name in enumerate(order)}
+    return {name: values[position[name]::width] for name in sorted(order)}
 
 
 def _holds_lists(column: list) -> bool:
@@ -564,6 +590,18 @@ def _blocks_by_names(cases: list[dict]) -> list[tuple[list[int], dict[str, list]
         block = cases if len(rows) == len(cases) else [cases[i] for i in rows]
         blocks.append((rows, {name: list(map(itemgetter(name), block)) for name in names}))
     return blocks
+
+
+def _unknown_top_level(payload: dict, shape: str) -> list:
+    """Errors for the keys of a batch body beside ``shape``: the first ones named, the rest counted."""
+    if len(payload) == 1:
+        return []
+    unknown = [key for key in payload if key != shape]
+    errors = [(_join("", key), "Unknown field: give one of 'cases' or 'columns'.")
+              for key in unknown[:MAX_LISTED_ERRORS]]
+    if len(unknown) > MAX_LISTED_ERRORS:
+        errors.append(unlisted(len(unknown) - MAX_LISTED_ERRORS))
+    return errors
 
 
 def _too_many(size: int, max_cases: int) -> Problem:

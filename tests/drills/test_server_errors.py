@@ -19,6 +19,7 @@ import sys
 import pytest
 
 from service.api.problems import MALFORMED
+from tests.drills.keys import describe, key_count_drill
 from tests.drills.server import Server
 
 pytestmark = pytest.mark.skipif(not sys.platform.startswith("linux"), reason="reads /proc")
@@ -84,3 +85,15 @@ def test_hostile_framing_and_server_errors_are_problem_documents(report_figure):
     assert json.loads(answers["malformed chunk size"][2])["type"] == MALFORMED
     report_figure("server errors on gunicorn",
                   ", ".join(f"{name}: {status}" for name, (status, _, _) in answers.items()) + " (all problem+json)")
+
+
+def test_a_body_of_forty_thousand_keys_is_refused_and_the_worker_answers_on(report_figure):
+    # The time is printed, not asserted (tests never assert on wall time); the long version is
+    # python -m tests.drills.keys.
+    with Server(workers=1) as server:
+        figures = key_count_drill(server, 40_000, shapes=("row", "object"), repeat=1)
+        assert server.post("/v1/triangles", json.loads(CASE))[0] == 200
+    for figure in figures:
+        assert figure["status"] == 422, figure
+        assert figure["errors"] == 40_000, figure
+        report_figure("key-count drill (short)", describe(figure))
