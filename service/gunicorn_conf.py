@@ -265,11 +265,17 @@ def _prometheus_dir():
 
 
 def on_starting(server):
-    """Start with an empty metrics directory, so counters of a previous run are not summed in.
+    """Read the API keys in the master; start with an empty metrics directory.
+
+    The keys (``MEANLINE_API_KEYS``, ``MEANLINE_API_KEYS_FILE``) are read here once, and every
+    worker forked from the master inherits them, so all workers agree, also one that replaces a
+    dead worker after the file changed. A key source that is set but unreadable or empty stops the
+    server (it must not run open by mistake). ``on_reload`` (SIGHUP) reads them again.
 
     Only prometheus_client's ``*.db`` files are removed, never anything else that a
-    misconfigured path might point at.
+    misconfigured path might point at, so counters of a previous run are not summed in.
     """
+    _read_api_keys(server)
     directory = _prometheus_dir()
     if directory is None:
         return
@@ -287,3 +293,26 @@ def child_exit(server, worker):
     except ImportError:
         return
     multiprocess.mark_process_dead(worker.pid)
+
+
+# --- API keys --------------------------------------------------------------------------------
+def _read_api_keys(server):
+    from service.api import keys
+
+    try:
+        count = keys.read_for_server()
+    except ValueError as error:
+        server.log.error("API keys: %s; the server does not start", error)
+        raise SystemExit(1) from None
+    server.log.info("API keys read by the master: %d key(s) configured", count)
+
+
+def on_reload(server):
+    """SIGHUP: read the API keys again before the new workers start (the old ones then stop).
+
+    A key source that has turned unreadable or empty keeps the keys read before, and the master
+    logs an error, so a bad file never leaves the service without keys or open.
+    """
+    from service.api import keys
+
+    keys.reload_for_server(logger=server.log)

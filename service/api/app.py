@@ -82,7 +82,7 @@ def create_app(config: Mapping | None = None) -> Flask:
     # metrics (which so see every answer), then the security headers.
     app.wsgi_app = _answer_when_stopped(app.wsgi_app)
     observability.init_app(app)  # before access: its logging is set up for access's start-up notes
-    access.init_app(app)
+    access.init_app(app, configured=bool({"API_KEYS", "API_KEYS_FILE"} & set(config or {})))
 
     spec_bytes = orjson.dumps(build_spec(list(CALCULATIONS), __version__))
     blueprint = Blueprint("calculations", __name__)

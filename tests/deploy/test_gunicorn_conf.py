@@ -6,6 +6,7 @@ validators (gunicorn.config.Config), which is the program that consumes them.
 """
 
 import importlib
+import logging
 import os
 import pathlib
 import runpy
@@ -208,6 +209,7 @@ def test_available_cpus_honours_the_cgroup_quota(monkeypatch, tmp_path, files, a
 
 
 def test_on_starting_removes_only_stale_metric_files(monkeypatch, tmp_path):
+    monkeypatch.setattr(conf_module, "_read_api_keys", lambda server: None)  # tested below
     directory = tmp_path / "prometheus"
     directory.mkdir()
     (directory / "counter_1234.db").write_bytes(b"stale")
@@ -217,7 +219,40 @@ def test_on_starting_removes_only_stale_metric_files(monkeypatch, tmp_path):
     assert sorted(path.name for path in directory.iterdir()) == ["notes.txt"]
 
 
+class _FakeServer:
+    """What the hooks use of gunicorn's arbiter: its logger."""
+
+    def __init__(self):
+        self.log = logging.getLogger("test.arbiter")
+
+
+def test_the_master_reads_the_api_keys_at_start_and_on_reload(monkeypatch, tmp_path, caplog):
+    from service.api import keys
+
+    monkeypatch.setattr(keys, "_server_digests", None)
+    monkeypatch.delenv("PROMETHEUS_MULTIPROC_DIR", raising=False)
+    monkeypatch.delenv("MEANLINE_API_KEYS", raising=False)
+    path = tmp_path / "api-keys"
+    path.write_text("first-key-0123456789\n")
+    monkeypatch.setenv("MEANLINE_API_KEYS_FILE", str(path))
+    conf_module.on_starting(_FakeServer())
+    first = keys.server_digests()
+    assert len(first) == 1
+    path.write_text("second-key-0123456789\nthird-key-0123456789\n")
+    conf_module.on_reload(_FakeServer())
+    assert len(keys.server_digests()) == 2
+    path.write_text("")
+    with caplog.at_level(logging.ERROR):
+        conf_module.on_reload(_FakeServer())
+    assert len(keys.server_digests()) == 2 and "API KEYS NOT RELOADED" in caplog.text
+    # At start, a bad key source stops the server rather than leave it open.
+    monkeypatch.setattr(keys, "_server_digests", None)
+    with pytest.raises(SystemExit):
+        conf_module.on_starting(_FakeServer())
+
+
 def test_on_starting_creates_the_directory(monkeypatch, tmp_path):
+    monkeypatch.setattr(conf_module, "_read_api_keys", lambda server: None)  # tested below
     directory = tmp_path / "missing" / "prometheus"
     monkeypatch.setenv("PROMETHEUS_MULTIPROC_DIR", str(directory))
     conf_module.on_starting(server=None)
