@@ -276,6 +276,7 @@ def on_starting(server):
     misconfigured path might point at, so counters of a previous run are not summed in.
     """
     _read_api_keys(server)
+    _derive_max_memory(server)
     directory = _prometheus_dir()
     if directory is None:
         return
@@ -316,3 +317,21 @@ def on_reload(server):
     from service.api import keys
 
     keys.reload_for_server(logger=server.log)
+
+
+# --- Memory per request ----------------------------------------------------------------------
+def _derive_max_memory(server):
+    """Without MEANLINE_MAX_MEMORY, a request's memory bound from the container's memory limit:
+    the limit less every worker's base memory, shared by the workers (service/api/memory.py).
+    Set in the master's environment, which the workers inherit."""
+    if os.environ.get("MEANLINE_MAX_MEMORY", "").strip():
+        return
+    from service.api import memory
+
+    limit = memory.container_limit()
+    if limit is None:
+        return  # the app's default applies
+    count = getattr(getattr(server, "cfg", None), "workers", None) or workers
+    os.environ["MEANLINE_MAX_MEMORY"] = str(memory.default_max_memory(count, limit))
+    server.log.info("MEANLINE_MAX_MEMORY derived from the container's limit of %d MiB and %d workers: %d MiB "
+                    "per request", limit >> 20, count, int(os.environ["MEANLINE_MAX_MEMORY"]) >> 20)

@@ -14,7 +14,7 @@ from flask import Blueprint, Flask, Response, current_app, request
 from werkzeug.exceptions import RequestEntityTooLarge
 
 from service import __version__
-from service.api import access, jsonparse, jsonwrite, observability
+from service.api import access, jsonparse, jsonwrite, memory, observability
 from service.api.calculation import Calculation, run_calculation, run_drawing
 from service.api.problems import (
     MALFORMED,
@@ -33,6 +33,7 @@ log = logging.getLogger(__name__)
 DEFAULTS = {
     "MAX_BODY_BYTES": 16 * 1024 * 1024,
     "MAX_CASES": 1_000_000,
+    "MAX_MEMORY": memory.DEFAULT_MAX_MEMORY,
     "API_KEYS": None,
     "API_KEYS_FILE": None,
 }
@@ -40,6 +41,7 @@ DEFAULTS = {
 ENVIRONMENT = {
     "MAX_BODY_BYTES": int,
     "MAX_CASES": int,
+    "MAX_MEMORY": int,
     "API_KEYS": str,
     "API_KEYS_FILE": str,
 }
@@ -67,8 +69,9 @@ def create_app(config: Mapping | None = None) -> Flask:
     config : mapping, optional
         Settings that override the defaults and the ``MEANLINE_*`` environment variables:
         ``MAX_BODY_BYTES`` (request body limit, 413 above it), ``MAX_CASES`` (cases per
-        request, 413 above it), ``LOG_LEVEL`` (else ``MEANLINE_LOG_LEVEL``; see
-        :mod:`service.api.observability`), ``API_KEYS`` and ``API_KEYS_FILE`` (see
+        request, 413 above it), ``MAX_MEMORY`` (memory one request may take [bytes], 413 for a
+        batch whose cases would take more; see :mod:`service.api.memory`), ``LOG_LEVEL`` (else
+        ``MEANLINE_LOG_LEVEL``; see :mod:`service.api.observability`), ``API_KEYS`` and ``API_KEYS_FILE`` (see
         :mod:`service.api.access`).
     """
     app = Flask(__name__)
@@ -136,7 +139,8 @@ def _calculation_view(calculation: Calculation):
             svg = run_drawing(calculation, read_json(), current_app.config["MAX_CASES"])
             observability.record_cases(1, {})
             return Response(svg, mimetype=SVG)
-        body, size = run_calculation(calculation, read_json(), current_app.config["MAX_CASES"], stream=True)
+        body, size = run_calculation(calculation, read_json(), current_app.config["MAX_CASES"], stream=True,
+                                     max_memory=current_app.config["MAX_MEMORY"])
         observability.record_cases(size, body)
         return _json(body)
 

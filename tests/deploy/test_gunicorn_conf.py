@@ -210,6 +210,7 @@ def test_available_cpus_honours_the_cgroup_quota(monkeypatch, tmp_path, files, a
 
 def test_on_starting_removes_only_stale_metric_files(monkeypatch, tmp_path):
     monkeypatch.setattr(conf_module, "_read_api_keys", lambda server: None)  # tested below
+    monkeypatch.setattr(conf_module, "_derive_max_memory", lambda server: None)
     directory = tmp_path / "prometheus"
     directory.mkdir()
     (directory / "counter_1234.db").write_bytes(b"stale")
@@ -230,6 +231,7 @@ def test_the_master_reads_the_api_keys_at_start_and_on_reload(monkeypatch, tmp_p
     from service.api import keys
 
     monkeypatch.setattr(keys, "_server_digests", None)
+    monkeypatch.setattr(conf_module, "_derive_max_memory", lambda server: None)
     monkeypatch.delenv("PROMETHEUS_MULTIPROC_DIR", raising=False)
     monkeypatch.delenv("MEANLINE_API_KEYS", raising=False)
     path = tmp_path / "api-keys"
@@ -253,6 +255,7 @@ def test_the_master_reads_the_api_keys_at_start_and_on_reload(monkeypatch, tmp_p
 
 def test_on_starting_creates_the_directory(monkeypatch, tmp_path):
     monkeypatch.setattr(conf_module, "_read_api_keys", lambda server: None)  # tested below
+    monkeypatch.setattr(conf_module, "_derive_max_memory", lambda server: None)
     directory = tmp_path / "missing" / "prometheus"
     monkeypatch.setenv("PROMETHEUS_MULTIPROC_DIR", str(directory))
     conf_module.on_starting(server=None)
