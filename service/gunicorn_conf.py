@@ -18,6 +18,8 @@ from pathlib import Path
 DEFAULT_HOST = "127.0.0.1"
 DEFAULT_PORT = 8080
 DEFAULT_TIMEOUT = 30
+DEFAULT_RECEIVE_TIMEOUT = 10
+DEFAULT_SEND_TIMEOUT = 30
 MIN_DEFAULT_WORKERS = 2
 LOG_LEVELS = ("debug", "info", "warning", "error", "critical")
 ENVIRONMENT_VARIABLES = (
@@ -27,6 +29,8 @@ ENVIRONMENT_VARIABLES = (
     "MEANLINE_TIMEOUT",
     "MEANLINE_GRACEFUL_TIMEOUT",
     "MEANLINE_LOG_LEVEL",
+    "MEANLINE_RECEIVE_TIMEOUT",
+    "MEANLINE_SEND_TIMEOUT",
     "PROMETHEUS_MULTIPROC_DIR",
 )
 
@@ -116,9 +120,13 @@ wsgi_app = "service:create_app()"
 # numpy for no gain. gthread workers would run a worker's requests on one core in turn behind
 # the GIL, adding queueing and memory without adding throughput. One single-threaded process per
 # core is the configuration that uses the CPUs fully and keeps a runaway request isolated: the
-# master kills that one worker after `timeout` and the others carry on. Sync workers are held by
-# slow clients, so in production they sit behind a buffering proxy (ingress, load balancer).
-worker_class = "sync"
+# master kills that one worker after `timeout` and the others carry on. gunicorn's own sync worker
+# waits on a slow client without limit and without a heartbeat (so the master killed it as stuck,
+# also in the middle of an answer); the service's sync worker (service/worker.py) bounds the time it
+# waits for a request (RECEIVE_TIMEOUT) and for the client to take an answer (SEND_TIMEOUT), and
+# keeps its heartbeat while it waits. Many slow clients at once can still hold every worker for
+# that long, so in front of untrusted clients a buffering proxy (ingress, load balancer) remains.
+worker_class = "service.worker.PacedSyncWorker"
 # One worker per usable CPU, but at least two, so a long batch in one worker does not leave the
 # health probes and short requests waiting.
 workers = _env_int("MEANLINE_WORKERS", max(MIN_DEFAULT_WORKERS, available_cpus()), minimum=1, maximum=256)
@@ -130,6 +138,11 @@ timeout = _env_int("MEANLINE_TIMEOUT", DEFAULT_TIMEOUT, minimum=1, maximum=3600)
 # longest request may take, so a rolling update drops none. Kubernetes' grace period must exceed
 # it (deploy/kubernetes/deployment.yaml).
 graceful_timeout = _env_int("MEANLINE_GRACEFUL_TIMEOUT", timeout, minimum=1, maximum=3600)
+# The most time [s] a worker waits, in total, for a request's bytes (408 past it), and for the
+# client to take an answer (the connection is closed past it). Not gunicorn settings: read by
+# service.worker.PacedSyncWorker.
+RECEIVE_TIMEOUT = _env_int("MEANLINE_RECEIVE_TIMEOUT", DEFAULT_RECEIVE_TIMEOUT, minimum=1, maximum=3600)
+SEND_TIMEOUT = _env_int("MEANLINE_SEND_TIMEOUT", DEFAULT_SEND_TIMEOUT, minimum=1, maximum=3600)
 # Sync workers close the connection after each response and ignore this; it takes effect only if
 # the worker class is ever changed. Two seconds is gunicorn's default.
 keepalive = 2

@@ -211,6 +211,9 @@ def read_json():
                       f"The service does not decode Content-Encoding {encoding!r}: send the JSON uncompressed.")
     try:
         body = _request_body()
+    except ReceiveTimeout:
+        raise Problem(408, "Request Timeout", "The body did not arrive within the receive timeout "
+                      "(MEANLINE_RECEIVE_TIMEOUT). Send it faster, or through a buffering proxy.") from None
     except _FRAMING_ERRORS as error:
         # The server found the body's framing broken while the app read it (a chunk size that is
         # not hexadecimal, a chunk without its CRLF, a body that ends early): the client's fault.
@@ -238,6 +241,10 @@ try:  # the server's errors for a body whose framing is broken, raised where the
     _FRAMING_ERRORS: tuple = (ParseException, NoMoreData)
 except ImportError:  # another WSGI server
     _FRAMING_ERRORS = ()
+try:  # the service's worker: a body that does not arrive within MEANLINE_RECEIVE_TIMEOUT
+    from service.worker import ReceiveTimeout
+except ImportError:
+    ReceiveTimeout = ()
 
 #: A body declared at least this long is read into one buffer of its length, this many bytes at a time.
 LARGE_BODY_BYTES = 1 << 20

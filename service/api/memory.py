@@ -28,7 +28,7 @@ BYTES_PER_CASE = {
     "zweifel": {"rows": 900, "columns": 200},
     "diffusion-factor": {"rows": 900, "columns": 260},
     "stage-split": {"rows": 1_700, "columns": 1_700},
-    "machine-design": {"rows": 8_000, "columns": 8_000},
+    "machine-design": {"rows": 14_000, "columns": 14_000},
 }
 #: Growth that does not depend on the case count [bytes]: the machine design's first chunk of
 #: cases (its intermediate arrays, and the solver's and allocator's working memory) measured

@@ -70,7 +70,7 @@ def test_defaults(load_conf):
     assert conf.bind == "127.0.0.1:8080"
     assert conf.DEFAULT_PORT == 8080
     assert conf.workers == 6  # one per usable CPU
-    assert conf.worker_class == "sync"
+    assert conf.worker_class == "service.worker.PacedSyncWorker"  # sync, with bounded waits on clients
     assert conf.threads == 1
     assert conf.timeout == 30
     assert conf.graceful_timeout == 30  # follows the request time limit
@@ -172,7 +172,7 @@ def test_gunicorn_accepts_every_setting(load_conf):
     assert required <= taken.keys()
     assert config.address == [("0.0.0.0", 8080)]
     assert config.workers == 3
-    assert config.worker_class_str == "sync"
+    assert config.worker_class_str == "service.worker.PacedSyncWorker"
     # gunicorn's own bounds: 0 < limit_request_line <= 8190, limit_request_fields <= 32768
     assert 0 < config.limit_request_line <= 8190
     assert 0 < config.limit_request_fields <= 32768
@@ -353,4 +353,4 @@ def test_gunicorn_starts_with_the_deploy_file(tmp_path):
         server.send_signal(signal.SIGTERM)
         output = server.communicate(timeout=30)[0].decode()
     assert server.returncode == 0, output
-    assert "Using worker: sync" in output
+    assert "Using worker: service.worker.PacedSyncWorker" in output
