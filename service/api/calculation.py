@@ -426,12 +426,13 @@ def _load(schema: CaseSchema, raw: dict, pointer, plan=None, listed: int = MAX_L
         if loaded is not None:
             return loaded, []
     unknown_errors = []
-    if not schema.load_fields.keys() >= raw.keys():
+    known = {f.data_key or name for name, f in schema.load_fields.items()}
+    if not known >= raw.keys():
         # Unknown fields are reported here rather than by marshmallow, which builds a message for
-        # each through several layers (thousands of them took seconds); past MAX_LISTED_ERRORS they
-        # are only counted, so that refusing them costs one pass over the keys.
-        unknown = [name for name in raw if name not in schema.load_fields]
-        raw = {name: value for name, value in raw.items() if name in schema.load_fields}
+        # each through several layers (thousands of them took seconds); past ``listed`` they are
+        # only counted, so that refusing them costs one pass over the keys.
+        unknown = [name for name in raw if name not in known]
+        raw = {name: value for name, value in raw.items() if name in known}
         for name in unknown[:listed]:
             pointers = pointer(name if name != "" else _EMPTY_NAME, ())
             pointers = [pointers] if isinstance(pointers, str) else pointers
