@@ -549,7 +549,7 @@ def _rows_groups(calculation: Calculation, payload: dict, max_cases: int, max_me
         raise invalid_input(extra)
 
     groups, errors = [], []
-    for rows, raw in _row_blocks(cases):
+    for rows, raw in _row_blocks(cases, calculation._columns_schema.load_fields):
         names = list(raw)
         index = np.arange(rows.start, rows.stop, rows.step) if isinstance(rows, range) else np.asarray(rows)
 
@@ -571,7 +571,7 @@ def _rows_groups(calculation: Calculation, payload: dict, max_cases: int, max_me
     return groups, len(cases), errors
 
 
-def _row_blocks(cases: list[dict]) -> list[tuple[Sequence[int], dict[str, list]]]:
+def _row_blocks(cases: list[dict], known=None) -> list[tuple[Sequence[int], dict[str, list]]]:
     """The rows as blocks of columns: rows that name the same fields (and give lists of the same
     lengths) form one block, as ``(positions, {field: values})`` with the fields sorted by name.
 
@@ -585,10 +585,12 @@ def _row_blocks(cases: list[dict]) -> list[tuple[Sequence[int], dict[str, list]]
         blocks = [(range(len(cases)), uniform)]
     else:
         blocks = _blocks_by_names(cases)
-    # A field given as lists splits a block by list length (one case's stages each).
+    # A field given as lists splits a block by list length (one case's stages each); an unknown
+    # field (``known``: the schema's) is refused whatever it holds, so it is not looked at.
     split = []
     for rows, columns in blocks:
-        listed = [name for name, column in columns.items() if _holds_lists(column)]
+        listed = [name for name, column in columns.items()
+                  if (known is None or name in known) and _holds_lists(column)]
         if not listed:
             split.append((rows, columns))
             continue
