@@ -131,8 +131,9 @@ worker_class = "service.worker.PacedSyncWorker"
 # health probes and short requests waiting.
 workers = _env_int("MEANLINE_WORKERS", max(MIN_DEFAULT_WORKERS, available_cpus()), minimum=1, maximum=256)
 threads = 1
-# A sync worker is busy for the whole request, so this is the per-request time limit: a worker
-# that has not answered within it is killed and replaced.
+# The per-request time limit: a worker that has not told the master it is alive within it is
+# stopped (the request answered 503) and replaced. The service's worker keeps telling it while it
+# waits on a client, so this limits the time a request computes without sending.
 timeout = _env_int("MEANLINE_TIMEOUT", DEFAULT_TIMEOUT, minimum=1, maximum=3600)
 # On SIGTERM, workers get this long to finish the request in hand; by default as long as the
 # longest request may take, so a rolling update drops none. Kubernetes' grace period must exceed
