@@ -4,13 +4,12 @@ from __future__ import annotations
 
 from marshmallow import Schema
 
-from service.api.calculation import Calculation, Mode
+from service.api.calculation import Calculation, Mode, combine_modes
 from service.api.common import angle, integer_output, output, positive
 from service.api.fields import CaseSchema, Option, Quantity
 from service.core import diffusion
 
-ROW_FLOW = ("axial_velocity", "inlet_angle", "outlet_angle", "outlet_axial_velocity", "inlet_radius",
-            "outlet_radius", "span_position")
+ROW_FLOW = ("axial_velocity", "inlet_angle", "outlet_angle", "outlet_axial_velocity", "span_position")
 
 
 class DiffusionInput(CaseSchema):
@@ -28,6 +27,9 @@ class DiffusionInput(CaseSchema):
     inlet_radius = positive("Mean radius at the row inlet, for a row whose radius changes (NASA SP-36 form). [m]",
                             "m")
     outlet_radius = positive("Mean radius at the row outlet (with inlet_radius). [m]", "m")
+    shaft_speed = positive("Rotor row given inlet_radius and outlet_radius: the shaft speed, so that the tangential "
+                           "term is the change of absolute angular momentum r2 Vtheta2 - r1 Vtheta1 = r2 Wtheta2 - "
+                           "r1 Wtheta1 + Omega (r2^2 - r1^2). [rev min^-1]", "rev min^-1")
     solidity = positive("Solidity: true chord over pitch. [-]", "-")
     chord = positive("True (not axial) chord of the blades. [m]", "m")
     pitch = positive("Blade pitch at the mean radius. [m]", "m")
@@ -57,6 +59,23 @@ DiffusionOutput = Schema.from_dict(
 )
 
 
+SOLIDITY = (
+    Mode("Solidity", "solidity", required=("solidity",)),
+    Mode("ChordPitch", "chord and pitch", required=("chord", "pitch")),
+    Mode("ChordCount", "chord, blade_count and mean_radius", required=("chord", "blade_count", "mean_radius")),
+    Mode("Sizing", "target_diffusion_factor", required=("target_diffusion_factor",)),
+    Mode("SizingCount", "target_diffusion_factor, chord and mean_radius",
+         required=("target_diffusion_factor", "chord", "mean_radius")),
+)
+RADIUS = (
+    Mode("ConstantRadius", "a constant radius (no inlet_radius, outlet_radius)", required=()),
+    Mode("StatorRadiusChange", "inlet_radius and outlet_radius (stator)", required=("inlet_radius", "outlet_radius"),
+         when={"row": ("stator",)}),
+    Mode("RotorRadiusChange", "inlet_radius, outlet_radius and shaft_speed (rotor)",
+         required=("inlet_radius", "outlet_radius", "shaft_speed"), when={"row": ("rotor",)}),
+)
+
+
 def _compute(mode: Mode, options: dict, inputs: dict):
     flow = {name: inputs.get(name) for name in ROW_FLOW}
     given = {name: inputs[name] for name in (*mode.required, *mode.optional) if name in inputs}
@@ -71,21 +90,15 @@ CALCULATION = Calculation(
     description=(
         "Lieblein's diffusion factor DF = 1 - V2/V1 + |dVtheta| / (2 sigma V1) with velocities in the row's own "
         "frame (relative for a rotor, absolute for a stator) and solidity sigma = true chord / pitch; with inlet "
-        "and outlet radii the tangential term is |r2 Vtheta2 - r1 Vtheta1| / ((r1 + r2) sigma V1) (NASA SP-36). "
+        "and outlet radii the tangential term is |r2 Vtheta2 - r1 Vtheta1| / ((r1 + r2) sigma V1) (NASA SP-36), with "
+        "the absolute swirl Vtheta: the change of angular momentum is the torque, so a rotor row with radii needs "
+        "shaft_speed to turn its relative swirl into the absolute one. "
         "Analysis of a row of given solidity (or chord and pitch, or chord, blade count and mean radius), or "
         "sizing: the solidity for a target diffusion factor and, with chord and mean radius, the blade count "
         "rounded up. A target at or below 1 - V2/V1 cannot be reached by any solidity."
     ),
     schema=DiffusionInput,
     outputs=DiffusionOutput,
-    modes=(
-        Mode("Solidity", "solidity", required=("solidity",)),
-        Mode("ChordPitch", "chord and pitch", required=("chord", "pitch")),
-        Mode("ChordCount", "chord, blade_count and mean_radius", required=("chord", "blade_count", "mean_radius")),
-        Mode("Sizing", "target_diffusion_factor", required=("target_diffusion_factor",)),
-        Mode("SizingCount", "target_diffusion_factor, chord and mean_radius",
-             required=("target_diffusion_factor", "chord", "mean_radius")),
-    ),
+    modes=combine_modes(SOLIDITY, RADIUS),
     compute=_compute,
-    together=(("inlet_radius", "outlet_radius"),),
 )

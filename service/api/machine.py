@@ -14,7 +14,7 @@ from service.api.common import (
     positive,
 )
 from service.api.fields import Quantity, QuantityPerStage
-from service.core import flowpath, gas, zweifel
+from service.core import flowpath, gas, machine_span, zweifel
 from service.core import machine as design
 
 
@@ -56,10 +56,35 @@ class MachineInput(StageSplitInputs):
         minimum=0.0, maximum=1.0, load_default=design.DEFAULT_ROTOR_LOSS_FRACTION)
 
 
-def _list(description: str, unit: str, integer: bool = False):
+def _list(description: str, unit: str, integer: bool = False, null_entries: bool = False):
+    """A per-stage, per-station or per-row list; ``null_entries`` where some entries may not apply."""
     field = integer_output(description) if integer else output(description, unit)
     field.metadata["x-per-stage"] = True
+    if null_entries:
+        field.metadata["x-null-entries"] = True
     return field
+
+
+_SPAN_WORDS = {
+    "station_tangential_velocity": ("Absolute tangential velocity", "m s^-1"),
+    "station_alpha": ("Absolute flow angle from axial", "deg"),
+    "station_beta": ("Relative flow angle from axial (null where no rotor is next to the station)", "deg"),
+    "station_mach": ("Absolute Mach number", "-"),
+    "station_relative_mach": ("Relative Mach number (null where no rotor is next to the station)", "-"),
+    "station_axial_mach": ("Axial Mach number", "-"),
+    "station_static_temperature": ("Static temperature", "K"),
+    "row_de_haller": ("Outlet over inlet speed in the row's frame", "-"),
+    "row_diffusion_factor": ("Compressor: diffusion factor (NASA SP-36 radius-change form)", "-"),
+    "row_solidity": ("Solidity of the same chord and blade count, sigma_m r_m / r", "-"),
+}
+
+
+def _span_list(name: str, end: str):
+    words, unit = _SPAN_WORDS[name]
+    where = "at every station" if name.startswith("station_") else "of every row"
+    return _list(f"{words} {where} at the {end}: each station a free vortex about its mean radius "
+                 f"(r V_theta and V_x uniform along the span). [{unit}]", unit,
+                 null_entries=name in ("station_beta", "station_relative_mach"))
 
 
 _STATION = "at every station, 1 to 2n+1 in flow order"
@@ -82,9 +107,16 @@ MachineOutput = Schema.from_dict(
         "stage_isentropic_efficiency": _list("Isentropic (total-to-total) efficiency of each stage. [-]", "-"),
         "stage_loading_coefficient": _list("Loading coefficient of each stage at its blade speed. [-]", "-"),
         "stage_flow_coefficient": _list("Flow coefficient of each stage. [-]", "-"),
-        "stage_reaction": _list("Reaction of each stage. [-]", "-"),
-        "stage_blade_speed": _list("Blade speed of each stage at its mean radius. [m s^-1]", "m s^-1"),
-        "stage_mean_radius": _list("Mean radius of each stage's triangles (its blade speed's radius). [m]", "m"),
+        "stage_reaction": _list("Reaction of each stage: the rotor's static enthalpy change over the stage's, from the "
+                                "static temperatures at the stage's three stations. [-]", "-"),
+        "stage_kinematic_reaction": _list(
+            "Kinematic reaction of each stage at its design station, 1 - psi/2 - V_theta/U there (the reaction "
+            "given, or for a compressor with inlet_swirl the first stage's from the swirl); equal to "
+            "stage_reaction only for a repeating stage of constant radius and axial velocity. [-]", "-"),
+        "stage_blade_speed": _list("Blade speed of each stage at its design station's mean radius (compressor rotor "
+                                   "inlet, turbine rotor exit), where its flow and loading coefficients and "
+                                   "kinematic reaction are set. [m s^-1]", "m s^-1"),
+        "stage_mean_radius": _list("Mean radius of each stage's design station. [m]", "m"),
         "station_total_temperature": _list(f"Total temperature {_STATION}. [K]", "K"),
         "station_total_pressure": _list(f"Total pressure {_STATION}. [Pa]", "Pa"),
         "station_static_temperature": _list(f"Static temperature {_STATION}. [K]", "K"),
@@ -94,13 +126,20 @@ MachineOutput = Schema.from_dict(
         "station_tangential_velocity": _list(f"Absolute tangential velocity {_STATION}. [m s^-1]", "m s^-1"),
         "station_velocity": _list(f"Absolute speed {_STATION}. [m s^-1]", "m s^-1"),
         "station_alpha": _list(f"Absolute flow angle from axial {_STATION}. [deg]", "deg"),
+        "station_blade_speed": _list(
+            f"Blade speed of the adjacent rotor at the station's own mean radius, 2 pi N r / 60, {_STATION}; null "
+            "where no rotor is next to the station (compressor outlet, turbine inlet). [m s^-1]", "m s^-1",
+            null_entries=True),
         "station_relative_tangential_velocity": _list(
-            f"Relative tangential velocity {_STATION}, in the frame of the station's stage's rotor. [m s^-1]",
-            "m s^-1"),
-        "station_relative_velocity": _list(f"Relative speed {_STATION} (stage's rotor frame). [m s^-1]", "m s^-1"),
-        "station_beta": _list(f"Relative flow angle from axial {_STATION} (stage's rotor frame). [deg]", "deg"),
+            f"Relative tangential velocity V_theta - U {_STATION}, in the frame of the adjacent rotor at the "
+            "station's own radius; null where no rotor is next to the station. [m s^-1]", "m s^-1", null_entries=True),
+        "station_relative_velocity": _list(f"Relative speed {_STATION} (adjacent rotor's frame; null where there is "
+                                           "none). [m s^-1]", "m s^-1", null_entries=True),
+        "station_beta": _list(f"Relative flow angle from axial {_STATION} (adjacent rotor's frame; null where there "
+                              "is none). [deg]", "deg", null_entries=True),
         "station_mach": _list(f"Absolute Mach number {_STATION}. [-]", "-"),
-        "station_relative_mach": _list(f"Relative Mach number {_STATION} (stage's rotor frame). [-]", "-"),
+        "station_relative_mach": _list(f"Relative Mach number {_STATION} (adjacent rotor's frame; null where there "
+                                       "is none). [-]", "-", null_entries=True),
         "station_axial_mach": _list(f"Axial Mach number {_STATION}; 1 chokes the annulus. [-]", "-"),
         "station_area": _list(f"Annulus area from continuity, m / (rho V_x), {_STATION}. [m^2]", "m^2"),
         "station_hub_radius": _list(f"Hub radius {_STATION}. [m]", "m"),
@@ -127,6 +166,12 @@ MachineOutput = Schema.from_dict(
         "flowpath_x": _list("Flowpath outline: axial positions, each row's leading and trailing edge. [m]", "m"),
         "flowpath_hub_radius": _list("Flowpath outline: hub radius at each point of flowpath_x. [m]", "m"),
         "flowpath_tip_radius": _list("Flowpath outline: tip radius at each point of flowpath_x. [m]", "m"),
+        "stage_rotor_tip_relative_mach": _list("Relative Mach number at each rotor's inlet tip (free vortex). [-]",
+                                               "-"),
+        **{f"stage_reaction_{end}": _list(f"Enthalpy reaction of each stage along the {end} line (free vortex). [-]",
+                                          "-") for end in machine_span.SPAN_ENDS},
+        **{f"{name}_{end}": _span_list(name, end) for name in (*machine_span.STATION_OUTPUTS, *machine_span.ROW_OUTPUTS)
+           for end in machine_span.SPAN_ENDS},
     },
     name="MachineOutput",
 )
@@ -197,8 +242,12 @@ CALCULATION = Calculation(
         "order (compressor: 2i-1 rotor i inlet, 2i rotor i exit, 2i+1 stator i exit; turbine: 2i-1 stator i inlet, "
         "2i stator exit = rotor i inlet, 2i+1 rotor i exit); rows 1 to 2n between them. Assumptions: constant axial "
         "velocity through each rotor (V_x = phi U), the stator between stages changing it to the next stage's; "
-        "each stage's blade speed at the mean radius of its rotor's low-swirl station (compressor rotor inlet, "
-        "turbine rotor exit), solved with the annulus when the hub or tip radius is held; a compressor's "
+        "each stage's flow coefficient, loading and kinematic reaction set at its rotor's low-swirl (design) "
+        "station (compressor rotor inlet, turbine rotor exit) at that station's blade speed; the blade speed at "
+        "every station is the shaft's at the station's own mean radius, so with the hub or tip radius held the "
+        "other rotor station's swirl follows from Euler's work equation (work = U_out V_theta,out - U_in "
+        "V_theta,in) and its annulus from continuity, solved together; stage_reaction is the enthalpy reaction "
+        "of the resulting static states; a compressor's "
         "inlet_swirl sets the first stage's reaction, its last stator returns the flow to outlet_swirl (default "
         "the inlet angle); each stage's entropy rise shared between rotor (rotor_loss_fraction, default 0.5) and "
         "stator; rows at the mean of their stations' heights and radii, axial chord = height / aspect ratio, "

@@ -144,7 +144,10 @@ def _add_calculation(spec: APISpec, plugin, calculation: Calculation) -> None:
     for name, field in calculation.outputs().fields.items():
         prop = plugin.converter.field2property(field)
         if prop.pop("x-per-stage", False):
-            outputs[name] = {**prop, "type": ["array", "null"], "items": {"type": prop.get("type", "number")}}
+            item = prop.get("type", "number")
+            # Entries that may not apply (a rotor-frame value at a station without a rotor) are null.
+            item = [item, "null"] if prop.pop("x-null-entries", False) else item
+            outputs[name] = {**prop, "type": ["array", "null"], "items": {"type": item}}
         else:
             outputs[name] = {**prop, "type": [prop.get("type", "number"), "null"]}
     checks = {"type": "object", "description": "Rules of thumb the case was judged against.",
@@ -191,10 +194,15 @@ def _add_calculation(spec: APISpec, plugin, calculation: Calculation) -> None:
             "401": {"description": "An API key is required and was not given.", **problem, "headers": {
                 "WWW-Authenticate": {"description": "The scheme to authenticate with.",
                                      "schema": {"type": "string", "const": f'Bearer realm="{REALM}"'}}}},
-            "403": {"description": "The API key is not valid.", **problem},
-            "413": {"description": "The body or the number of cases is over the limit.", **problem},
+            "403": {"description": "The API key is not valid (every key sent must be).", **problem},
+            "408": {"description": "The request did not arrive within the receive timeout "
+                                   "(MEANLINE_RECEIVE_TIMEOUT).", **problem},
+            "413": {"description": "The body, the number of cases, or the memory the cases would take "
+                                   "(MEANLINE_MAX_MEMORY; the detail says how many cases fit) is over the limit.",
+                    **problem},
             **drawing,
-            "415": {"description": "The body is not JSON (Content-Type).", **problem},
+            "415": {"description": "The body is not JSON (Content-Type), or is encoded (Content-Encoding).",
+                    **problem},
             "422": {"description": "Invalid input (every offending field named by JSON Pointer), or one "
                                    "case that is physically impossible.", **problem},
             "503": {"description": "The server stopped the request: over the time limit (MEANLINE_TIMEOUT), "

@@ -122,8 +122,10 @@ def _loss_outputs() -> dict:
 
 
 StageEfficiencyOutput = Schema.from_dict(
+    # The mean-line outputs of the triangles (not their rows' nor their hub and tip values).
     {**{name: copy.deepcopy(f) for name, f in TrianglesOutput._declared_fields.items()
-        if not name.startswith(("stator_", "rotor_"))},
+        if not name.startswith(("stator_", "rotor_")) and not name.endswith(("_hub", "_tip"))
+        and name not in ("hub_radius", "tip_radius", "mean_radius", "hub_to_tip_ratio")},
      **_loss_outputs()},
     name="StageEfficiencyOutput",
 )

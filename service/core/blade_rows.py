@@ -26,7 +26,7 @@ from service.core.checks import de_haller_check, deceleration_check, solidity_ch
 
 
 def size_rows(machine, stations, rotor_aspect_ratio, stator_aspect_ratio, *, zweifel_coefficient=None,
-              target_diffusion_factor=None, solidity=None):
+              target_diffusion_factor=None, solidity=None, shaft_speed=None):
     """Geometry and blade count of every row of a flowpath from its stations' values.
 
     Row ``j`` (from 0) runs from station ``j`` to ``j + 1``; a compressor's rows start with a rotor,
@@ -37,8 +37,9 @@ def size_rows(machine, stations, rotor_aspect_ratio, stator_aspect_ratio, *, zwe
     (:func:`service.core.flowpath.stagger_estimate`). Turbine rows are sized for a Zweifel target
     (:func:`service.core.zweifel.evaluate_zweifel_sizing`, incompressible definition, count rounded
     up); compressor rows for a target diffusion factor
-    (:func:`service.core.diffusion.evaluate_diffusion_sizing`, constant-radius form, the row's inlet
-    and outlet axial velocities) or a target solidity (count rounded up, then
+    (:func:`service.core.diffusion.evaluate_diffusion_sizing` in NASA SP-36's radius-change form, from the
+    row's inlet and outlet station mean radii and axial velocities; a rotor's tangential term is the change
+    of absolute angular momentum, from ``shaft_speed``) or a target solidity (count rounded up, then
     :func:`service.core.diffusion.evaluate_diffusion_analysis`).
 
     Parameters
@@ -55,6 +56,8 @@ def size_rows(machine, stations, rotor_aspect_ratio, stator_aspect_ratio, *, zwe
         Turbine: target Zweifel coefficient, shape ``(m,)``. [-]
     target_diffusion_factor, solidity : array_like, optional
         Compressor: exactly one, the target diffusion factor or solidity, shape ``(m,)``. [-]
+    shaft_speed : array_like, optional
+        Compressor: shaft speed, shape ``(m,)``, for the rotors' radius-change form. [rev min^-1]
 
     Returns
     -------
@@ -81,6 +84,7 @@ def size_rows(machine, stations, rotor_aspect_ratio, stator_aspect_ratio, *, zwe
     speed_in = np.where(is_rotor, st["station_relative_velocity"][:, :-1], st["station_velocity"][:, :-1])
     speed_out = np.where(is_rotor, st["station_relative_velocity"][:, 1:], st["station_velocity"][:, 1:])
     vx_in, vx_out = st["station_axial_velocity"][:, :-1], st["station_axial_velocity"][:, 1:]
+    radius_in, radius_out = st["station_mean_radius"][:, :-1], st["station_mean_radius"][:, 1:]
     height = flowpath.row_mean(st["station_blade_height"])
     mean_radius = flowpath.row_mean(st["station_mean_radius"])
     aspect = np.where(is_rotor, np.asarray(rotor_aspect_ratio, dtype=float)[..., None],
@@ -101,6 +105,9 @@ def size_rows(machine, stations, rotor_aspect_ratio, stator_aspect_ratio, *, zwe
     for kind, start in (("rotor", 0 if first_is_rotor else 1), ("stator", 1 if first_is_rotor else 0)):
         cols = slice(start, None, 2)
         args = (angle_in[:, cols], angle_out[:, cols])
+        radii = {"inlet_radius": radius_in[:, cols], "outlet_radius": radius_out[:, cols]}
+        if kind == "rotor" and machine == "compressor":
+            radii["shaft_speed"] = np.asarray(shaft_speed, dtype=float)[..., None]
         with np.errstate(all="ignore"):
             if machine == "turbine":
                 sized = zweifel.evaluate_zweifel_sizing(*args, axial_chord[:, cols], mean_radius[:, cols],
@@ -110,7 +117,7 @@ def size_rows(machine, stations, rotor_aspect_ratio, stator_aspect_ratio, *, zwe
             elif target_diffusion_factor is not None:
                 sized = diffusion.evaluate_diffusion_sizing(
                     kind, vx_in[:, cols], *args, np.asarray(target_diffusion_factor)[..., None], chord=chord[:, cols],
-                    mean_radius=mean_radius[:, cols], outlet_axial_velocity=vx_out[:, cols])
+                    mean_radius=mean_radius[:, cols], outlet_axial_velocity=vx_out[:, cols], **radii)
                 blades, pitch = sized.values["blade_count"], sized.values["pitch"]
                 value = sized.values["diffusion_factor_achieved"]
             else:
@@ -118,7 +125,7 @@ def size_rows(machine, stations, rotor_aspect_ratio, stator_aspect_ratio, *, zwe
                                                             np.asarray(solidity)[..., None])
                 sized = diffusion.evaluate_diffusion_analysis(
                     kind, vx_in[:, cols], *args, chord=chord[:, cols], blade_count=blades,
-                    mean_radius=mean_radius[:, cols], outlet_axial_velocity=vx_out[:, cols])
+                    mean_radius=mean_radius[:, cols], outlet_axial_velocity=vx_out[:, cols], **radii)
                 pitch, value = 2.0 * np.pi * mean_radius[:, cols] / blades, sized.values["diffusion_factor"]
         rows["row_blade_count"][:, cols] = blades
         rows["row_pitch"][:, cols] = pitch

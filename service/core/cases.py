@@ -30,11 +30,16 @@ class CaseResults:
         whose text states a number of each case (see :func:`reason_texts`).
     checks : dict of str to RuleCheck
         Rules of thumb judged on every case.
+    absent : dict of str to numpy.ndarray
+        For a list output some of whose entries do not apply (a relative velocity at a station no
+        rotor is next to): a boolean mask, broadcastable to the output, of those entries. They hold
+        NaN, are answered as null, and are not a failure; any other NaN is.
     """
 
     values: dict[str, np.ndarray]
     failures: list[tuple[str | NumberedReason, np.ndarray]] = field(default_factory=list)
     checks: dict[str, RuleCheck] = field(default_factory=dict)
+    absent: dict[str, np.ndarray] = field(default_factory=dict)
 
     @property
     def shape(self) -> tuple:

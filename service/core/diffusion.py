@@ -21,7 +21,19 @@ form of [2]:
     D = 1 - \\frac{V_2}{V_1}
         + \\frac{|r_2 V_{\\theta 2} - r_1 V_{\\theta 1}|}{(r_1 + r_2) \\sigma V_1}
 
-with the solidity ``sigma = chord / pitch`` (true chord, not axial chord). The second form is
+with the solidity ``sigma = chord / pitch`` (true chord, not axial chord). The numerator of the
+second form is the change of the absolute angular momentum, i.e. the torque on the blades per
+unit mass flow, in both kinds of row; the velocities ``V_1``, ``V_2`` stay in the row's frame. For a
+rotor, whose row-frame swirls are relative (``W_theta = V_theta - Omega r``),
+
+.. math::
+
+    r_2 V_{\\theta 2} - r_1 V_{\\theta 1} = r_2 W_{\\theta 2} - r_1 W_{\\theta 1} + \\Omega (r_2^2 - r_1^2)
+
+so a rotor row with a change of radius needs the shaft speed: the last term (the Coriolis
+term) is not blade loading, and leaving it out misstates the factor.
+
+The second form is
 evaluated as ``|w2 Vtheta2 - w1 Vtheta1| / (2 sigma V1)`` with ``w_k = 2 r_k / (r1 + r2)``:
 for equal radii both weights are exactly 1.0 in floating point, so it reduces bit for bit to
 the first form.
@@ -44,6 +56,7 @@ import numpy as np
 
 from service.core.cases import NumberedReason, broadcast_cases, masked_results
 from service.core.checks import RuleCheck, de_haller_check, deceleration_check, solidity_checks
+from service.core.triangles import angular_velocity
 
 ROWS = ("rotor", "stator")
 SPAN_POSITIONS = ("hub", "mean", "tip")
@@ -90,9 +103,19 @@ def _radius_weights(inlet_radius, outlet_radius):
     return 2.0 * r1 / total, 2.0 * r2 / total
 
 
-def _turning(inlet_swirl, outlet_swirl, inlet_radius, outlet_radius):
+def _turning(inlet_swirl, outlet_swirl, inlet_radius, outlet_radius, shaft_speed=None):
+    """``|r2 Vtheta2 - r1 Vtheta1| / ((r1 + r2) / 2)``, the tangential term's numerator over ``2 sigma V1``.
+
+    For a rotor (``shaft_speed`` given) the swirls are relative, ``W_theta = V_theta - Omega r``, and the
+    absolute change of angular momentum is ``r2 W_theta2 - r1 W_theta1 + Omega (r2^2 - r1^2)``; over
+    ``(r1 + r2) / 2`` the blade-speed part is ``2 Omega (r2 - r1)``, exactly zero for equal radii.
+    """
     w1, w2 = _radius_weights(inlet_radius, outlet_radius)
-    return np.abs(w2 * np.asarray(outlet_swirl, dtype=float) - w1 * np.asarray(inlet_swirl, dtype=float))
+    change = w2 * np.asarray(outlet_swirl, dtype=float) - w1 * np.asarray(inlet_swirl, dtype=float)
+    if shaft_speed is not None and inlet_radius is not None:
+        r1, r2, speed = broadcast_cases(inlet_radius, outlet_radius, shaft_speed)
+        change = change + 2.0 * angular_velocity(speed) * (r2 - r1)
+    return np.abs(change)
 
 
 def row_velocities(axial_velocity, inlet_angle, outlet_angle, outlet_axial_velocity=None):
@@ -128,7 +151,7 @@ def row_velocities(axial_velocity, inlet_angle, outlet_angle, outlet_axial_veloc
 
 
 def diffusion_factor(inlet_velocity, outlet_velocity, inlet_swirl, outlet_swirl, solidity,
-                     inlet_radius=None, outlet_radius=None):
+                     inlet_radius=None, outlet_radius=None, shaft_speed=None):
     """Lieblein's diffusion factor of a blade row.
 
     .. math::
@@ -149,6 +172,11 @@ def diffusion_factor(inlet_velocity, outlet_velocity, inlet_swirl, outlet_swirl,
     inlet_radius, outlet_radius : array_like, optional
         Radii of the streamline at the row inlet and outlet, both or neither; without them
         the radius is taken as constant. [m]
+    shaft_speed : array_like, optional
+        A rotor row with radii: the shaft speed, so that the tangential term is the change of
+        absolute angular momentum (the torque), ``r2 V_theta2 - r1 V_theta1 = r2 W_theta2 -
+        r1 W_theta1 + Omega (r2^2 - r1^2)``, not of the relative one, whose difference is the
+        Coriolis term, not blade loading. Leave out for a stator. [rev min^-1]
 
     Returns
     -------
@@ -166,7 +194,7 @@ def diffusion_factor(inlet_velocity, outlet_velocity, inlet_swirl, outlet_swirl,
     0.4836
     """
     v1, v2, sigma = broadcast_cases(inlet_velocity, outlet_velocity, solidity)
-    turning = _turning(inlet_swirl, outlet_swirl, inlet_radius, outlet_radius)
+    turning = _turning(inlet_swirl, outlet_swirl, inlet_radius, outlet_radius, shaft_speed)
     return 1.0 - v2 / v1 + turning / (2.0 * sigma * v1)
 
 
@@ -195,7 +223,7 @@ def minimum_diffusion_factor(inlet_velocity, outlet_velocity):
 
 
 def solidity_for_diffusion_factor(inlet_velocity, outlet_velocity, inlet_swirl, outlet_swirl,
-                                  diffusion_factor, inlet_radius=None, outlet_radius=None):
+                                  diffusion_factor, inlet_radius=None, outlet_radius=None, shaft_speed=None):
     """Solidity that gives a row a target diffusion factor (the inverse of :func:`diffusion_factor`).
 
     .. math::
@@ -213,6 +241,8 @@ def solidity_for_diffusion_factor(inlet_velocity, outlet_velocity, inlet_swirl, 
         The target diffusion factor. [-]
     inlet_radius, outlet_radius : array_like, optional
         Radii of the streamline at the row inlet and outlet, both or neither. [m]
+    shaft_speed : array_like, optional
+        A rotor row with radii: the shaft speed (see :func:`diffusion_factor`). [rev min^-1]
 
     Returns
     -------
@@ -226,7 +256,7 @@ def solidity_for_diffusion_factor(inlet_velocity, outlet_velocity, inlet_swirl, 
     2. NASA SP-36 (1965).
     """
     v1, v2, target = broadcast_cases(inlet_velocity, outlet_velocity, diffusion_factor)
-    turning = _turning(inlet_swirl, outlet_swirl, inlet_radius, outlet_radius)
+    turning = _turning(inlet_swirl, outlet_swirl, inlet_radius, outlet_radius, shaft_speed)
     margin = target - (1.0 - v2 / v1)
     reachable = (margin > 0) & (turning > _NO_TURNING * v1)
     with np.errstate(divide="ignore", invalid="ignore"):
@@ -353,7 +383,17 @@ def _numbered(reason, number, mask):
     return [(NumberedReason(reason, numbers), mask)]
 
 
-def _flow(axial_velocity, inlet_angle, outlet_angle, outlet_axial_velocity, inlet_radius, outlet_radius):
+def _check_shaft_speed(row, inlet_radius, shaft_speed):
+    """A rotor row with radii needs the shaft speed; nothing else takes it."""
+    if row == "rotor" and inlet_radius is not None and shaft_speed is None:
+        raise ValueError("a rotor row given inlet_radius and outlet_radius needs shaft_speed: the diffusion "
+                         "factor's tangential term is the change of absolute angular momentum")
+    if shaft_speed is not None and (row != "rotor" or inlet_radius is None):
+        raise ValueError("shaft_speed applies only to a rotor row given inlet_radius and outlet_radius")
+
+
+def _flow(axial_velocity, inlet_angle, outlet_angle, outlet_axial_velocity, inlet_radius, outlet_radius,
+          shaft_speed=None):
     """Row-frame flow, the outputs shared by analysis and sizing, and the input failures."""
     if outlet_axial_velocity is None:
         outlet_axial_velocity = axial_velocity
@@ -368,6 +408,8 @@ def _flow(axial_velocity, inlet_angle, outlet_angle, outlet_axial_velocity, inle
         _radius_weights(inlet_radius, outlet_radius)
         r1, r2 = broadcast_cases(inlet_radius, outlet_radius)
         failures.append(("inlet_radius and outlet_radius must be positive", ~((r1 > 0) & (r2 > 0))))
+    if shaft_speed is not None:
+        failures.append(("shaft_speed must be positive", ~(np.asarray(shaft_speed, dtype=float) > 0)))
     ratio = flow["outlet_velocity"] / flow["inlet_velocity"]
     values = {
         "inlet_velocity": flow["inlet_velocity"],
@@ -402,7 +444,7 @@ def _finish(values, failures, row, span_position, judged, shape, inputs):
 def evaluate_diffusion_analysis(row, axial_velocity, inlet_angle, outlet_angle, solidity=None,
                                 chord=None, pitch=None, blade_count=None, mean_radius=None,
                                 outlet_axial_velocity=None, inlet_radius=None, outlet_radius=None,
-                                span_position="mean"):
+                                span_position="mean", shaft_speed=None):
     """Diffusion factor, de Haller number and checks of a blade row of known solidity.
 
     Parameters
@@ -431,6 +473,9 @@ def evaluate_diffusion_analysis(row, axial_velocity, inlet_angle, outlet_angle, 
         Streamline radii at the row inlet and outlet, both or neither (NASA SP-36 form). [m]
     span_position : str
         One of :data:`SPAN_POSITIONS`; default ``mean``.
+    shaft_speed : array_like, optional
+        Required for a rotor row given radii, not allowed otherwise: the tangential term is then
+        the change of absolute angular momentum (:func:`diffusion_factor`). [rev min^-1]
 
     Returns
     -------
@@ -448,7 +493,8 @@ def evaluate_diffusion_analysis(row, axial_velocity, inlet_angle, outlet_angle, 
     ------
     ValueError
         For an unknown ``row`` or ``span_position``, for other than exactly one way of
-        giving the solidity, or for only one of the two radii.
+        giving the solidity, for only one of the two radii, or for ``shaft_speed`` given other
+        than with both radii for a rotor.
 
     References
     ----------
@@ -457,6 +503,7 @@ def evaluate_diffusion_analysis(row, axial_velocity, inlet_angle, outlet_angle, 
     3. de Haller (1953), Brennstoff-Wärme-Kraft 5(10).
     """
     _check_options(row, span_position)
+    _check_shaft_speed(row, inlet_radius, shaft_speed)
     given = {name for name, v in (("solidity", solidity), ("chord", chord), ("pitch", pitch),
                                   ("blade_count", blade_count), ("mean_radius", mean_radius))
              if v is not None}
@@ -476,21 +523,21 @@ def evaluate_diffusion_analysis(row, axial_velocity, inlet_angle, outlet_angle, 
             sigma = solidity_from_blade_count(chord_, radius, count)
             positive = (chord_ > 0) & (count > 0) & (radius > 0)
         flow, values, failures = _flow(axial_velocity, inlet_angle, outlet_angle, outlet_axial_velocity,
-                                       inlet_radius, outlet_radius)
+                                       inlet_radius, outlet_radius, shaft_speed)
         failures.append(("solidity, chord, pitch, blade count and mean radius must be positive", ~positive))
         values["diffusion_factor"] = diffusion_factor(
             flow["inlet_velocity"], flow["outlet_velocity"], flow["inlet_swirl"], flow["outlet_swirl"],
-            sigma, inlet_radius, outlet_radius)
+            sigma, inlet_radius, outlet_radius, shaft_speed)
         values["solidity"] = sigma
         shape = _common_shape(*values.values(), *(mask for _, mask in failures))
         return _finish(values, failures, row, span_position, "diffusion_factor", shape,
                        (axial_velocity, inlet_angle, outlet_angle, solidity, chord, pitch, blade_count,
-                        mean_radius, outlet_axial_velocity, inlet_radius, outlet_radius))
+                        mean_radius, outlet_axial_velocity, inlet_radius, outlet_radius, shaft_speed))
 
 
 def evaluate_diffusion_sizing(row, axial_velocity, inlet_angle, outlet_angle, target_diffusion_factor,
                               chord=None, mean_radius=None, outlet_axial_velocity=None,
-                              inlet_radius=None, outlet_radius=None, span_position="mean"):
+                              inlet_radius=None, outlet_radius=None, span_position="mean", shaft_speed=None):
     """Solidity (and with chord and mean radius the blade count) for a target diffusion factor.
 
     Parameters
@@ -513,6 +560,9 @@ def evaluate_diffusion_sizing(row, axial_velocity, inlet_angle, outlet_angle, ta
         Streamline radii at the row inlet and outlet, both or neither (NASA SP-36 form). [m]
     span_position : str
         One of :data:`SPAN_POSITIONS`; default ``mean``.
+    shaft_speed : array_like, optional
+        Required for a rotor row given radii, not allowed otherwise (:func:`diffusion_factor`).
+        [rev min^-1]
 
     Returns
     -------
@@ -531,8 +581,9 @@ def evaluate_diffusion_sizing(row, axial_velocity, inlet_angle, outlet_angle, ta
     Raises
     ------
     ValueError
-        For an unknown ``row`` or ``span_position``, or for only one of a pair of
-        ``chord``/``mean_radius`` or ``inlet_radius``/``outlet_radius``.
+        For an unknown ``row`` or ``span_position``, for only one of a pair of
+        ``chord``/``mean_radius`` or ``inlet_radius``/``outlet_radius``, or for ``shaft_speed``
+        given other than with both radii for a rotor.
 
     References
     ----------
@@ -540,18 +591,19 @@ def evaluate_diffusion_sizing(row, axial_velocity, inlet_angle, outlet_angle, ta
     2. NASA SP-36 (1965).
     """
     _check_options(row, span_position)
+    _check_shaft_speed(row, inlet_radius, shaft_speed)
     if (chord is None) != (mean_radius is None):
         raise ValueError("chord and mean_radius must be given together")
     with np.errstate(divide="ignore", invalid="ignore"):
         flow, values, failures = _flow(axial_velocity, inlet_angle, outlet_angle, outlet_axial_velocity,
-                                       inlet_radius, outlet_radius)
+                                       inlet_radius, outlet_radius, shaft_speed)
         v1, v2 = flow["inlet_velocity"], flow["outlet_velocity"]
         target = np.asarray(target_diffusion_factor, dtype=float)
         if chord is not None:
             chord_, radius = broadcast_cases(chord, mean_radius)
             failures.append(("chord and mean radius must be positive", ~((chord_ > 0) & (radius > 0))))
         sigma = solidity_for_diffusion_factor(v1, v2, flow["inlet_swirl"], flow["outlet_swirl"], target,
-                                              inlet_radius, outlet_radius)
+                                              inlet_radius, outlet_radius, shaft_speed)
         values.update(solidity=sigma, minimum_diffusion_factor=minimum_diffusion_factor(v1, v2))
         judged = target
         if chord is not None:
@@ -560,7 +612,7 @@ def evaluate_diffusion_sizing(row, axial_velocity, inlet_angle, outlet_angle, ta
             values["pitch"] = 2.0 * np.pi * radius / count
             values["diffusion_factor_achieved"] = diffusion_factor(
                 v1, v2, flow["inlet_swirl"], flow["outlet_swirl"],
-                solidity_from_blade_count(chord_, radius, count), inlet_radius, outlet_radius)
+                solidity_from_blade_count(chord_, radius, count), inlet_radius, outlet_radius, shaft_speed)
             judged = "diffusion_factor_achieved"
 
         shape = _common_shape(target, *values.values(), *(mask for _, mask in failures))
@@ -568,11 +620,11 @@ def evaluate_diffusion_sizing(row, axial_velocity, inlet_angle, outlet_angle, ta
         invalid = np.zeros(shape, dtype=bool)
         for _, mask in failures:
             invalid |= mask
-        turning = _turning(flow["inlet_swirl"], flow["outlet_swirl"], inlet_radius, outlet_radius)
+        turning = _turning(flow["inlet_swirl"], flow["outlet_swirl"], inlet_radius, outlet_radius, shaft_speed)
         unreachable = ~invalid & ~(target > smallest)
         no_turning = ~invalid & ~unreachable & ~(turning > _NO_TURNING * v1)
         failures += _numbered(unreachable_target_reason, smallest, np.broadcast_to(unreachable, shape))
         failures += _numbered(no_turning_reason, smallest, np.broadcast_to(no_turning, shape))
         return _finish(values, failures, row, span_position, judged, shape,
                        (axial_velocity, inlet_angle, outlet_angle, target_diffusion_factor, chord,
-                        mean_radius, outlet_axial_velocity, inlet_radius, outlet_radius))
+                        mean_radius, outlet_axial_velocity, inlet_radius, outlet_radius, shaft_speed))

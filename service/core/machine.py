@@ -68,7 +68,7 @@ from __future__ import annotations
 
 import numpy as np
 
-from service.core import annulus, blade_rows, flowpath, gas, split, triangles, zweifel
+from service.core import annulus, blade_rows, flowpath, gas, machine_span, split, triangles, zweifel
 from service.core.cases import CaseResults, reason_for
 
 MAX_STAGES = split.MAX_STAGES
@@ -154,24 +154,8 @@ def station_total_states(machine, stage_inlet_total_temperature, stage_outlet_to
     return temperature, pressure
 
 
-def blade_speed(mean_radius, shaft_speed):
-    """Blade speed at a radius.
-
-    .. math:: U = 2 \\pi r N / 60
-
-    Parameters
-    ----------
-    mean_radius : array_like
-        Radius. [m]
-    shaft_speed : array_like
-        Shaft speed. [rev min^-1]
-
-    Returns
-    -------
-    numpy.ndarray
-        Blade speed. [m s^-1]
-    """
-    return 2.0 * np.pi * np.asarray(mean_radius, dtype=float) * np.asarray(shaft_speed, dtype=float) / 60.0
+#: Blade speed at a radius from the shaft speed (:func:`service.core.triangles.blade_speed`).
+blade_speed = triangles.blade_speed
 
 
 def _low_swirl(u, flow_coefficient, work, reaction, fixed_angle):
@@ -185,45 +169,138 @@ def _low_swirl(u, flow_coefficient, work, reaction, fixed_angle):
     return swirl
 
 
-def _stage_radii(machine, held, radius, p, t0, p0, work, phi, reaction):
-    """Mean radius of every stage, (m, n): the held one, or solved at the rotor's low-swirl station."""
-    m, n = work.shape
-    if held == "mean":
-        return np.broadcast_to(radius[:, None], (m, n)).astype(float)
-    design = 2 * np.arange(n) + (0 if machine == "compressor" else 2)
-    fixed = None
-    if machine == "compressor" and p["inlet_swirl"] is not None:
-        fixed = np.full((m, n), np.nan)
-        fixed[:, 0] = p["inlet_swirl"]
-    every = {
-        "radius": np.broadcast_to(radius[:, None], (m, n)).ravel(),
-        "t0": t0[:, design].ravel(), "p0": p0[:, design].ravel(), "work": work.ravel(),
-        "phi": phi.ravel(), "reaction": reaction.ravel(),
-        "speed": np.broadcast_to(p["shaft_speed"][:, None], (m, n)).ravel(),
-        "mass_flow": np.broadcast_to(p["mass_flow"][:, None], (m, n)).ravel(),
-        "cp": np.broadcast_to(p["cp"][:, None], (m, n)).ravel(),
-        "gamma": np.broadcast_to(p["gamma"][:, None], (m, n)).ravel(),
-        "fixed": np.full(m * n, np.nan) if fixed is None else fixed.ravel(),
-    }
+def _solved_radius(held, radius, p, t0, p0, needed, velocities, given=None, guess=None):
+    """Mean radius, (m, n), of one station of every stage with the hub or tip radius held.
+
+    The station's velocities depend on the blade speed at its own radius, so its annulus and its blade
+    speed are solved together (:func:`service.core.annulus.hub_to_tip_ratio_for_flow`).
+
+    Parameters
+    ----------
+    held : str
+        ``hub`` or ``tip``.
+    radius : numpy.ndarray
+        The held radius per case, (m,). [m]
+    p : dict
+        The per-case inputs (``shaft_speed``, ``mass_flow``, ``cp``, ``gamma``).
+    t0, p0 : numpy.ndarray
+        Total state at the station of every stage, (m, n). [K], [Pa]
+    needed : dict of numpy.ndarray
+        Per-stage values, (m, n), the velocities need; a stage where one is not finite is not solved.
+    velocities : callable
+        ``velocities(u, values) -> (V_x, V_theta)`` at the blade speed ``u`` [m s^-1], with ``values``
+        the entries of ``needed`` and ``given`` of the problems solved.
+    given : dict of numpy.ndarray, optional
+        Per-stage values that may be NaN (e.g. a swirl angle fixed at some stages only).
+    guess : numpy.ndarray, optional
+        A hub-to-tip ratio near the station's, (m, n): the search starts there
+        (:func:`service.core.annulus.hub_to_tip_ratio_near`). [-]
+
+    Returns
+    -------
+    radius, hub_to_tip_ratio : numpy.ndarray
+        The station's mean radius [m] and hub-to-tip ratio [-]; NaN where no annulus passes the mass flow.
+    """
+    m, n = t0.shape
+
+    def per_stage(a):
+        return np.broadcast_to(np.asarray(a, dtype=float)[:, None], (m, n)).ravel()
+
+    every = {"radius": per_stage(radius), "speed": per_stage(p["shaft_speed"]),
+             "mass_flow": per_stage(p["mass_flow"]), "cp": per_stage(p["cp"]), "gamma": per_stage(p["gamma"]),
+             "t0": t0.ravel(), "p0": p0.ravel(), **{k: v.ravel() for k, v in needed.items()}}
     # Only stages whose duty is defined are solved (a failed split leaves NaN).
-    solved = np.flatnonzero(np.isfinite(every["t0"]) & np.isfinite(every["work"]) & np.isfinite(every["phi"])
-                            & np.isfinite(every["reaction"]))
+    defined = np.isfinite(every["t0"]) & np.isfinite(every["p0"])
+    for name in needed:
+        defined &= np.isfinite(every[name])
+    every.update({k: np.broadcast_to(v, (m, n)).ravel() for k, v in (given or {}).items()})
+    solved = np.flatnonzero(defined)
     sub = {name: value[solved] for name, value in every.items()}
 
     def flow_ratio(ring, which):
         u = blade_speed(ring["mean_radius"], sub["speed"][which])
-        vx = sub["phi"][which] * u
-        swirl = _low_swirl(u, sub["phi"][which], sub["work"][which], sub["reaction"][which], sub["fixed"][which])
+        vx, swirl = velocities(u, {name: value[which] for name, value in sub.items()})
         state = gas.static_state(sub["t0"][which], sub["p0"][which], np.hypot(vx, swirl), sub["cp"][which],
                                  sub["gamma"][which])
         ratio = state["density"] * vx * ring["area"] / sub["mass_flow"][which]
         return np.where(vx / state["speed_of_sound"] < 1.0, ratio, np.nan)
 
     ratio = np.full(m * n, np.nan)
-    if solved.size:
+    if solved.size and guess is None:
         ratio[solved] = annulus.hub_to_tip_ratio_for_flow(held, sub["radius"], flow_ratio)
+    elif solved.size:
+        ratio[solved] = annulus.hub_to_tip_ratio_near(held, sub["radius"], flow_ratio, guess.ravel()[solved])
     ring = annulus.annulus_from_hub_to_tip_ratio(held, every["radius"], ratio)
-    return ring["mean_radius"].reshape(m, n)
+    return ring["mean_radius"].reshape(m, n), ratio.reshape(m, n)
+
+
+def enthalpy_reaction(machine, station_static_temperature):
+    """Reaction of every stage: the rotor's static enthalpy change over the stage's.
+
+    .. math:: R = \\frac{h_{rotor,in} - h_{rotor,out}}{h_{stage,in} - h_{stage,out}}
+
+    with a perfect gas of constant ``cp``, so enthalpy differences are ``cp`` times temperature
+    differences. Stage ``i`` (from 0) spans stations ``2i`` to ``2i + 2``; its rotor is the first row
+    (compressor) or the second (turbine). For a repeating stage of constant axial velocity and radius
+    it equals the kinematic reaction ``1 - (V_theta1 + V_theta2) / (2 U)``; where a stage's inlet and
+    outlet velocities differ, or its radius changes, the two differ.
+
+    Parameters
+    ----------
+    machine : str
+        ``compressor`` or ``turbine``.
+    station_static_temperature : array_like
+        Static temperature at stations 1 .. 2n + 1, shape ``(..., 2n + 1)``. [K]
+
+    Returns
+    -------
+    numpy.ndarray
+        The reaction of each stage, shape ``(..., n)``. [-]
+
+    References
+    ----------
+    Dixon and Hall (2014), ch. 5 (compressor) and ch. 4 (turbine): the definition of reaction.
+    """
+    t = np.asarray(station_static_temperature, dtype=float)
+    inlet, middle, outlet = t[..., :-1:2], t[..., 1::2], t[..., 2::2]
+    rotor_in, rotor_out = (inlet, middle) if machine == "compressor" else (middle, outlet)
+    with np.errstate(all="ignore"):
+        return (rotor_in - rotor_out) / (inlet - outlet)
+
+
+def rotor_stations(machine, stages):
+    """The stations of every stage's rotor, counted from 0: its design (low-swirl) station and its other one.
+
+    A stage's flow coefficient, loading and reaction are set at its rotor's low-swirl station (compressor
+    rotor inlet ``2i``, turbine rotor exit ``2i + 2``); the other rotor station (compressor rotor exit
+    ``2i + 1``, turbine rotor inlet ``2i + 1``) takes its swirl from Euler's work equation.
+
+    Parameters
+    ----------
+    machine : str
+        ``compressor`` or ``turbine``.
+    stages : int
+        Stage count ``n``.
+
+    Returns
+    -------
+    design, other : numpy.ndarray
+        Station indices (from 0), shape ``(n,)``.
+    """
+    first = 2 * np.arange(stages)
+    if machine == "compressor":
+        return first, first + 1
+    return first + 2, first + 1
+
+
+def _design_velocities(u, s):
+    return s["phi"] * u, _low_swirl(u, s["phi"], s["work"], s["reaction"], s["fixed"])
+
+
+def _euler_velocities(u, s):
+    # Euler: work = U_other V_theta,other - U_design V_theta,design, for both machines.
+    with np.errstate(all="ignore"):
+        return s["vx"], (s["work"] + s["moment"]) / u
 
 
 def _per_stage(value, n, name, m):
@@ -265,45 +342,68 @@ def _layout(machine, held, n, p, sp):
                                   sp["stage_inlet_total_pressure"], sp["stage_outlet_total_pressure"],
                                   gamma, p["rotor_loss_fraction"])
 
-    # Blade speed and triangles of every stage.
+    # Each stage's duty is set at its rotor's low-swirl (design) station, at that station's own radius.
     radius = p["radius"]
-    stage_radius = _stage_radii(machine, held, radius, p, t0, p0, work, phi, reaction)
-    if held != "mean":
-        design = 1 if machine == "compressor" else 2
+    design, other = rotor_stations(machine, n)
+    fixed = np.full((m, n), np.nan)
+    if machine == "compressor" and p["inlet_swirl"] is not None:
+        fixed[:, 0] = p["inlet_swirl"]
+    if held == "mean":
+        stage_radius = np.broadcast_to(radius[:, None], (m, n)).astype(float)
+    else:
+        stage_radius, stage_ratio = _solved_radius(held, radius, p, t0[:, design], p0[:, design],
+                                                   {"phi": phi, "work": work, "reaction": reaction},
+                                                   _design_velocities, {"fixed": fixed})
         for i in range(n):
             failures.append((
                 f"stage {i + 1}: no annulus with the {held} radius held passes the mass flow at station "
-                f"{2 * i + design} (the axial Mach number would reach 1 or the static temperature zero)",
+                f"{design[i] + 1} (the axial Mach number would reach 1 or the static temperature zero)",
                 ~np.isfinite(stage_radius[:, i]) & np.isfinite(work[:, i])))
-    u = blade_speed(stage_radius, p["shaft_speed"][:, None])
+    speed = p["shaft_speed"][:, None]
+    u = blade_speed(stage_radius, speed)
     vx = phi * u
     with np.errstate(all="ignore"):
         psi = work / np.square(u)
     if machine == "compressor" and p["inlet_swirl"] is not None:
         reaction = reaction.copy()
         reaction[:, 0] = 1.0 - 0.5 * psi[:, 0] - phi[:, 0] * np.tan(np.radians(p["inlet_swirl"]))
-    tri = triangles.stage_triangles(machine, u, vx, *triangles.rotor_swirl_from_duty(machine, psi, reaction, u))
+    design_swirl = _low_swirl(u, phi, work, reaction, None)
 
-    # Velocities at the stations, in the frame of the rotor of the station's stage.
+    # The rotor's other station: its own radius and blade speed, its swirl from Euler's work equation.
+    moment = u * design_swirl
+    if held == "mean":
+        other_radius = stage_radius
+    else:
+        other_radius, _ = _solved_radius(held, radius, p, t0[:, other], p0[:, other],
+                                         {"vx": vx, "work": work, "moment": moment}, _euler_velocities,
+                                         guess=stage_ratio)
+        for i in range(n):
+            failures.append((
+                f"stage {i + 1}: no annulus with the {held} radius held passes the mass flow at station "
+                f"{other[i] + 1} (the axial Mach number would reach 1 or the static temperature zero)",
+                ~np.isfinite(other_radius[:, i]) & np.isfinite(stage_radius[:, i])))
+    u_other = blade_speed(other_radius, speed)
+    _, other_swirl = _euler_velocities(u_other, {"vx": vx, "work": work, "moment": moment})
+
+    # Velocities at the stations; the blade speed is that of the adjacent rotor at the station's own
+    # radius, NaN at the one station without a rotor (compressor outlet, turbine inlet).
     s = 2 * n + 1
-    vx_st, swirl_st, u_st = np.empty((m, s)), np.empty((m, s)), np.empty((m, s))
+    vx_st, swirl_st, u_st = np.empty((m, s)), np.empty((m, s)), np.full((m, s), np.nan)
+    for target, (a, b) in ((vx_st, (vx, vx)), (swirl_st, (design_swirl, other_swirl)), (u_st, (u, u_other))):
+        target[:, design], target[:, other] = a, b
     if machine == "compressor":
-        for target, (a, b) in ((vx_st, (vx, vx)), (swirl_st, (tri["Vtheta1"], tri["Vtheta2"])), (u_st, (u, u))):
-            target[:, 0:-1:2], target[:, 1:-1:2] = a, b
-        outlet = np.degrees(np.arctan2(tri["Vtheta1"][:, 0], vx[:, 0])) if p["outlet_swirl"] is None \
+        outlet = np.degrees(np.arctan2(design_swirl[:, 0], vx[:, 0])) if p["outlet_swirl"] is None \
             else p["outlet_swirl"]
-        vx_st[:, -1], u_st[:, -1] = vx[:, -1], u[:, -1]
+        vx_st[:, -1] = vx[:, -1]
         swirl_st[:, -1] = vx[:, -1] * np.tan(np.radians(outlet))
     else:
-        for target, (a, b) in ((vx_st, (vx, vx)), (swirl_st, (tri["Vtheta2"], tri["Vtheta3"])), (u_st, (u, u))):
-            target[:, 1::2], target[:, 2::2] = a, b
-        vx_st[:, 0], u_st[:, 0] = vx[:, 0], u[:, 0]
-        swirl_st[:, 0] = tri["Vtheta3"][:, 0] if p["inlet_swirl"] is None else \
+        vx_st[:, 0] = vx[:, 0]
+        swirl_st[:, 0] = design_swirl[:, 0] if p["inlet_swirl"] is None else \
             vx[:, 0] * np.tan(np.radians(p["inlet_swirl"]))
-    speed = np.hypot(vx_st, swirl_st)
+    speed_st = np.hypot(vx_st, swirl_st)
     relative_swirl = swirl_st - u_st
     relative = np.hypot(vx_st, relative_swirl)
-    state = gas.static_state(t0, p0, speed, cp[:, None], gamma[:, None])
+    state = gas.static_state(t0, p0, speed_st, cp[:, None], gamma[:, None])
     with np.errstate(all="ignore"):
         axial_mach = vx_st / state["speed_of_sound"]
         area = p["mass_flow"][:, None] / (state["density"] * vx_st)
@@ -321,8 +421,9 @@ def _layout(machine, held, n, p, sp):
         "station_total_temperature": t0, "station_total_pressure": p0,
         "station_static_temperature": state["temperature"], "station_static_pressure": state["pressure"],
         "station_density": state["density"], "station_axial_velocity": vx_st,
-        "station_tangential_velocity": swirl_st, "station_velocity": speed,
+        "station_tangential_velocity": swirl_st, "station_velocity": speed_st,
         "station_alpha": np.degrees(np.arctan2(swirl_st, vx_st)),
+        "station_blade_speed": u_st,
         "station_relative_tangential_velocity": relative_swirl, "station_relative_velocity": relative,
         "station_beta": np.degrees(np.arctan2(relative_swirl, vx_st)),
         "station_mach": state["mach"], "station_relative_mach": relative / state["speed_of_sound"],
@@ -334,8 +435,12 @@ def _layout(machine, held, n, p, sp):
     rows, row_failures = blade_rows.size_rows(
         machine, stations, p["rotor_aspect_ratio"], p["stator_aspect_ratio"],
         zweifel_coefficient=p["zweifel_coefficient"] if machine == "turbine" else None,
-        target_diffusion_factor=p["target_diffusion_factor"], solidity=p["solidity"])
+        target_diffusion_factor=p["target_diffusion_factor"], solidity=p["solidity"], shaft_speed=p["shaft_speed"])
     failures += row_failures
+    rotor_frame = np.ones(s, dtype=bool)
+    rotor_frame[-1 if machine == "compressor" else 0] = False
+    span, span_failures = machine_span.spanwise(machine, stations, rows, n, p["shaft_speed"], cp, gamma, rotor_frame)
+    failures += span_failures
     layout = flowpath.axial_layout(rows["row_axial_chord"], p["axial_gap"])
     stations["station_axial_position"] = layout["station_position"]
     line = flowpath.outline(layout["leading_edge"], layout["trailing_edge"], ring["hub_radius"], ring["tip_radius"])
@@ -344,13 +449,14 @@ def _layout(machine, held, n, p, sp):
         "stage_pressure_ratio": sp["stage_pressure_ratio"],
         "stage_total_temperature_change": sp["stage_total_temperature_change"],
         "stage_work": work, "stage_isentropic_efficiency": sp["stage_isentropic_efficiency"],
-        "stage_loading_coefficient": psi, "stage_flow_coefficient": tri["flow_coefficient"],
-        "stage_reaction": tri["reaction"], "stage_blade_speed": u, "stage_mean_radius": stage_radius,
+        "stage_loading_coefficient": psi, "stage_flow_coefficient": phi,
+        "stage_reaction": enthalpy_reaction(machine, state["temperature"]),
+        "stage_kinematic_reaction": reaction, "stage_blade_speed": u, "stage_mean_radius": stage_radius,
     }
     overall = {"axial_length": layout["axial_length"]}
     outline = {"flowpath_x": line["x"], "flowpath_hub_radius": line["hub_radius"],
                "flowpath_tip_radius": line["tip_radius"]}
-    return {**overall, **stages, **stations, **rows, **outline}, failures
+    return {**overall, **stages, **stations, **rows, **outline, **span}, failures
 
 
 def _cases(values, per_stage, weights):
@@ -624,7 +730,25 @@ def evaluate_machine_design(
     values["stage_count"] = np.where(failed, 0, values["stage_count"]).astype(np.int64)
     values = {name: v if name == "stage_count" else np.where(failed.reshape((-1,) + (1,) * (v.ndim - 1)), np.nan, v)
               for name, v in values.items()}
-    return CaseResults(values=values, failures=failures, checks=_checks(machine, values))
+    return CaseResults(values=values, failures=failures, checks=_checks(machine, values),
+                       absent=_without_rotor(machine, values))
+
+
+#: Station outputs of the rotor frame: none at the station no rotor is next to.
+ROTOR_FRAME_OUTPUTS = ("station_blade_speed", "station_relative_tangential_velocity", "station_relative_velocity",
+                       "station_beta", "station_relative_mach", "station_beta_hub", "station_beta_tip",
+                       "station_relative_mach_hub", "station_relative_mach_tip")
+
+
+def _without_rotor(machine, values):
+    """The station no rotor is next to (compressor outlet, turbine inlet) in the rotor-frame outputs."""
+    if "station_beta" not in values:
+        return {}
+    count = values["stage_count"]
+    columns = np.arange(values["station_beta"].shape[1])
+    lone = 2 * count if machine == "compressor" else np.zeros_like(count)
+    mask = (columns[None, :] == lone[:, None]) & (count[:, None] > 0)
+    return {name: mask for name in ROTOR_FRAME_OUTPUTS}
 
 
 def _width(name, stages):
@@ -645,4 +769,5 @@ def _checks(machine, values):
         checks["stage_pressure_ratio"] = split.compressor_stage_pressure_ratio_check(values["stage_pressure_ratio"])
     checks["stage_loading_coefficient"] = split.stage_loading_check(machine, values["stage_loading_coefficient"])
     checks.update(blade_rows.row_checks(machine, values))
+    checks.update(machine_span.span_checks(machine, values))
     return checks

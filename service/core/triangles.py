@@ -53,6 +53,44 @@ def _check_machine(machine):
         raise ValueError(f"machine must be one of {MACHINES}, not {machine!r}")
 
 
+def angular_velocity(shaft_speed):
+    """Angular velocity of a shaft.
+
+    .. math:: \\Omega = 2 \\pi N / 60
+
+    Parameters
+    ----------
+    shaft_speed : array_like
+        Shaft speed. [rev min^-1]
+
+    Returns
+    -------
+    numpy.ndarray
+        Angular velocity. [rad s^-1]
+    """
+    return np.asarray(shaft_speed, dtype=float) * (2.0 * np.pi / 60.0)
+
+
+def blade_speed(radius, shaft_speed):
+    """Blade speed at a radius.
+
+    .. math:: U = \\Omega r = 2 \\pi r N / 60
+
+    Parameters
+    ----------
+    radius : array_like
+        Radius. [m]
+    shaft_speed : array_like
+        Shaft speed. [rev min^-1]
+
+    Returns
+    -------
+    numpy.ndarray
+        Blade speed. [m s^-1]
+    """
+    return np.asarray(radius, dtype=float) * angular_velocity(shaft_speed)
+
+
 def rotor_swirl_from_duty(machine, loading_coefficient, reaction, blade_speed):
     """Rotor inlet and outlet tangential velocities from the duty coefficients.
 

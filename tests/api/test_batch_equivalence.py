@@ -89,7 +89,11 @@ FORMS = {
          "chord": uniform(0.01, 0.2), "mean_radius": uniform(0.05, 1.0)},
         {"row": opt("rotor"), "axial_velocity": uniform(50.0, 250.0), "outlet_axial_velocity": uniform(50.0, 250.0),
          "inlet_angle": uniform(-70.0, 70.0), "outlet_angle": uniform(-70.0, 70.0), "inlet_radius": uniform(0.1, 0.6),
-         "outlet_radius": uniform(0.1, 0.6), "chord": uniform(0.01, 0.2), "pitch": uniform(0.005, 0.2)},
+         "outlet_radius": uniform(0.1, 0.6), "shaft_speed": uniform(1000.0, 20000.0), "chord": uniform(0.01, 0.2),
+         "pitch": uniform(0.005, 0.2)},
+        {"row": opt("stator"), "axial_velocity": uniform(50.0, 250.0), "inlet_angle": uniform(-70.0, 70.0),
+         "outlet_angle": uniform(-70.0, 70.0), "inlet_radius": uniform(0.1, 0.6), "outlet_radius": uniform(0.1, 0.6),
+         "solidity": uniform(0.3, 3.0)},
     ],
 }
 

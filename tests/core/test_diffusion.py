@@ -120,6 +120,53 @@ def test_radius_change_form_depends_only_on_radius_ratio_and_angular_momentum():
                     rtol=1e-13)
 
 
+def test_rotor_with_radius_change_uses_the_absolute_angular_momentum_derived_from_the_torque():
+    # Derivation (Euler's turbomachinery equation, e.g. Dixon & Hall 2014, ch. 1): the torque on a
+    # blade row per unit mass flow is r2 Vtheta2 - r1 Vtheta1 in ABSOLUTE swirl; that is the blade
+    # loading NASA SP-36's radius-change form divides by (r1 + r2) sigma V1. In a rotor's frame
+    # Vtheta = Wtheta + Omega r, so r2 Wtheta2 - r1 Wtheta1 differs from it by Omega (r2^2 - r1^2),
+    # the Coriolis term. Case of the physics review (issue 19): r 0.30 -> 0.33 m, Omega 1000 rad/s,
+    # V_x 150 m/s, absolute Vtheta 90 -> 210 m/s, sigma 1.2; the torque form gives 0.4725.
+    omega, r1, r2, vx, vt1, vt2, sigma = 1000.0, 0.30, 0.33, 150.0, 90.0, 210.0, 1.2
+    wt1, wt2 = vt1 - omega * r1, vt2 - omega * r2
+    w1, w2 = math.hypot(vx, wt1), math.hypot(vx, wt2)
+    torque_per_mass_flow = r2 * vt2 - r1 * vt1
+    expected = 1.0 - w2 / w1 + torque_per_mass_flow / ((r1 + r2) * sigma * w1)
+    assert_allclose(expected, 0.4725, atol=5e-5)  # the review's figure, to its 4 digits
+    rpm = omega * 60.0 / (2.0 * math.pi)
+    beta1, beta2 = math.degrees(math.atan2(wt1, vx)), math.degrees(math.atan2(wt2, vx))
+    result = evaluate_diffusion_analysis("rotor", vx, beta1, beta2, solidity=sigma, inlet_radius=r1,
+                                         outlet_radius=r2, shaft_speed=rpm)
+    assert_allclose(result.values["diffusion_factor"], expected, rtol=1e-12)
+    # The relative-swirl form (the Coriolis term counted as loading) is the wrong 0.3756.
+    wrong = 1.0 - w2 / w1 + abs(r2 * wt2 - r1 * wt1) / ((r1 + r2) * sigma * w1)
+    assert_allclose(wrong, 0.3756, atol=5e-5)
+    assert abs(float(result.values["diffusion_factor"]) - wrong) > 0.09
+    # Sizing inverts it.
+    sizing = evaluate_diffusion_sizing("rotor", vx, beta1, beta2, float(expected), inlet_radius=r1,
+                                       outlet_radius=r2, shaft_speed=rpm)
+    assert_allclose(sizing.values["solidity"], sigma, rtol=1e-12)
+
+
+def test_rotor_with_equal_radii_and_shaft_speed_is_the_plain_form_bit_for_bit():
+    # With r1 = r2 the blade-speed terms cancel exactly (2 Omega (r2 - r1) = 0): Lieblein's plain form.
+    plain = evaluate_diffusion_analysis("rotor", 150.0, -55.0, -30.0, solidity=1.3)
+    same = evaluate_diffusion_analysis("rotor", 150.0, -55.0, -30.0, solidity=1.3, inlet_radius=0.4,
+                                       outlet_radius=0.4, shaft_speed=12000.0)
+    assert_array_equal(same.values["diffusion_factor"], plain.values["diffusion_factor"])
+
+
+def test_shaft_speed_is_refused_where_it_does_not_apply_and_required_where_it_does():
+    with pytest.raises(ValueError, match="needs shaft_speed"):
+        evaluate_diffusion_analysis("rotor", 150.0, -55.0, -30.0, solidity=1.3, inlet_radius=0.3,
+                                    outlet_radius=0.33)
+    with pytest.raises(ValueError, match="shaft_speed applies only to a rotor row"):
+        evaluate_diffusion_analysis("stator", 150.0, 45.0, 15.0, solidity=1.3, inlet_radius=0.3,
+                                    outlet_radius=0.33, shaft_speed=9000.0)
+    with pytest.raises(ValueError, match="shaft_speed applies only to a rotor row"):
+        evaluate_diffusion_sizing("rotor", 150.0, -55.0, -30.0, 0.45, shaft_speed=9000.0)
+
+
 # --- signs --------------------------------------------------------------------------------------
 
 
@@ -192,7 +239,7 @@ def test_blade_count_rounds_up_but_not_for_round_off():
 def test_sizing_then_analysis_gives_back_the_target():
     # Every sizing is the inverse of its analysis (DESIGN quality bar), plain and SP-36 forms.
     targets = np.array([0.40, 0.45, 0.58])  # above 1 - cos 58 / cos 32 = 0.375
-    for radii in ({}, {"inlet_radius": 0.30, "outlet_radius": 0.33}):
+    for radii in ({}, {"inlet_radius": 0.30, "outlet_radius": 0.33, "shaft_speed": 9000.0}):
         sizing = evaluate_diffusion_sizing("rotor", 150.0, -58.0, -32.0, targets, **radii)
         analysis = evaluate_diffusion_analysis("rotor", 150.0, -58.0, -32.0,
                                                solidity=sizing.values["solidity"], **radii)

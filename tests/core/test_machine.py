@@ -59,25 +59,58 @@ def test_continuity_holds_at_every_station(base, layout):
     assert_allclose(v[f"station_{held}"], layout[held], rtol=1e-12)
 
 
+def station_blade_speeds(values, shaft_speed, case=0):
+    """U = 2 pi N r / 60 at every station's own mean radius, from the answer's radii (derived here)."""
+    return 2.0 * np.pi * shaft_speed / 60.0 * values["station_mean_radius"][case]
+
+
+def rotor_station_pairs(machine_name, n):
+    """(inlet, outlet) station index (from 0) of every rotor: compressor 2i -> 2i+1, turbine 2i+1 -> 2i+2."""
+    first = 2 * np.arange(n) + (0 if machine_name == "compressor" else 1)
+    return first, first + 1
+
+
 @pytest.mark.parametrize(("base", "layout"), CASES)
-def test_euler_work_of_the_stations_adds_up_to_the_overall_work(base, layout):
-    # Euler's equation, written out here from the station velocities: dh0 = U (Vtheta_out - Vtheta_in) across
-    # each rotor (compressor rotor: stations 2i-1 -> 2i; turbine rotor: 2i -> 2i+1), its sign giving work in
-    # or out; the stages must add up to cp (T0_out - T0_in) of the whole machine.
+def test_euler_work_from_the_station_radii_adds_up_to_the_overall_work(base, layout):
+    # Euler's equation, written out here from the answer's own station radii, shaft speed and swirl:
+    # dh0 = U_out Vtheta_out - U_in Vtheta_in across each rotor (compressor work in; turbine work out,
+    # the sign reversed), each U at its station's own radius (DESIGN: blade speed belongs to a radius).
+    # The stages must add up to cp (T0_out - T0_in) of the whole machine (issue 13: to rounding).
     result = design(base, **layout)
     v = result.values
     n = int(v["stage_count"][0])
-    u = v["stage_blade_speed"][0]
+    u = station_blade_speeds(v, base["shaft_speed"])
     swirl = v["station_tangential_velocity"][0]
-    if base["machine"] == "compressor":
-        euler = u * (swirl[1:2 * n:2] - swirl[0:2 * n:2])
-    else:
-        euler = u * (swirl[1:2 * n:2] - swirl[2:2 * n + 1:2])
-    assert_allclose(euler, v["stage_work"][0], rtol=1e-10)
+    inlet, outlet = rotor_station_pairs(base["machine"], n)
+    euler = u[outlet] * swirl[outlet] - u[inlet] * swirl[inlet]
+    if base["machine"] == "turbine":
+        euler = -euler
+    assert_allclose(euler, v["stage_work"][0, :n], rtol=1e-9)
     overall = base["cp"] * abs(v["outlet_total_temperature"][0] - base["total_temperature"])
-    assert_allclose(euler.sum(), overall, rtol=1e-10)
+    assert_allclose(euler.sum(), overall, rtol=1e-9)
     assert_allclose(v["work"][0], overall, rtol=1e-12)
     assert_allclose(v["power"][0], base["mass_flow"] * overall, rtol=1e-12)
+    # The blade speed the answer reports is the one of the station's radius.
+    assert_allclose(v["station_blade_speed"][0, inlet], u[inlet], rtol=1e-9)
+    assert_allclose(v["station_blade_speed"][0, outlet], u[outlet], rtol=1e-9)
+
+
+@pytest.mark.parametrize(("base", "layout"), CASES)
+def test_rothalpy_is_conserved_across_every_rotor(base, layout):
+    # Rothalpy I = h + W^2/2 - U^2/2 = h0 - U Vtheta is constant through an adiabatic rotor
+    # (Dixon & Hall 2014, ch. 1, written out here with h = cp T and the answer's station radii).
+    v = design(base, **layout).values
+    n = int(v["stage_count"][0])
+    u = station_blade_speeds(v, base["shaft_speed"])
+    rothalpy = (base["cp"] * v["station_static_temperature"][0] + v["station_relative_velocity"][0] ** 2 / 2
+                - u ** 2 / 2)
+    inlet, outlet = rotor_station_pairs(base["machine"], n)
+    assert_allclose(rothalpy[outlet], rothalpy[inlet], rtol=1e-9)
+    # Relative frame: W_theta = V_theta - U at the station's own radius.
+    assert_allclose(v["station_relative_tangential_velocity"][0, inlet],
+                    v["station_tangential_velocity"][0, inlet] - u[inlet], rtol=1e-9, atol=1e-9)
+    assert_allclose(v["station_relative_tangential_velocity"][0, outlet],
+                    v["station_tangential_velocity"][0, outlet] - u[outlet], rtol=1e-9, atol=1e-9)
 
 
 @pytest.mark.parametrize(("base", "layout"), CASES)
@@ -95,12 +128,14 @@ def test_static_states_follow_from_the_totals_and_the_speeds(base, layout):
     assert_allclose(v["station_mach"], v["station_velocity"] / sound, rtol=1e-12)
     assert_allclose(v["station_relative_mach"], v["station_relative_velocity"] / sound, rtol=1e-12)
     assert_allclose(v["station_axial_mach"], v["station_axial_velocity"] / sound, rtol=1e-12)
-    # Relative frame: W_theta = V_theta - U with the station's stage's blade speed.
+    # No rotor is next to the compressor outlet or the turbine inlet: no relative quantities there
+    # (issue 19 item 3).
     n = int(v["stage_count"][0])
-    u = np.repeat(v["stage_blade_speed"][0, :n], 2)
-    u = np.append(u, u[-1]) if base["machine"] == "compressor" else np.insert(u, 0, u[0])
-    assert_allclose(v["station_relative_tangential_velocity"][0], v["station_tangential_velocity"][0] - u,
-                    rtol=1e-12, atol=1e-9)
+    lone = 2 * n if base["machine"] == "compressor" else 0
+    for name in ("station_relative_tangential_velocity", "station_relative_velocity", "station_beta",
+                 "station_relative_mach", "station_blade_speed"):
+        assert np.isnan(v[name][0, lone]), name
+        assert np.isfinite(np.delete(v[name][0, : 2 * n + 1], lone)).all(), name
 
 
 @pytest.mark.parametrize("machine_name", ["compressor", "turbine"])
@@ -142,23 +177,59 @@ def test_the_split_is_the_stage_split_of_the_same_duty(base, layout):
 
 @pytest.mark.parametrize(("base", "layout"), CASES)
 def test_every_stage_has_the_triangles_of_its_own_duty(base, layout):
+    # A stage's duty (flow coefficient, loading, kinematic reaction) is set at its rotor's design station
+    # (compressor rotor inlet, turbine rotor exit) at that station's blade speed: there the triangles of
+    # evaluate_stage_from_duty hold. With the mean radius held, the whole stage is that repeating stage.
     v = design(base, **layout, reaction=np.array([[0.5, 0.55, 0.6, 0.65, 0.7][: layout["stages"]]])).values
     n = layout["stages"]
     stage = triangles.evaluate_stage_from_duty(
         base["machine"], v["stage_flow_coefficient"][0, :n], v["stage_loading_coefficient"][0, :n],
-        v["stage_reaction"][0, :n], v["stage_blade_speed"][0, :n]).values
+        v["stage_kinematic_reaction"][0, :n], v["stage_blade_speed"][0, :n]).values
     beta = v["station_beta"][0]
+    mean_held = "mean_radius" in layout
     if base["machine"] == "compressor":
         rotor_in, rotor_out = beta[0:2 * n:2], beta[1:2 * n:2]
         assert_allclose(rotor_in, stage["beta1"], rtol=1e-12)
-        assert_allclose(rotor_out, stage["beta2"], rtol=1e-12)
-        assert_allclose(v["station_alpha"][0, 1:2 * n:2], stage["alpha2"], rtol=1e-12)
+        assert_allclose(v["station_blade_speed"][0, 0:2 * n:2], v["stage_blade_speed"][0, :n], rtol=1e-12)
+        if mean_held:
+            assert_allclose(rotor_out, stage["beta2"], rtol=1e-12)
+            assert_allclose(v["station_alpha"][0, 1:2 * n:2], stage["alpha2"], rtol=1e-12)
     else:
         rotor_in, rotor_out = beta[1:2 * n:2], beta[2:2 * n + 1:2]
-        assert_allclose(rotor_in, stage["beta2"], rtol=1e-12)
         assert_allclose(rotor_out, stage["beta3"], rtol=1e-12)
-    assert_allclose(v["stage_reaction"][0, 1:n], [0.55, 0.6, 0.65, 0.7][: n - 1], rtol=1e-12)
+        assert_allclose(v["station_blade_speed"][0, 2:2 * n + 1:2], v["stage_blade_speed"][0, :n], rtol=1e-12)
+        if mean_held:
+            assert_allclose(rotor_in, stage["beta2"], rtol=1e-12)
+    assert_allclose(v["stage_kinematic_reaction"][0, 1:n], [0.55, 0.6, 0.65, 0.7][: n - 1], rtol=1e-12)
     assert_allclose(stage["work"], v["stage_work"][0, :n], rtol=1e-12)
+
+
+@pytest.mark.parametrize(("base", "layout"), CASES)
+def test_stage_reaction_is_the_rotor_share_of_the_stage_static_enthalpy_change(base, layout):
+    # Issue 19 item 2: reaction = static enthalpy change in the rotor / in the stage (DESIGN's definition;
+    # Dixon & Hall 2014, ch. 4 and 5), written out here from the answer's static temperatures (cp constant).
+    v = design(base, **layout).values
+    n = int(v["stage_count"][0])
+    t = v["station_static_temperature"][0]
+    first, middle, last = t[0:2 * n:2], t[1:2 * n:2], t[2:2 * n + 1:2]
+    if base["machine"] == "compressor":
+        expected = (middle - first) / (last - first)
+    else:
+        expected = (middle - last) / (first - last)
+    assert_allclose(v["stage_reaction"][0, :n], expected, rtol=1e-12)
+
+
+def test_enthalpy_and_kinematic_reaction_agree_for_a_repeating_stage():
+    # A repeating stage (same velocity at stage inlet and outlet, constant radius and axial velocity):
+    # the enthalpy reaction is the kinematic 1 - (Vtheta1 + Vtheta2) / 2U (Dixon & Hall 2014, ch. 5,
+    # derived from h0 = h + V^2/2 and Euler's equation). Mean radius held, one stage whose outlet swirl is
+    # its inlet swirl: the stage is repeating.
+    v = design(COMPRESSOR, stages=1, mean_radius=0.3, reaction=0.6, pressure_ratio=1.3).values
+    assert_allclose(v["stage_kinematic_reaction"][0, 0], 0.6, rtol=1e-12)
+    assert_allclose(v["stage_reaction"][0, 0], 0.6, rtol=1e-9)
+    # With an outlet swirl other than the inlet's the stage is not repeating, and the two differ.
+    v = design(COMPRESSOR, stages=1, mean_radius=0.3, reaction=0.6, pressure_ratio=1.3, outlet_swirl=0.0).values
+    assert abs(v["stage_reaction"][0, 0] - 0.6) > 1e-3
 
 
 @pytest.mark.parametrize("held", HELD, ids=lambda h: next(iter(h)))
@@ -180,13 +251,18 @@ def test_turbine_rows_are_the_zweifel_sizing_of_their_own_flow(held):
 
 @pytest.mark.parametrize("held", HELD, ids=lambda h: next(iter(h)))
 def test_compressor_rows_are_the_diffusion_sizing_of_their_own_flow(held):
+    # Each row in NASA SP-36's radius-change form between its stations' mean radii (issue 19 item 4), a
+    # rotor's tangential term from the absolute swirl (the shaft speed).
     v = design(COMPRESSOR, stages=4, **held).values
     row = {name: v[name][0] for name in v if name.startswith(("row_", "station_"))}
     for kind, cols in (("rotor", slice(0, None, 2)), ("stator", slice(1, None, 2))):
+        speed = {"shaft_speed": COMPRESSOR["shaft_speed"]} if kind == "rotor" else {}
         sized = diffusion.evaluate_diffusion_sizing(
             kind, row["station_axial_velocity"][:-1][cols], row["row_inlet_angle"][cols],
             row["row_outlet_angle"][cols], 0.45, chord=row["row_chord"][cols], mean_radius=row["row_mean_radius"][cols],
-            outlet_axial_velocity=row["station_axial_velocity"][1:][cols])
+            outlet_axial_velocity=row["station_axial_velocity"][1:][cols],
+            inlet_radius=row["station_mean_radius"][:-1][cols], outlet_radius=row["station_mean_radius"][1:][cols],
+            **speed)
         assert_array_equal(row["row_blade_count"][cols], sized.values["blade_count"])
         assert_allclose(row["row_diffusion_factor"][cols], sized.values["diffusion_factor_achieved"], rtol=1e-12)
         assert_allclose(row["row_de_haller"][cols], sized.values["de_haller"], rtol=1e-12)
@@ -256,8 +332,8 @@ def test_a_compressor_inlet_swirl_sets_the_first_stage_reaction_and_the_outlet_s
     # ch. 5, derived here); the last stator turns to the outlet swirl.
     v = design(COMPRESSOR, stages=4, mean_radius=0.3, inlet_swirl=10.0, outlet_swirl=-5.0).values
     psi = v["stage_loading_coefficient"][0, 0]
-    assert_allclose(v["stage_reaction"][0, 0], 1 - psi / 2 - 0.5 * np.tan(np.radians(10.0)), rtol=1e-12)
-    assert_allclose(v["stage_reaction"][0, 1:4], 0.6, rtol=1e-12)
+    assert_allclose(v["stage_kinematic_reaction"][0, 0], 1 - psi / 2 - 0.5 * np.tan(np.radians(10.0)), rtol=1e-12)
+    assert_allclose(v["stage_kinematic_reaction"][0, 1:4], 0.6, rtol=1e-12)
     assert_allclose(v["station_alpha"][0, 0], 10.0, rtol=1e-12)
     assert_allclose(v["station_alpha"][0, 8], -5.0, rtol=1e-12)
     # The stator between stages turns to the next rotor's inlet angle.
@@ -269,7 +345,7 @@ def test_a_compressor_inlet_swirl_sets_the_first_stage_reaction_and_the_outlet_s
 def test_a_turbine_inlet_swirl_is_the_first_nozzle_inlet_and_leaves_the_reactions():
     v = design(TURBINE, stages=2, mean_radius=0.3, inlet_swirl=0.0).values
     assert_allclose(v["station_alpha"][0, 0], 0.0, atol=1e-12)
-    assert_allclose(v["stage_reaction"][0, :2], 0.45, rtol=1e-12)
+    assert_allclose(v["stage_kinematic_reaction"][0, :2], 0.45, rtol=1e-12)
 
 
 def test_with_the_hub_or_tip_held_each_stage_runs_at_the_mean_radius_of_its_rotors_low_swirl_station():
@@ -438,6 +514,18 @@ def test_hub_to_tip_ratio_for_flow_finds_the_shortest_blade_that_passes_it():
     assert_allclose(ratio, np.sqrt(1 - 0.05 / (np.pi * np.array([0.3, 0.2]) ** 2)), rtol=1e-10)
 
 
+def test_hub_to_tip_ratio_near_a_guess_is_the_closed_form_and_falls_back_without_one():
+    # The same closed-form annulus (A = pi r_t^2 (1 - x^2), derived here) from a guess near the root, far from
+    # it, and with no guess (NaN: the scan from short blades takes over); a flow no annulus passes gives NaN.
+    tip = np.array([0.3, 0.2, 0.25, 0.25])
+    expected = np.sqrt(1 - 0.05 / (np.pi * tip ** 2))
+    expected[3] = np.nan
+    needed = np.array([0.05, 0.05, 0.05, 1.0])
+    ratio = annulus.hub_to_tip_ratio_near("tip", tip, lambda ring, which: ring["area"] / needed[which],
+                                          np.array([0.8, 0.1, np.nan, 0.5]))
+    assert_allclose(ratio, expected, rtol=1e-10)
+
+
 def test_flowpath_row_mean_and_layout():
     assert_allclose(flowpath.row_mean([1.0, 3.0, 7.0]), [2.0, 5.0])
     layout = flowpath.axial_layout(np.array([0.02, 0.03, 0.04]), 0.5)
@@ -448,7 +536,7 @@ def test_flowpath_row_mean_and_layout():
 # --- Properties ------------------------------------------------------------------------------------------
 
 
-@settings(max_examples=30, deadline=None)
+@settings(max_examples=80, deadline=None)
 @given(
     base=st.sampled_from([COMPRESSOR, TURBINE]),
     held=st.sampled_from(HELD),
@@ -459,8 +547,10 @@ def test_flowpath_row_mean_and_layout():
     fraction=st.floats(0.0, 1.0),
 )
 def test_every_closed_layout_conserves_mass_and_work(base, held, stages, phi, reaction, speed, fraction):
-    # Whatever the duty, a case either fails with a reason or closes: continuity at every station and the
-    # stages' Euler work adding up to the machine's total temperature change (both derived here).
+    # Whatever the duty and whichever radius is held, a case either fails with a reason or closes
+    # (issue 13): continuity at every station, each stage's Euler work from the answer's own station radii
+    # (U = Omega r at each station) equal to its work and adding up to the machine's total temperature
+    # change, and the rothalpy h + W^2/2 - U^2/2 the same on both sides of every rotor (all derived here).
     result = design(base, stages=stages, flow_coefficient=phi, reaction=reaction, shaft_speed=speed,
                     rotor_loss_fraction=fraction, **held)
     found = reasons(result)[0]
@@ -470,12 +560,52 @@ def test_every_closed_layout_conserves_mass_and_work(base, held, stages, phi, re
         return
     flow = v["station_density"] * v["station_axial_velocity"] * v["station_area"]
     assert_allclose(flow, base["mass_flow"], rtol=1e-10)
-    swirl, u = v["station_tangential_velocity"][0], v["stage_blade_speed"][0]
+    ring = np.pi * (v["station_tip_radius"] ** 2 - v["station_hub_radius"] ** 2)
+    assert_allclose(ring, v["station_area"], rtol=1e-9)
     n = stages
-    if base["machine"] == "compressor":
-        euler = u * (swirl[1:2 * n:2] - swirl[0:2 * n:2])
-    else:
-        euler = u * (swirl[1:2 * n:2] - swirl[2:2 * n + 1:2])
+    swirl = v["station_tangential_velocity"][0]
+    u = station_blade_speeds(v, speed)
+    inlet, outlet = rotor_station_pairs(base["machine"], n)
+    euler = np.abs(u[outlet] * swirl[outlet] - u[inlet] * swirl[inlet])
+    assert_allclose(euler, v["stage_work"][0, :n], rtol=1e-9)
     assert_allclose(euler.sum(), base["cp"] * abs(v["outlet_total_temperature"][0] - base["total_temperature"]),
                     rtol=1e-9)
+    rothalpy = base["cp"] * v["station_static_temperature"][0] + v["station_relative_velocity"][0] ** 2 / 2 - u ** 2 / 2
+    assert_allclose(rothalpy[outlet], rothalpy[inlet], rtol=1e-9)
     assert np.all(v["station_axial_mach"] < 1) and np.all(v["station_hub_radius"] > 0)
+
+
+@settings(max_examples=40, deadline=None)
+@given(
+    base=st.sampled_from([COMPRESSOR, TURBINE]),
+    held=st.sampled_from(HELD),
+    stages=st.integers(1, 5),
+    length=st.sampled_from([1e-3, 0.37, 1.0, 25.0, 1e3]),
+    temperature=st.sampled_from([1e-2, 0.5, 1.0, 3.0, 1e2]),
+    pressure=st.sampled_from([1e-6, 1e-2, 1.0, 40.0, 1e6]),
+)
+def test_dimensionless_answers_do_not_depend_on_the_scale(base, held, stages, length, temperature, pressure):
+    # Issue 13: dimensionless outputs are invariant under the scalings the physics has (derived here).
+    # Lengths x L; total temperature x tau, so every velocity (V^2 ~ cp T) and the blade speed scale with
+    # sqrt(tau): shaft speed x sqrt(tau) / L; total pressure x P, so density scales as P / tau and the mass
+    # flow rho V A as P L^2 / sqrt(tau). Angles, Mach numbers, ratios, coefficients and blade counts stay.
+    scaled = {name: value * length for name, value in held.items()}
+    result = design(base, stages=stages, **held)
+    other = design(base, stages=stages, **scaled, total_temperature=base["total_temperature"] * temperature,
+                   total_pressure=base["total_pressure"] * pressure,
+                   shaft_speed=base["shaft_speed"] * np.sqrt(temperature) / length,
+                   mass_flow=base["mass_flow"] * pressure * length ** 2 / np.sqrt(temperature))
+    assert reasons(other) == reasons(result)
+    v, w = result.values, other.values
+    assert_array_equal(w["stage_count"], v["stage_count"])
+    for name in ("station_alpha", "station_beta", "station_mach", "station_relative_mach", "station_axial_mach",
+                 "station_hub_to_tip_ratio", "stage_pressure_ratio", "stage_loading_coefficient",
+                 "stage_flow_coefficient", "stage_reaction", "stage_kinematic_reaction", "row_solidity",
+                 "row_de_haller", "isentropic_efficiency", "row_stagger"):
+        assert_allclose(w[name], v[name], rtol=1e-9, atol=1e-9, err_msg=name)
+    judged = "row_diffusion_factor" if base["machine"] == "compressor" else "row_zweifel_coefficient"
+    assert_allclose(w[judged], v[judged], rtol=1e-9, atol=1e-12)
+    assert_array_equal(w["row_blade_count"], v["row_blade_count"])
+    assert_allclose(w["station_mean_radius"], v["station_mean_radius"] * length, rtol=1e-9)
+    assert_allclose(w["station_static_temperature"], v["station_static_temperature"] * temperature, rtol=1e-9)
+    assert_allclose(w["station_static_pressure"], v["station_static_pressure"] * pressure, rtol=1e-9)
