@@ -29,6 +29,8 @@ BYTES_PER_CASE = {
     "diffusion-factor": {"rows": 900, "columns": 260},
     "stage-split": {"rows": 1_700, "columns": 1_700},
     "machine-design": {"rows": 14_000, "columns": 14_000},
+    # Measured with the compressor example (lieblein_howell, the most outputs): 1,967 and 928 bytes.
+    "stage-efficiency": {"rows": 2_700, "columns": 1_300},
 }
 #: Growth that does not depend on the case count [bytes]: the machine design's first chunk of
 #: cases (its intermediate arrays, and the solver's and allocator's working memory) measured
