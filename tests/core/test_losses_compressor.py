@@ -236,3 +236,15 @@ def test_compressor_cases_by_stages():
     assert_allclose(whole.values["total_to_total_efficiency"][2, 1], one.values["total_to_total_efficiency"],
                     rtol=1e-13)
     assert whole.checks["stator_solidity_low"].value.shape == (3, 2)
+
+
+def test_stages_padded_with_nan_are_not_failures():
+    # A machine's stages past its last are NaN-padded: they give NaN losses and no failure of their own.
+    stage = triangles.evaluate_stage_from_duty("compressor", np.array([[0.5, np.nan]]), 0.4, 0.6, 300.0,
+                                               total_temperature=300.0)
+    values = {k: np.where(np.isnan(stage.values["work"]), np.nan, v) for k, v in stage.values.items()}
+    result = evaluate_stage_efficiency("compressor", "lieblein_howell", values, 1005.0, 1.4, 2.5, 3.0,
+                                       rotor_solidity=1.2, stator_solidity=1.1)
+    assert np.isfinite(result.values["total_to_total_efficiency"][0, 0])
+    assert np.isnan(result.values["total_to_total_efficiency"][0, 1])
+    assert not any(np.asarray(mask).any() for _, mask in result.failures)

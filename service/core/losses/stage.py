@@ -247,6 +247,9 @@ def evaluate_stage_efficiency(machine, loss_model, flow: Mapping, cp, gamma, rot
     Returns
     -------
     CaseResults
+        Every output has the shape of the inputs broadcast (e.g. ``(cases, stages)``), and so has
+        every failure mask: a caller with stages reduces a mask over its stage axis itself. A flow
+        given as NaN (stages past a machine's last) gives NaN outputs and no failure.
         Values: ``{row}_loss_coefficient`` (turbine rows: Soderberg's enthalpy loss coefficient on
         the exit kinetic energy; compressor rows: stagnation-pressure loss on the inlet dynamic
         pressure; ``kacker_okapuu``: stagnation-pressure loss on the exit dynamic pressure, Ainley's Y)
@@ -297,9 +300,12 @@ def evaluate_stage_efficiency(machine, loss_model, flow: Mapping, cp, gamma, rot
     values["total_to_total_efficiency"] = tt
     values["total_to_static_efficiency"] = ts
     shape = np.broadcast_shapes(*(np.shape(v) for v in values.values()))
+    # A flow given as NaN (a case that failed upstream, or a machine's stages past its last, padded with
+    # NaN) gives NaN outputs and no reason of its own: the reason is the upstream one, if any.
+    given = np.isfinite(np.asarray(flow["work"], dtype=float))
     failures = [
         (f"the {row} loss is outside its correlation (e.g. an equivalent diffusion ratio past stall)",
-         ~np.isfinite(loss[row])) for row, *_ in rows
+         ~np.isfinite(loss[row]) & given) for row, *_ in rows
     ]
     # A negative total-to-static efficiency is a real answer (the exit static pressure below the inlet
     # total pressure); a total-to-total one is not.
