@@ -101,6 +101,7 @@ from __future__ import annotations
 
 import numpy as np
 
+from service.core.angles import cos_tan
 from service.core.cases import broadcast_cases, masked_results
 from service.core.checks import COMMON_PRACTICE, RuleCheck
 
@@ -137,12 +138,20 @@ def _valid_angles(inlet_angle, outlet_angle):
 
 
 def _loading_per_pitch_ratio(inlet_angle, outlet_angle):
-    """``2 cos^2(alpha2) |tan alpha1 - tan alpha2|``, NaN for angles at or beyond 90 deg."""
+    """``2 cos^2(alpha2) |tan alpha1 - tan alpha2|``, NaN for angles at or beyond 90 deg.
+
+    Evaluated as ``2 cos(alpha2) |sin(alpha1 - alpha2)| / cos(alpha1)`` (the same by the
+    sine of a difference), with the cosines from the complements of the angles
+    (:func:`service.core.angles.cos_tan`): no difference of two large tangents, and an angle
+    within 1e-12 deg of 90 keeps its cosine to full precision.
+    """
     inlet, outlet = broadcast_cases(inlet_angle, outlet_angle)
     valid = _valid_angles(inlet, outlet)
-    a1 = np.radians(np.where(valid, inlet, 0.0))
-    a2 = np.radians(np.where(valid, outlet, 0.0))
-    loading = 2.0 * np.square(np.cos(a2)) * np.abs(np.tan(a1) - np.tan(a2))
+    a1 = np.where(valid, inlet, 0.0)
+    a2 = np.where(valid, outlet, 0.0)
+    cos1, cos2 = cos_tan(a1)[0], cos_tan(a2)[0]
+    with np.errstate(over="ignore"):
+        loading = 2.0 * cos2 * (np.abs(np.sin(np.radians(a1 - a2))) / cos1)
     return np.where(valid, loading, np.nan)
 
 
@@ -235,12 +244,24 @@ def compressibility_factor(outlet_mach, gamma=1.4):
        impact pressure, ``(p0 - p)/q = 1 + M^2/4 + ...``.
     """
     mach, gamma = broadcast_cases(outlet_mach, gamma)
-    x = 0.5 * (gamma - 1.0) * np.square(mach)
-    # expm1/log1p keep the low-Mach limit accurate where p0/p - 1 is a small difference.
-    drop = np.expm1(gamma / (gamma - 1.0) * np.log1p(x))
-    positive = mach > 0
-    factor = 0.5 * gamma * np.square(mach) / np.where(positive, drop, 1.0)
-    return np.where(positive, factor, np.where(mach == 0, 1.0, np.nan))
+    c = gamma / (gamma - 1.0)
+    with np.errstate(divide="ignore", invalid="ignore", over="ignore", under="ignore"):
+        # ln x, x = (gamma - 1) M^2 / 2, from ln M: M^2 leaves the float range (under- or
+        # overflows) at Mach numbers whose factor is still a number.
+        log_x = np.log(0.5 * (gamma - 1.0)) + 2.0 * np.log(mach)
+        x = np.exp(log_x)
+        log_drop_base = np.logaddexp(0.0, log_x)  # ln(1 + x), accurate for tiny and huge x
+        power = c * log_drop_base  # ln(p0 / p)
+        # Small and moderate x: f = c x / expm1(c ln(1 + x)); expm1 keeps the low-Mach limit.
+        direct = c * x / np.expm1(power)
+        # Large x: f = exp(ln c + ln x - ln(expm1(power))), ln(expm1(y)) = y + ln(1 - e^-y).
+        logarithmic = np.exp(np.log(c) + log_x - power - np.log1p(-np.exp(-power)))
+        factor = np.where(log_x > 0.0, logarithmic, direct)
+        # Below M = 1e-100 the factor is 1 to within M^2/4 < 1e-200 (and x underflows).
+        factor = np.where(mach < 1e-100, 1.0, factor)
+    # A factor below the smallest normal number has lost its precision: not a number to report.
+    factor = np.where(factor >= np.finfo(float).tiny, factor, np.nan)
+    return np.where(mach > 0, factor, np.where(mach == 0, 1.0, np.nan))
 
 
 def outlet_mach_from_pressure(inlet_total_pressure, outlet_pressure, gamma=1.4):
@@ -272,8 +293,16 @@ def outlet_mach_from_pressure(inlet_total_pressure, outlet_pressure, gamma=1.4):
     """
     p01, p2, gamma = broadcast_cases(inlet_total_pressure, outlet_pressure, gamma)
     valid = (p2 > 0) & (p2 <= p01)
-    ratio = np.where(valid, p01 / np.where(valid, p2, 1.0), 1.0)
-    mach = np.sqrt(2.0 / (gamma - 1.0) * np.expm1((gamma - 1.0) / gamma * np.log(ratio)))
+    safe_p01 = np.where(valid, p01, 1.0)
+    safe_p2 = np.where(valid, p2, 1.0)
+    with np.errstate(divide="ignore", invalid="ignore"):
+        # ln(p01 / p2): from the exact difference p2 - p01 (Sterbenz) through log1p where the
+        # pressures are within a factor of two, so p2 = p01 (1 - 1e-15) keeps its digits; from the
+        # two logarithms otherwise, so that the ratio itself never overflows.
+        near = -np.log1p((safe_p2 - safe_p01) / safe_p01)
+        far = np.log(safe_p01) - np.log(safe_p2)
+        log_ratio = np.where(safe_p2 >= 0.5 * safe_p01, near, far)
+        mach = np.sqrt(2.0 / (gamma - 1.0) * np.expm1((gamma - 1.0) / gamma * log_ratio))
     return np.where(valid, mach, np.nan)
 
 
@@ -567,12 +596,15 @@ def _loading_and_failures(inlet_angle, outlet_angle, definition, outlet_mach, in
         ]
         outlet_mach = outlet_mach_from_pressure(p01, p2, gamma_b)
     mach, gamma_b = broadcast_cases(outlet_mach, gamma)
+    with np.errstate(invalid="ignore", divide="ignore"):
+        factor = compressibility_factor(mach, gamma_b)
     failures += [
         ("outlet Mach number must be positive", ~(mach > 0)),
         ("gamma must be above 1", ~(gamma_b > 1)),
+        ("the outlet Mach number is so high that the compressibility factor (outlet dynamic head over the "
+         "pressure drop) is below the smallest normal floating-point number", (mach > 0) & ~np.isfinite(factor)),
     ]
-    with np.errstate(invalid="ignore", divide="ignore"):
-        loading = loading * compressibility_factor(mach, gamma_b)
+    loading = loading * factor
     extra["outlet_mach"] = mach
     return loading, failures, extra
 
