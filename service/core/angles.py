@@ -39,3 +39,31 @@ def cos_tan(angle):
     cos = np.sin(np.radians(90.0 - np.abs(angle)))
     with np.errstate(divide="ignore", invalid="ignore"):
         return cos, np.sin(np.radians(angle)) / cos
+
+
+def tangent_difference(first, second):
+    """``tan(second) - tan(first)`` of two flow angles, without cancellation.
+
+    For angles of the same sign it is ``sin(second - first) / (cos(first) cos(second))``: the
+    difference of the angles is exact or nearly so, where the difference of two large, nearly
+    equal tangents would cancel. For angles of opposite signs the tangents add in magnitude, and
+    their difference is taken directly (the difference of the angles could be near 180 deg, where
+    its sine would lose the digits).
+
+    Parameters
+    ----------
+    first, second : array_like
+        Flow angles from axial. [deg]
+
+    Returns
+    -------
+    numpy.ndarray
+        ``tan(second) - tan(first)``. [-]
+    """
+    first = np.asarray(first, dtype=float)
+    second = np.asarray(second, dtype=float)
+    cos1, tan1 = cos_tan(first)
+    cos2, tan2 = cos_tan(second)
+    with np.errstate(divide="ignore", invalid="ignore", over="ignore"):
+        same_sign = np.sin(np.radians(second - first)) / cos1 / cos2
+        return np.where(first * second >= 0, same_sign, tan2 - tan1)

@@ -567,7 +567,7 @@ def evaluate_diffusion_sizing(row, axial_velocity, inlet_angle, outlet_angle, ta
         if chord is not None:
             count = blade_count_for_solidity(chord_, radius, sigma)
             values["blade_count"] = count
-            values["pitch"] = 2.0 * np.pi * radius / count
+            values["pitch"] = radius / count * (2.0 * np.pi)
             values["diffusion_factor_achieved"] = diffusion_factor(
                 v1, v2, flow["inlet_swirl"], flow["outlet_swirl"],
                 solidity_from_blade_count(chord_, radius, count), inlet_radius, outlet_radius)

@@ -38,7 +38,7 @@ from __future__ import annotations
 import numpy as np
 
 from service.core import gas
-from service.core.angles import cos_tan
+from service.core.angles import cos_tan, tangent_difference
 from service.core.cases import broadcast_cases, masked_results
 from service.core.checks import de_haller_check, deceleration_check
 
@@ -118,9 +118,9 @@ def loading_from_angles(machine, flow_coefficient, first_angle, second_angle):
         \\psi = \\pm \\phi (\\tan\\alpha_b - \\tan\\alpha_a)
              = \\pm \\phi \\frac{\\sin(\\alpha_b - \\alpha_a)}{\\cos\\alpha_a \\cos\\alpha_b}
 
-    (``+`` compressor, ``-`` turbine; ``a``, ``b`` the rotor inlet and outlet). The sine of the
-    difference keeps the loading of two nearly equal angles, where the difference of two large
-    tangents would cancel.
+    (``+`` compressor, ``-`` turbine; ``a``, ``b`` the rotor inlet and outlet), from
+    :func:`service.core.angles.tangent_difference`: the loading of two nearly equal angles keeps
+    its digits, where the difference of two large tangents would cancel.
 
     Parameters
     ----------
@@ -140,7 +140,7 @@ def loading_from_angles(machine, flow_coefficient, first_angle, second_angle):
     phi, first, second = broadcast_cases(flow_coefficient, first_angle, second_angle)
     sign = 1.0 if machine == "compressor" else -1.0
     with np.errstate(divide="ignore", invalid="ignore", over="ignore"):
-        return sign * phi * (np.sin(np.radians(second - first)) / cos_tan(first)[0] / cos_tan(second)[0])
+        return sign * phi * tangent_difference(first, second)
 
 
 def stage_triangles(machine, blade_speed, axial_velocity, rotor_inlet_swirl, rotor_outlet_swirl, *,

@@ -101,7 +101,7 @@ from __future__ import annotations
 
 import numpy as np
 
-from service.core.angles import cos_tan
+from service.core.angles import cos_tan, tangent_difference
 from service.core.cases import broadcast_cases, masked_results
 from service.core.checks import COMMON_PRACTICE, RuleCheck
 
@@ -140,18 +140,17 @@ def _valid_angles(inlet_angle, outlet_angle):
 def _loading_per_pitch_ratio(inlet_angle, outlet_angle):
     """``2 cos^2(alpha2) |tan alpha1 - tan alpha2|``, NaN for angles at or beyond 90 deg.
 
-    Evaluated as ``2 cos(alpha2) |sin(alpha1 - alpha2)| / cos(alpha1)`` (the same by the
-    sine of a difference), with the cosines from the complements of the angles
-    (:func:`service.core.angles.cos_tan`): no difference of two large tangents, and an angle
-    within 1e-12 deg of 90 keeps its cosine to full precision.
+    The difference of the tangents from :func:`service.core.angles.tangent_difference` (no
+    cancellation of two large, nearly equal tangents) and the cosine from the complement of the
+    angle (:func:`service.core.angles.cos_tan`: an angle within 1e-12 deg of 90 keeps it).
     """
     inlet, outlet = broadcast_cases(inlet_angle, outlet_angle)
     valid = _valid_angles(inlet, outlet)
     a1 = np.where(valid, inlet, 0.0)
     a2 = np.where(valid, outlet, 0.0)
-    cos1, cos2 = cos_tan(a1)[0], cos_tan(a2)[0]
+    cos2 = cos_tan(a2)[0]
     with np.errstate(over="ignore"):
-        loading = 2.0 * cos2 * (np.abs(np.sin(np.radians(a1 - a2))) / cos1)
+        loading = 2.0 * cos2 * (cos2 * np.abs(tangent_difference(a2, a1)))
     return np.where(valid, loading, np.nan)
 
 
@@ -480,7 +479,9 @@ def pitch_for_blade_count(mean_radius, blade_count):
     """
     radius, count = broadcast_cases(mean_radius, blade_count)
     valid = (radius > 0) & (count >= 1) & (count == np.floor(count)) & np.isfinite(radius)
-    return np.where(valid, 2.0 * np.pi * radius / np.where(valid, count, 1.0), np.nan)
+    with np.errstate(over="ignore"):
+        # r / N first: 2 pi r overflows for radii whose pitch is still a number.
+        return np.where(valid, radius / np.where(valid, count, 1.0) * (2.0 * np.pi), np.nan)
 
 
 def _snap_to_integer(x):
@@ -521,7 +522,8 @@ def blade_count_for_pitch(mean_radius, pitch, rounding="up"):
     radius, pitch = broadcast_cases(mean_radius, pitch)
     valid = (radius > 0) & (pitch > 0) & np.isfinite(radius) & np.isfinite(pitch)
     with np.errstate(over="ignore"):
-        exact = 2.0 * np.pi * np.where(valid, radius, 0.0) / np.where(valid, pitch, 1.0)
+        # r / s first: 2 pi r overflows for radii whose count is still a number.
+        exact = np.where(valid, radius, 0.0) / np.where(valid, pitch, 1.0) * (2.0 * np.pi)
     exact = _snap_to_integer(exact)
     if rounding == "up":
         count = np.ceil(exact)
