@@ -618,7 +618,7 @@ def _finish(values, failures, judged, inputs):
 def evaluate_zweifel_sizing(
     inlet_angle, outlet_angle, axial_chord, mean_radius,
     zweifel_coefficient=OPTIMUM_ZWEIFEL_COEFFICIENT, rounding="up", definition="incompressible",
-    outlet_mach=None, inlet_total_pressure=None, outlet_pressure=None, gamma=1.4,
+    outlet_mach=None, inlet_total_pressure=None, outlet_pressure=None, gamma=1.4, *, loading_per_pitch_ratio=None,
 ):
     """Pitch and whole blade count of a row for a target Zweifel coefficient.
 
@@ -652,6 +652,10 @@ def evaluate_zweifel_sizing(
         Outlet static pressure. [Pa]
     gamma : array_like
         Ratio of specific heats (compressible only). [-]
+    loading_per_pitch_ratio : array_like, optional
+        The incompressible ``2 cos^2(alpha2) |tan alpha1 - tan alpha2|`` where the caller has it
+        from velocities, ``2 Vx |V_theta1 - V_theta2| / V2^2``, more precisely than from angles
+        rounded to degrees (a few ulps short of 90 deg); the angles still decide the failures. [-]
 
     Returns
     -------
@@ -672,6 +676,10 @@ def evaluate_zweifel_sizing(
     loading, failures, extra = _loading_and_failures(
         inlet_angle, outlet_angle, definition, outlet_mach, inlet_total_pressure, outlet_pressure, gamma
     )
+    if loading_per_pitch_ratio is not None:
+        if definition != "incompressible":
+            raise ValueError("loading_per_pitch_ratio applies only to definition='incompressible'")
+        loading = np.where(np.isnan(loading), np.nan, loading_per_pitch_ratio)
     chord, radius, target = broadcast_cases(axial_chord, mean_radius, zweifel_coefficient)
     failures += [
         (NO_TURNING_REASON, loading == 0),

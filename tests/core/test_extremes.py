@@ -242,3 +242,50 @@ def test_blade_counts_and_pitches_at_huge_radii():
     sized = diffusion.evaluate_diffusion_sizing("stator", 150.0, 45.0, 15.0, 0.45, chord=1e306, mean_radius=1e308)
     assert not sized.failed()
     assert rel(sized.values["pitch"], D(1e308) / D(float(sized.values["blade_count"])) * 2 * PI) < RTOL
+
+
+@pytest.mark.parametrize(("a1", "a2"), [(90 - 3e-12, 90 - 1e-12), (89.99999999999997, 89.99999999999999),
+                                        (10.0, 89.99999999999999)])
+def test_stage_diffusion_factors_with_angles_a_few_ulps_short_of_90(a1, a2):
+    # The stage's rows are judged from its velocities, not from its angles rounded to degrees.
+    from service.core import stage
+
+    result = stage.with_diffusion_rows(triangles.evaluate_stage_from_angles("compressor", 300.0, 150.0, a1, a2),
+                                       1.2, 1.1)
+    with localcontext() as ctx:
+        ctx.prec = 60
+        vx, u = D(150.0), D(300.0)
+        swirl = {1: vx * tan_deg(a1), 2: vx * tan_deg(a2), 3: vx * tan_deg(a1)}  # repeating stage: alpha3 = alpha1
+
+        def df(t_in, t_out, sigma):  # NACA RM E53D01 in the row's frame
+            v_in, v_out = (vx * vx + t_in * t_in).sqrt(), (vx * vx + t_out * t_out).sqrt()
+            return 1 - v_out / v_in + abs(t_out - t_in) / (2 * D(sigma) * v_in)
+
+        expected = {"rotor": df(swirl[1] - u, swirl[2] - u, 1.2), "stator": df(swirl[2], swirl[3], 1.1)}
+    for row, value in expected.items():
+        assert rel(result.values[f"{row}_diffusion_factor"], value) < RTOL, row
+
+
+@pytest.mark.parametrize(("a2", "a3", "radius"), [(90 - 1e-12, -30.0, 1e-3),
+                                                  (89.99999999999997, 89.99999999999999 - 1e-13, 1e6),
+                                                  (70.0, -(90 - 3e-12), 1e-3)])
+def test_stage_zweifel_rows_with_angles_a_few_ulps_short_of_90(a2, a3, radius):
+    # The radius keeps both rows' counts below 2**53 (a row turning from near 90 deg carries a huge load).
+    from service.core import stage
+
+    result = stage.with_zweifel_rows(triangles.evaluate_stage_from_angles("turbine", 300.0, 150.0, a2, a3),
+                                     0.04, radius)
+    assert not result.failed()
+    with localcontext() as ctx:
+        ctx.prec = 60
+        vx, u = D(150.0), D(300.0)
+        swirl = {1: vx * tan_deg(a3), 2: vx * tan_deg(a2), 3: vx * tan_deg(a3)}  # repeating stage: alpha1 = alpha3
+
+        def loading(t_in, t_out):  # Zweifel (1945): 2 cos^2(a_out) |tan a_in - tan a_out| = 2 Vx |dVtheta| / V_out^2
+            return 2 * vx * abs(t_in - t_out) / (vx * vx + t_out * t_out)
+
+        expected = {"stator": loading(swirl[1], swirl[2]), "rotor": loading(swirl[2] - u, swirl[3] - u)}
+    for row, value in expected.items():
+        count = int(result.values[f"{row}_blade_count"])
+        achieved = value * 2 * PI * D(radius) / count / D(0.04)  # Zw = loading s / cx with s = 2 pi r / N
+        assert rel(result.values[f"{row}_zweifel_coefficient_achieved"], achieved) < RTOL, row
