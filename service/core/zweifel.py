@@ -689,7 +689,9 @@ def evaluate_zweifel_sizing(
     ]
     with np.errstate(invalid="ignore", divide="ignore", over="ignore"):
         ratio = _pitch_ratio(loading, target)
-        count = blade_count_for_pitch(radius, ratio * chord, rounding)
+        # The count depends on r / s = (r / cx) / (s / cx) only: in ratios to the chord, the pitch of a
+        # lightly loaded row (s / cx near the float maximum) does not overflow before the count.
+        count = blade_count_for_pitch(radius / chord, ratio, rounding)
         pitch = pitch_for_blade_count(radius, count)
         achieved = loading * pitch / chord
     failures.append(

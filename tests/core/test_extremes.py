@@ -289,3 +289,16 @@ def test_stage_zweifel_rows_with_angles_a_few_ulps_short_of_90(a2, a3, radius):
         count = int(result.values[f"{row}_blade_count"])
         achieved = value * 2 * PI * D(radius) / count / D(0.04)  # Zw = loading s / cx with s = 2 pi r / N
         assert rel(result.values[f"{row}_zweifel_coefficient_achieved"], achieved) < RTOL, row
+
+
+def test_zweifel_sizing_of_a_lightly_loaded_row_with_a_long_chord():
+    # s / cx = 0.8 / loading is near 1e300 and the chord 1e200 m: the pitch s overflows, the count does
+    # not (2 pi r / s is tiny: one blade). Zweifel (1945): Zw = 2 (s/cx) cos^2 a2 |tan a1 - tan a2|.
+    result = zweifel.evaluate_zweifel_sizing(0.0, 1e-299, 1e200, 1e202)
+    assert not result.failed()
+    assert int(result.values["blade_count"]) == 1
+    with localcontext() as ctx:
+        ctx.prec = 60
+        loading = 2 * cos_deg(1e-299) ** 2 * abs(tan_deg(1e-299))
+        achieved = loading * 2 * PI * D(1e202) / D(1e200)
+    assert rel(result.values["zweifel_coefficient_achieved"], achieved) < RTOL
