@@ -89,14 +89,15 @@ def rel(actual, expected) -> float:
 def compressibility_factor(mach, gamma) -> Decimal:
     """NACA Report 1135, eq. 44: f = (gamma M^2 / 2) / ((1 + (gamma - 1) M^2 / 2)^(gamma / (gamma - 1)) - 1).
 
-    For x = (gamma - 1) M^2 / 2 below 1e-100 the series f = 1 - (c - 1) x / 2 + O(x^2), c = gamma / (gamma - 1),
-    from the binomial expansion of the denominator, is exact far beyond the context's precision.
+    For x = (gamma - 1) M^2 / 2 below 1e-30 the series f = 1 - (c - 1) x / 2 + O(x^2), c = gamma / (gamma - 1),
+    from the binomial expansion of the denominator, is exact to the context's precision (the O(x^2) term is
+    below 1e-60), where 1 + x itself would round to 1.
     """
     with localcontext() as ctx:
         ctx.prec = DIGITS + 10
         m, g = D(mach), D(gamma)
         c = g / (g - 1)
         x = (g - 1) / 2 * m * m
-        if x < Decimal("1e-100"):
+        if x < Decimal("1e-30"):
             return 1 - (c - 1) * x / 2
         return c * x / ((c * (1 + x).ln()).exp() - 1)
