@@ -144,7 +144,7 @@ def loading_from_angles(machine, flow_coefficient, first_angle, second_angle):
 
 
 def stage_triangles(machine, blade_speed, axial_velocity, rotor_inlet_swirl, rotor_outlet_swirl, *,
-                    loading_coefficient=None):
+                    loading_coefficient=None, reaction=None):
     """Velocity triangles and duty of a repeating stage from the rotor's swirl.
 
     Parameters
@@ -161,6 +161,9 @@ def stage_triangles(machine, blade_speed, axial_velocity, rotor_inlet_swirl, rot
         The stage loading where the caller knows it exactly (from the duty, or
         :func:`loading_from_angles`); otherwise it follows from the difference of the two
         swirls, which cancels when the loading is small against ``1 - R``. [-]
+    reaction : array_like, optional
+        The reaction where the caller knows it exactly (from the duty); otherwise
+        ``1 - (Vtheta_in + Vtheta_out) / 2U``, right to rounding of its terms. [-]
 
     Returns
     -------
@@ -205,7 +208,8 @@ def stage_triangles(machine, blade_speed, axial_velocity, rotor_inlet_swirl, rot
     out.update(
         flow_coefficient=vx / u,
         loading_coefficient=loading_coefficient,
-        reaction=1.0 - (swirl_in + swirl_out) / (2.0 * u),
+        reaction=(1.0 - (swirl_in + swirl_out) / (2.0 * u) if reaction is None
+                  else broadcast_cases(reaction, u)[0]),
         blade_speed=u,
         axial_velocity=vx,
         work=work,
@@ -265,8 +269,10 @@ def stage_states(machine, triangles, total_temperature, total_pressure, cp, gamm
     return out
 
 
-def _evaluate(machine, blade_speed, axial_velocity, swirl, total_temperature, total_pressure, cp, gamma, loading):
-    values = stage_triangles(machine, blade_speed, axial_velocity, *swirl, loading_coefficient=loading)
+def _evaluate(machine, blade_speed, axial_velocity, swirl, total_temperature, total_pressure, cp, gamma, loading,
+              reaction=None):
+    values = stage_triangles(machine, blade_speed, axial_velocity, *swirl, loading_coefficient=loading,
+                             reaction=reaction)
     failures = []
     if machine == "compressor":
         failures.append(("the rotor does no work on the flow (alpha2 <= alpha1): not a compressor stage",
@@ -329,7 +335,7 @@ def evaluate_stage_from_duty(
     swirl = rotor_swirl_from_duty(machine, loading_coefficient, reaction, blade_speed)
     axial_velocity = np.asarray(flow_coefficient, dtype=float) * blade_speed
     return _evaluate(machine, blade_speed, axial_velocity, swirl, total_temperature, total_pressure, cp, gamma,
-                     loading_coefficient)
+                     loading_coefficient, reaction)
 
 
 def evaluate_stage_from_angles(

@@ -302,3 +302,10 @@ def test_zweifel_sizing_of_a_lightly_loaded_row_with_a_long_chord():
         loading = 2 * cos_deg(1e-299) ** 2 * abs(tan_deg(1e-299))
         achieved = loading * 2 * PI * D(1e202) / D(1e200)
     assert rel(result.values["zweifel_coefficient_achieved"], achieved) < RTOL
+
+
+def test_the_duty_is_reported_as_given():
+    # A reaction of 1e-300 came back as 1 - (Vtheta1 + Vtheta2) / 2U, rounded to 0 or 1e-16.
+    result = triangles.evaluate_stage_from_duty("compressor", 0.5, 0.4, 1e-300, 300.0)
+    assert float(result.values["reaction"]) == 1e-300
+    assert float(result.values["loading_coefficient"]) == 0.4
