@@ -378,8 +378,9 @@ def no_turning_reason(smallest):
     -------
     str
     """
-    return ("the row does not turn the flow (r2 Vtheta2 = r1 Vtheta1): its diffusion factor is "
-            f"{smallest:.3f} (1 - V2/V1) at every solidity, so no solidity gives the target")
+    return ("the row does not turn the flow (its change of r V_theta is below 1e-9 of the inlet speed times the "
+            f"mean radius): its diffusion factor is {smallest:.3f} (1 - V2/V1) at every solidity, so no solidity "
+            "gives the target")
 
 
 def _numbered(reason, number, mask):
