@@ -7,11 +7,15 @@ from marshmallow import Schema
 from service.api.calculation import Calculation, Mode, combine_modes
 from service.api.common import (
     EFFICIENCY_LIMITS,
+    RATIO_LIMITS,
     StageSplitInputs,
     angle,
     integer_output,
+    length,
     output,
     positive,
+    ratio,
+    shaft_speed_field,
 )
 from service.api.fields import Quantity, QuantityPerStage
 from service.core import flowpath, gas, machine_span, zweifel
@@ -19,19 +23,19 @@ from service.core import machine as design
 
 
 class MachineInput(StageSplitInputs):
-    mass_flow = positive("Mass flow. [kg s^-1]", "kg s^-1", required=True)
-    shaft_speed = positive("Shaft speed. [rev min^-1]", "rev min^-1", required=True)
+    mass_flow = Quantity("Mass flow; at least 1e-6 kg/s. [kg s^-1]", "kg s^-1", minimum=1e-6, required=True)
+    shaft_speed = shaft_speed_field("Shaft speed. [rev min^-1]", required=True)
     polytropic_efficiency = Quantity("Polytropic (small-stage) efficiency of every stage. [-]", "-",
                                      **EFFICIENCY_LIMITS, required=True)
-    mean_radius = positive("Mean radius, held constant through the machine. [m]", "m")
-    hub_radius = positive("Hub radius, held constant through the machine. [m]", "m")
-    tip_radius = positive("Tip (casing) radius, held constant through the machine. [m]", "m")
+    mean_radius = length("Mean radius, held constant through the machine. [m]")
+    hub_radius = length("Hub radius, held constant through the machine. [m]")
+    tip_radius = length("Tip (casing) radius, held constant through the machine. [m]")
     max_loading_coefficient = positive(
         "Largest stage loading coefficient (work / blade_speed^2, at each stage's own blade speed) allowed; the "
         "fewest stages that keep every stage within it are found. [-]", "-")
     flow_coefficient = QuantityPerStage(
         "Flow coefficient V_x / U at each stage's mean radius: one value for every stage or a list, front to "
-        "rear. [-]", "-", minimum=0.0, exclusive_minimum=True, required=True)
+        "rear; at least 1e-6. [-]", "-", **RATIO_LIMITS, required=True)
     reaction = QuantityPerStage(
         "Reaction of each stage: one value for every stage or a list, front to rear. For a compressor given "
         "inlet_swirl, the first stage's reaction follows from the swirl and replaces the first value. [-]", "-",
@@ -40,15 +44,15 @@ class MachineInput(StageSplitInputs):
                         "stage's reaction (default: the angle follows from it). Turbine: the first nozzle's inlet "
                         "angle (default: the first rotor's exit angle).")
     outlet_swirl = angle("Compressor: absolute flow angle after the last stator (default: the inlet flow angle).")
-    rotor_aspect_ratio = positive("Blade height over axial chord of every rotor row. [-]", "-", required=True)
-    stator_aspect_ratio = positive("Blade height over axial chord of every stator row. [-]", "-", required=True)
-    zweifel_coefficient = positive("Turbine rows: target Zweifel coefficient, incompressible (default 0.8). [-]", "-",
-                                   load_default=zweifel.OPTIMUM_ZWEIFEL_COEFFICIENT)
+    rotor_aspect_ratio = ratio("Blade height over axial chord of every rotor row. [-]", required=True)
+    stator_aspect_ratio = ratio("Blade height over axial chord of every stator row. [-]", required=True)
+    zweifel_coefficient = ratio("Turbine rows: target Zweifel coefficient, incompressible (default 0.8). [-]",
+                                load_default=zweifel.OPTIMUM_ZWEIFEL_COEFFICIENT)
     target_diffusion_factor = Quantity("Compressor rows: diffusion factor to size every row's solidity for. [-]",
                                        "-", minimum=0.0, maximum=1.0, exclusive_minimum=True,
                                        exclusive_maximum=True)
-    solidity = positive("Compressor rows: solidity (chord over pitch) of every row; the blade count is rounded "
-                        "up. [-]", "-")
+    solidity = ratio("Compressor rows: solidity (chord over pitch) of every row; the blade count is rounded "
+                     "up. [-]")
     axial_gap = Quantity("Axial gap after each row as a fraction of its axial chord (default 0.25, common "
                          "practice). [-]", "-", minimum=0.0, maximum=10.0, load_default=flowpath.DEFAULT_AXIAL_GAP)
     rotor_loss_fraction = Quantity(

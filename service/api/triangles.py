@@ -10,9 +10,11 @@ from service.api.common import (
     InletStateInputs,
     angle,
     integer_output,
+    length,
     machine_field,
     output,
-    positive,
+    ratio,
+    speed,
 )
 from service.api.fields import Option, Quantity
 from service.core import diffusion, gas, span, stage, triangles, zweifel
@@ -20,32 +22,31 @@ from service.core import diffusion, gas, span, stage, triangles, zweifel
 
 class TrianglesInput(GasInputs, InletStateInputs):
     machine = machine_field(required=True)
-    flow_coefficient = positive("Flow coefficient: axial velocity over blade speed. [-]", "-")
-    loading_coefficient = positive(
+    flow_coefficient = ratio("Flow coefficient: axial velocity over blade speed. [-]")
+    loading_coefficient = ratio(
         "Stage loading coefficient: specific work over blade speed squared, positive for both "
-        "machines. [-]", "-")
+        "machines. [-]")
     reaction = Quantity("Reaction: the rotor's share of the stage's static enthalpy change. [-]", "-",
                         minimum=-2.0, maximum=3.0)
-    blade_speed = positive("Blade speed at the mean radius. [m s^-1]", "m s^-1")
-    axial_velocity = positive("Axial velocity, the same at every station. [m s^-1]", "m s^-1")
+    blade_speed = speed("Blade speed at the mean radius. [m s^-1]")
+    axial_velocity = speed("Axial velocity, the same at every station. [m s^-1]")
     alpha1 = angle("Absolute flow angle at station 1 (compressor rotor inlet).")
     alpha2 = angle("Absolute flow angle at station 2 (compressor rotor exit; turbine stator exit).")
     alpha3 = angle("Absolute flow angle at station 3 (turbine rotor exit).")
-    axial_chord = positive("Axial chord of both turbine rows, for their Zweifel blade counts. [m]", "m")
-    blade_height = positive("Blade height of both turbine rows; with aspect_ratio, replaces axial_chord. [m]", "m")
-    aspect_ratio = positive("Blade height over axial chord of both turbine rows. [-]", "-")
-    mean_radius = positive("Mean radius of the stage, for blade counts. [m]", "m")
-    zweifel_coefficient = positive("Target Zweifel coefficient of both turbine rows (default 0.8). [-]", "-",
-                                   load_default=zweifel.OPTIMUM_ZWEIFEL_COEFFICIENT)
-    rotor_solidity = positive("Solidity (chord over pitch) of the compressor rotor, for its diffusion factor. [-]",
-                              "-")
-    stator_solidity = positive("Solidity of the compressor stator, for its diffusion factor. [-]", "-")
-    chord = positive("True chord of both compressor rows, with their blade counts and the mean radius. [m]", "m")
+    axial_chord = length("Axial chord of both turbine rows, for their Zweifel blade counts. [m]")
+    blade_height = length("Blade height of both turbine rows; with aspect_ratio, replaces axial_chord. [m]")
+    aspect_ratio = ratio("Blade height over axial chord of both turbine rows. [-]")
+    mean_radius = length("Mean radius of the stage, for blade counts. [m]")
+    zweifel_coefficient = ratio("Target Zweifel coefficient of both turbine rows (default 0.8). [-]",
+                                load_default=zweifel.OPTIMUM_ZWEIFEL_COEFFICIENT)
+    rotor_solidity = ratio("Solidity (chord over pitch) of the compressor rotor, for its diffusion factor. [-]")
+    stator_solidity = ratio("Solidity of the compressor stator, for its diffusion factor. [-]")
+    chord = length("True chord of both compressor rows, with their blade counts and the mean radius. [m]")
     rotor_blade_count = Quantity("Number of compressor rotor blades. [-]", "-", minimum=1, integer=True)
     stator_blade_count = Quantity("Number of compressor stator blades. [-]", "-", minimum=1, integer=True)
-    hub_radius = positive("Hub radius of the annulus; with tip_radius, the stage's hub and tip values are answered "
-                          "and the mean line is taken at (hub_radius + tip_radius) / 2. [m]", "m")
-    tip_radius = positive("Tip radius of the annulus, above hub_radius. [m]", "m")
+    hub_radius = length("Hub radius of the annulus; with tip_radius, the stage's hub and tip values are answered "
+                        "and the mean line is taken at (hub_radius + tip_radius) / 2. [m]")
+    tip_radius = length("Tip radius of the annulus, above hub_radius. [m]")
     hub_to_tip_ratio = Quantity("Hub radius over tip radius; with mean_radius, the stage's hub and tip values are "
                                 "answered. [-]", "-", minimum=0.0, maximum=1.0, exclusive_minimum=True,
                                 exclusive_maximum=True)

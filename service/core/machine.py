@@ -69,6 +69,7 @@ from __future__ import annotations
 import numpy as np
 
 from service.core import annulus, blade_rows, flowpath, gas, machine_span, split, triangles, zweifel
+from service.core.angles import cos_tan
 from service.core.cases import CaseResults, reason_for
 
 MAX_STAGES = split.MAX_STAGES
@@ -158,6 +159,11 @@ def station_total_states(machine, stage_inlet_total_temperature, stage_outlet_to
 blade_speed = triangles.blade_speed
 
 
+def _tan(angle):
+    """``tan`` of a flow angle [deg], accurate to its last bit before 90 deg (:func:`service.core.angles.cos_tan`)."""
+    return cos_tan(angle)[1]
+
+
 def _low_swirl(u, flow_coefficient, work, reaction, fixed_angle):
     """Absolute swirl at the rotor's low-swirl station (compressor inlet, turbine exit): U (1 - R - psi/2),
     or ``V_x tan(alpha)`` where the angle is fixed (a compressor's inlet swirl)."""
@@ -165,7 +171,7 @@ def _low_swirl(u, flow_coefficient, work, reaction, fixed_angle):
         swirl = u * (1.0 - reaction) - 0.5 * work / u
         if fixed_angle is not None:
             # NaN marks the stages whose inlet swirl is not fixed.
-            swirl = np.where(np.isnan(fixed_angle), swirl, flow_coefficient * u * np.tan(np.radians(fixed_angle)))
+            swirl = np.where(np.isnan(fixed_angle), swirl, flow_coefficient * u * _tan(fixed_angle))
     return swirl
 
 
@@ -366,7 +372,7 @@ def _layout(machine, held, n, p, sp):
         psi = work / np.square(u)
     if machine == "compressor" and p["inlet_swirl"] is not None:
         reaction = reaction.copy()
-        reaction[:, 0] = 1.0 - 0.5 * psi[:, 0] - phi[:, 0] * np.tan(np.radians(p["inlet_swirl"]))
+        reaction[:, 0] = 1.0 - 0.5 * psi[:, 0] - phi[:, 0] * _tan(p["inlet_swirl"])
     design_swirl = _low_swirl(u, phi, work, reaction, None)
 
     # The rotor's other station: its own radius and blade speed, its swirl from Euler's work equation.
@@ -392,14 +398,14 @@ def _layout(machine, held, n, p, sp):
     for target, (a, b) in ((vx_st, (vx, vx)), (swirl_st, (design_swirl, other_swirl)), (u_st, (u, u_other))):
         target[:, design], target[:, other] = a, b
     if machine == "compressor":
-        outlet = np.degrees(np.arctan2(design_swirl[:, 0], vx[:, 0])) if p["outlet_swirl"] is None \
-            else p["outlet_swirl"]
+        # The outlet angle: as given, or the machine's inlet angle (tan alpha1 = V_theta1 / V_x1).
+        outlet_tan = design_swirl[:, 0] / vx[:, 0] if p["outlet_swirl"] is None else _tan(p["outlet_swirl"])
         vx_st[:, -1] = vx[:, -1]
-        swirl_st[:, -1] = vx[:, -1] * np.tan(np.radians(outlet))
+        swirl_st[:, -1] = vx[:, -1] * outlet_tan
     else:
         vx_st[:, 0] = vx[:, 0]
         swirl_st[:, 0] = design_swirl[:, 0] if p["inlet_swirl"] is None else \
-            vx[:, 0] * np.tan(np.radians(p["inlet_swirl"]))
+            vx[:, 0] * _tan(p["inlet_swirl"])
     speed_st = np.hypot(vx_st, swirl_st)
     relative_swirl = swirl_st - u_st
     relative = np.hypot(vx_st, relative_swirl)
@@ -496,7 +502,9 @@ def _input_failures(p, machine):
     ]
     for name in ("inlet_swirl", "outlet_swirl"):
         if p[name] is not None:
-            failures.append((f"{name} must be between -90 and 90 deg", bad(name, -90.0, 89.999999)))
+            with np.errstate(invalid="ignore"):
+                outside = ~(np.abs(p[name]) < 90.0)
+            failures.append((f"{name} must be between -90 and 90 deg, both excluded", outside))
     if machine == "turbine":
         failures.append(("zweifel_coefficient must be positive", bad("zweifel_coefficient")))
     elif p["target_diffusion_factor"] is not None:
