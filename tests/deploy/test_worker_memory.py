@@ -52,9 +52,6 @@ def sizes(monkeypatch):
 
 @pytest.mark.skipif(not Path("/proc/self/statm").exists(), reason="needs /proc")
 def test_resident_size_is_the_kernels_vm_rss():
-    # Free heap that earlier tests left resident would take the block without the resident size
-    # growing: hand it back first, so that the block's pages are new.
-    conf._trim()
     before = conf._resident_bytes()
     np.testing.assert_allclose(before, _vm_rss_bytes(), rtol=0.05)
     # A fresh anonymous mapping, every page written: 64 MB more resident, whatever memory the allocator
