@@ -70,16 +70,14 @@ def _list(description: str, unit: str, integer: bool = False, null_entries: bool
 
 
 _SPAN_WORDS = {
-    "station_tangential_velocity": ("Absolute tangential velocity", "m s^-1"),
     "station_alpha": ("Absolute flow angle from axial", "deg"),
     "station_beta": ("Relative flow angle from axial (null where no rotor is next to the station)", "deg"),
     "station_mach": ("Absolute Mach number", "-"),
     "station_relative_mach": ("Relative Mach number (null where no rotor is next to the station)", "-"),
     "station_axial_mach": ("Axial Mach number", "-"),
-    "station_static_temperature": ("Static temperature", "K"),
     "row_de_haller": ("Outlet over inlet speed in the row's frame", "-"),
-    "row_diffusion_factor": ("Compressor: diffusion factor (NASA SP-36 radius-change form)", "-"),
-    "row_solidity": ("Solidity of the same chord and blade count, sigma_m r_m / r", "-"),
+    "row_diffusion_factor": ("Compressor: diffusion factor (NASA SP-36 radius-change form, the solidity of the "
+                             "same chord and blade count sigma_m r_m / r)", "-"),
 }
 
 

@@ -48,11 +48,11 @@ SPAN_ENDS = ("hub", "tip")
 #: tip clearance held in manufacture is several per cent of the height). [m]
 SMALLEST_BLADE_HEIGHT = 0.010
 
-#: Station outputs answered at the hub and the tip.
-STATION_OUTPUTS = ("station_tangential_velocity", "station_alpha", "station_beta", "station_mach",
-                   "station_relative_mach", "station_axial_mach", "station_static_temperature")
+#: Station outputs answered at the hub and the tip (the rest follows from them and the mean line:
+#: V_theta = V_x tan(alpha) with V_x uniform; kept few, since every list is paid for in every answer).
+STATION_OUTPUTS = ("station_alpha", "station_beta", "station_mach", "station_relative_mach", "station_axial_mach")
 #: Row outputs answered at the hub and the tip.
-ROW_OUTPUTS = ("row_de_haller", "row_diffusion_factor", "row_solidity")
+ROW_OUTPUTS = ("row_de_haller", "row_diffusion_factor")
 
 
 def free_vortex_station(radius, mean_radius, axial_velocity, tangential_velocity, total_temperature,
@@ -185,7 +185,8 @@ def spanwise(machine, stations, rows, stage_count, shaft_speed, cp, gamma, rotor
         for name in STATION_OUTPUTS:
             values[f"{name}_{end}"] = at[name]
         for name, array in _rows_at(machine, end, at, stations, rows, shaft_speed).items():
-            values[f"{name}_{end}"] = array
+            if name in ROW_OUTPUTS:
+                values[f"{name}_{end}"] = array
         values[f"stage_reaction_{end}"] = enthalpy_reaction(machine, at["station_static_temperature"])
     design, other = rotor_stations(machine, stage_count)
     rotor_inlet = design if machine == "compressor" else other

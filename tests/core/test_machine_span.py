@@ -33,13 +33,16 @@ def test_every_station_is_a_free_vortex_with_uniform_work(base, held):
     v = {name: value[0] for name, value in result.values.items()}
     n = int(v["stage_count"])
     moment = v["station_tangential_velocity"] * v["station_mean_radius"]
+    # V_x is uniform along the span, so V_theta = V_x tan(alpha) at the hub and tip.
+    swirl_at = {end: v["station_axial_velocity"] * np.tan(np.radians(v[f"station_alpha_{end}"]))
+                for end in ("hub", "tip")}
     for end in ("hub", "tip"):
-        assert_allclose(v[f"station_tangential_velocity_{end}"] * v[f"station_{end}_radius"], moment, rtol=1e-12)
+        assert_allclose(swirl_at[end] * v[f"station_{end}_radius"], moment, rtol=1e-12)
     omega = 2 * np.pi * base["shaft_speed"] / 60
     first = 2 * np.arange(n) + (0 if base["machine"] == "compressor" else 1)
     for end in ("hub", "tip"):
         u = omega * v[f"station_{end}_radius"]
-        swirl = v[f"station_tangential_velocity_{end}"]
+        swirl = swirl_at[end]
         work = np.abs(u[first + 1] * swirl[first + 1] - u[first] * swirl[first])
         assert_allclose(work, v["stage_work"][:n], rtol=1e-9)
 
@@ -105,3 +108,23 @@ def test_a_negative_hub_reaction_fails_its_check():
     result = machine.evaluate_machine_design(**{**COMPRESSOR, "reaction": 0.3, "mass_flow": 60.0}, mean_radius=0.3)
     check = result.checks["stage_reaction_hub"]
     assert np.any(check.value < 0) and "fail" in check.status
+
+
+def test_saravanamuttoo_first_rotor_tip_relative_mach_number():
+    # Saravanamuttoo, Rogers, Cohen, Straznicky & Nix, "Gas Turbine Theory", ch. 5, the axial compressor design
+    # example (from memory): axial inflow at 150 m/s, tip speed 350 m/s at the inlet tip radius 0.2262 m,
+    # 288 K: the rotor's inlet tip sees W = sqrt(350^2 + 150^2) = 380.8 m/s at T1 = 288 - 150^2 / 2010 =
+    # 276.8 K, a relative Mach number of about 1.14, the book's figure for the first rotor tip.
+    speed = 350.0 / (2 * np.pi * 0.2262) * 60.0
+    u_mean = 2 * np.pi * 0.1697 * speed / 60.0
+    result = machine.evaluate_machine_design(
+        "compressor", 20.0, 288.0, 1.01e5, 4.15, speed, 0.90, 150.0 / u_mean, 0.5, 3.0, 3.0, mean_radius=0.1697,
+        stages=7, inlet_swirl=0.0, target_diffusion_factor=0.45)
+    tip_mach = result.values["stage_rotor_tip_relative_mach"][0, 0]
+    assert_allclose(tip_mach, 1.14, atol=0.01)
+    # Derived exactly from the answer's own tip radius: W from the tip blade speed and the axial inflow.
+    tip = result.values["station_tip_radius"][0, 0]
+    u_tip = 2 * np.pi * tip * speed / 60.0
+    temperature = 288.0 - 150.0 ** 2 / (2 * 1005.0)
+    assert_allclose(tip_mach, np.hypot(150.0, u_tip) / np.sqrt(1.4 * 1005.0 * 0.4 / 1.4 * temperature), rtol=1e-12)
+    assert result.checks["stage_rotor_tip_relative_mach"].status[0, 0] == "warn"

@@ -8,6 +8,7 @@ import sys
 
 import pytest
 
+from service.api.memory import BYTES_PER_CASE, FIXED_BYTES
 from tests.drills.memory_drill import describe, memory_drill
 
 pytestmark = pytest.mark.skipif(not sys.platform.startswith("linux"), reason="reads /proc")
@@ -15,7 +16,7 @@ pytestmark = pytest.mark.skipif(not sys.platform.startswith("linux"), reason="re
 
 @pytest.mark.parametrize(("name", "shape", "max_memory"), [
     ("triangles", "columns", 48 << 20),
-    ("machine-design", "rows", (96 << 20) + 200 * 14_000),
+    ("machine-design", "rows", FIXED_BYTES["machine-design"] + 200 * BYTES_PER_CASE["machine-design"]["rows"]),
 ])
 def test_a_batch_that_fits_stays_within_the_bound_and_one_more_case_is_413(report_figure, name, shape, max_memory):
     figure = memory_drill(name, shape, max_memory, timeout=120)
