@@ -124,7 +124,7 @@ def verify_rows(workload: Workload, port: int, rows: bytes, answer: dict) -> Non
 
 def measure(workload: Workload, args, service, echo, app) -> list[Figure]:
     single_body = orjson.dumps(workload.single)
-    single = Figure("single case / echo (throughput)", 0.8, True)
+    single = Figure("single case / echo (throughput)", 0.5, True)
     columns = Figure(f"columns {BATCH:,} over HTTP / in process", 2.0, False)
     rows = Figure(f"rows {BATCH:,} / columns {BATCH:,} (HTTP)", 3.0, False)
     growth = Figure(f"in process {LARGE_BATCH:,} / {BATCH:,} cases", 12.0, False)
