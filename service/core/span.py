@@ -271,15 +271,7 @@ def span_triangles(machine, blade_speed, axial_velocity, rotor_inlet_swirl, roto
             # V_x = V_xm sqrt(1 + ...) is exactly V_xm at the mean radius.
             vx = np.where(vx_squared > 0, vxm * np.sqrt(np.abs(vx_squared / (vxm * vxm))), np.nan)
         out[f"Vx_squared{k}"] = vx_squared
-        out[f"alpha{k}"] = np.degrees(np.arctan2(swirl[k], vx))
-        out[f"Vx{k}"] = vx
-        out[f"Vtheta{k}"] = swirl[k]
-        out[f"V{k}"] = np.hypot(vx, swirl[k])
-    for k in (rotor_in, rotor_out):
-        relative_swirl = swirl[k] - u
-        out[f"beta{k}"] = np.degrees(np.arctan2(relative_swirl, out[f"Vx{k}"]))
-        out[f"Wtheta{k}"] = relative_swirl
-        out[f"W{k}"] = np.hypot(out[f"Vx{k}"], relative_swirl)
+        out.update(triangles.station_velocities(k, vx, swirl[k], u if k in (rotor_in, rotor_out) else None))
     # Static enthalpies relative to h01 at this radius: h = h0 - V^2 / 2.
     h0 = {1: 0.0, 2: work, 3: work} if machine == "compressor" else {1: 0.0, 2: 0.0, 3: -work}
     h = {k: h0[k] - 0.5 * np.square(out[f"V{k}"]) for k in (1, 2, 3)}

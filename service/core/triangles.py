@@ -181,6 +181,34 @@ def loading_from_angles(machine, flow_coefficient, first_angle, second_angle):
         return sign * phi * tangent_difference(first, second)
 
 
+def station_velocities(station, axial_velocity, tangential_velocity, blade_speed=None):
+    """The absolute (and, at a rotor's station, relative) velocities of one station.
+
+    Parameters
+    ----------
+    station : int
+        Station number, the suffix of the names. [-]
+    axial_velocity, tangential_velocity : array_like
+        ``V_x`` and the absolute ``V_theta``. [m s^-1]
+    blade_speed : array_like, optional
+        ``U`` at a rotor's station: adds the relative frame, ``W_theta = V_theta - U``. [m s^-1]
+
+    Returns
+    -------
+    dict of numpy.ndarray
+        ``alpha{k}`` [deg], ``Vx{k}``, ``Vtheta{k}``, ``V{k}`` [m s^-1]; with a blade speed also
+        ``beta{k}`` [deg], ``Wtheta{k}``, ``W{k}`` [m s^-1].
+    """
+    vx, swirl = axial_velocity, tangential_velocity
+    out = {f"alpha{station}": np.degrees(np.arctan2(swirl, vx)), f"Vx{station}": vx, f"Vtheta{station}": swirl,
+           f"V{station}": np.hypot(vx, swirl)}
+    if blade_speed is not None:
+        relative_swirl = swirl - blade_speed
+        out.update({f"beta{station}": np.degrees(np.arctan2(relative_swirl, vx)),
+                    f"Wtheta{station}": relative_swirl, f"W{station}": np.hypot(vx, relative_swirl)})
+    return out
+
+
 def stage_triangles(machine, blade_speed, axial_velocity, rotor_inlet_swirl, rotor_outlet_swirl, *,
                     loading_coefficient=None, reaction=None):
     """Velocity triangles and duty of a repeating stage from the rotor's swirl.
@@ -225,15 +253,7 @@ def stage_triangles(machine, blade_speed, axial_velocity, rotor_inlet_swirl, rot
 
     out = {}
     for k in (1, 2, 3):
-        out[f"alpha{k}"] = np.degrees(np.arctan2(swirl[k], vx))
-        out[f"Vx{k}"] = vx
-        out[f"Vtheta{k}"] = swirl[k]
-        out[f"V{k}"] = np.hypot(vx, swirl[k])
-    for k in (rotor_in, rotor_out):
-        relative_swirl = swirl[k] - u
-        out[f"beta{k}"] = np.degrees(np.arctan2(relative_swirl, vx))
-        out[f"Wtheta{k}"] = relative_swirl
-        out[f"W{k}"] = np.hypot(vx, relative_swirl)
+        out.update(station_velocities(k, vx, swirl[k], u if k in (rotor_in, rotor_out) else None))
 
     if loading_coefficient is None:
         sign = 1.0 if machine == "compressor" else -1.0
