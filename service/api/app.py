@@ -13,13 +13,14 @@ from flask import Blueprint, Flask, Response, current_app, request
 from werkzeug.exceptions import RequestEntityTooLarge
 
 from service import __version__
-from service.api import access, jsonparse, jsonwrite, observability
+from service.api import access, csvio, jsonparse, jsonwrite, observability, outputs, query
 from service.api.calculation import Calculation, run_calculation, run_drawing
 from service.api.problems import (
     MALFORMED,
     STOPPED,
     TOO_LARGE,
     Problem,
+    invalid_input,
     problem_response,
     register_error_handlers,
 )
@@ -34,6 +35,7 @@ DEFAULTS = {
     "MAX_CASES": 1_000_000,
     "API_KEYS": None,
     "API_KEYS_FILE": None,
+    "API_KEYS_IN_QUERY": False,
 }
 #: Configuration keys read from ``MEANLINE_<KEY>`` environment variables, with their parsers.
 ENVIRONMENT = {
@@ -41,7 +43,14 @@ ENVIRONMENT = {
     "MAX_CASES": int,
     "API_KEYS": str,
     "API_KEYS_FILE": str,
+    "API_KEYS_IN_QUERY": lambda raw: _flag(raw),
 }
+
+
+def _flag(raw: str) -> bool:
+    if raw.strip().lower() not in ("0", "1", "true", "false", "yes", "no", ""):
+        raise ValueError("give 1 or 0")
+    return raw.strip().lower() in ("1", "true", "yes")
 
 
 def load_config(config: Mapping | None = None) -> dict:
@@ -81,6 +90,7 @@ def create_app(config: Mapping | None = None) -> Flask:
     # metrics (which so see every answer), then the security headers.
     app.wsgi_app = _answer_when_stopped(app.wsgi_app)
     observability.init_app(app)  # before access: its logging is set up for access's start-up notes
+    app.before_request(query.check_api_key_parameter)  # before access: a refused query key is a 400, not a 401
     access.init_app(app)
 
     spec_bytes = orjson.dumps(build_spec(list(CALCULATIONS), __version__))
@@ -88,6 +98,8 @@ def create_app(config: Mapping | None = None) -> Flask:
     for calculation in CALCULATIONS:
         blueprint.add_url_rule(calculation.path, endpoint=calculation.name,
                                view_func=_calculation_view(calculation), methods=["POST"])
+        blueprint.add_url_rule(calculation.path, endpoint=f"{calculation.name}-get",
+                               view_func=_query_view(calculation), methods=["GET"])
     app.register_blueprint(blueprint)
 
     @app.get("/healthz")
@@ -135,13 +147,55 @@ def _calculation_view(calculation: Calculation):
             svg = run_drawing(calculation, read_json(), current_app.config["MAX_CASES"])
             observability.record_cases(1, {})
             return Response(svg, mimetype=SVG)
-        body, size = run_calculation(calculation, read_json(), current_app.config["MAX_CASES"], stream=True)
+        payload = (csvio.rows_payload(calculation, read_csv()) if request.mimetype == csvio.CSV
+                   else read_json())
+        names, payload = outputs.take(payload)
+        select = _selection(calculation, names, request.args.getlist(query.OUTPUT))
+        if csvio.wants_csv(request):
+            body, size = run_calculation(calculation, payload, current_app.config["MAX_CASES"], select=select)
+            observability.record_cases(size, body)
+            return csvio.response(calculation, body)
+        body, size = run_calculation(calculation, payload, current_app.config["MAX_CASES"], stream=True,
+                                     select=select)
         observability.record_cases(size, body)
         return _json(body)
 
     view.__name__ = f"calculate_{calculation.name.replace('-', '_')}"
     return view
 
+
+def _selection(calculation: Calculation, names, parameters: list[str]):
+    """The outputs selected by the body's ``outputs`` or the query's ``output`` (not both)."""
+    if names is not None and parameters:
+        raise invalid_input([(f"/{outputs.BODY_MEMBER}", "Select outputs once: in the body (outputs) or in the "
+                                                         "query (output), not both.", query.OUTPUT)])
+    if names is not None:
+        return outputs.parse(calculation, names)
+    if parameters:
+        return outputs.parse(calculation, [n for p in parameters for n in p.split(",")], query.OUTPUT)
+    return None
+
+
+def _query_view(calculation: Calculation):
+    """``GET /v1/<name>?field=value&...``: one case from the query (see :mod:`service.api.query`)."""
+
+    def view():
+        try:
+            payload, names = query.case_from_query(calculation, request.args)
+            select = outputs.parse(calculation, names, query.OUTPUT) if names is not None else None
+            body, size = run_calculation(calculation, payload, current_app.config["MAX_CASES"], select=select)
+            text = outputs.one_value(calculation, select, body) if select and len(select.items) == 1 else None
+        except Problem as problem:
+            raise query.with_parameters(problem) from None
+        observability.record_cases(size, body)
+        if select is not None and len(select.items) == 1 and not csvio.wants_csv(request):
+            return Response(query.text_of(text), mimetype="text/plain")
+        if csvio.wants_csv(request):
+            return csvio.response(calculation, body)
+        return _json(body)
+
+    view.__name__ = f"query_{calculation.name.replace('-', '_')}"
+    return view
 
 #: Accept headers that ask for JSON (or anything) without any quality weights.
 _PLAIN_ACCEPT = frozenset({"", "*/*", JSON, f"{JSON}, */*", "*/*, application/json"})
@@ -188,6 +242,15 @@ def _too_large(error: RequestEntityTooLarge) -> Response:
 
 def _parse_strictly(body: bytes):
     return json.loads(body.decode("utf-8"), object_pairs_hook=_reject_duplicate_keys, parse_int=_parse_int)
+
+
+def read_csv() -> bytes | bytearray:
+    """The request body of a ``text/csv`` request, within the size limit (as :func:`read_json`)."""
+    body = _request_body()
+    limit = current_app.config["MAX_BODY_BYTES"]
+    if len(body) > limit or (request.content_length is None and len(body) >= limit):
+        raise _body_too_large()
+    return body
 
 
 def read_json():

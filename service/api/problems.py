@@ -80,7 +80,9 @@ def problem_response(problem: Problem, extra_headers=None, identifier: str | Non
     body = {"type": problem.type, "title": problem.title, "status": problem.status, "detail": _utf8(problem.detail)}
     if problem.errors:
         listed = problem.errors[:MAX_LISTED_ERRORS]
-        body["errors"] = [{"pointer": _utf8(pointer), "detail": _utf8(detail)} for pointer, detail in listed]
+        # An entry may name a query parameter too: (pointer, detail, parameter).
+        body["errors"] = [{"pointer": _utf8(pointer), "detail": _utf8(detail),
+                           **({"parameter": _utf8(rest[0])} if rest else {})} for pointer, detail, *rest in listed]
         if len(problem.errors) > len(listed):
             body["errors_not_listed"] = len(problem.errors) - len(listed)
     if has_request_context():
