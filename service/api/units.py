@@ -1,0 +1,113 @@
+"""Quantities given as strings with a unit ("30 mm", "14.696 psi", "518.67 degR"), converted with pint.
+
+Every input quantity documents its SI unit as ``x-unit`` (``"m s^-1"``, ``"J kg^-1 K^-1"``,
+``"rev min^-1"``); :data:`PINT_UNITS` maps each of those spellings to pint's, in this one place.
+A string is a number followed by a unit that pint knows (``30 mm``, ``984.25 ft/s``,
+``45 lb/s``, ``12000 rpm``, ``59 degF``); it is converted to the field's unit and then judged like
+the number itself (range, whole number). A string without a unit is refused: a number is sent as
+a JSON number. Temperatures are absolute (``degF`` and ``degC`` are converted with their offsets).
+A shaft speed in ``Hz`` is refused as ambiguous (pint reads Hz as radians per second, a person as
+revolutions per second): give ``rpm``, ``rev/s`` or ``rad/s``.
+"""
+
+from __future__ import annotations
+
+import functools
+import math
+import re
+
+from marshmallow import ValidationError
+
+#: The ``x-unit`` spellings of the schemas, as pint reads them.
+PINT_UNITS = {
+    "-": "dimensionless",
+    "deg": "degree",
+    "m": "meter",
+    "m^2": "meter ** 2",
+    "m s^-1": "meter / second",
+    "K": "kelvin",
+    "Pa": "pascal",
+    "W": "watt",
+    "J kg^-1": "joule / kilogram",
+    "J kg^-1 K^-1": "joule / kilogram / kelvin",
+    "kg s^-1": "kilogram / second",
+    "kg m^-3": "kilogram / meter ** 3",
+    "rev min^-1": "revolution / minute",
+}
+
+_QUANTITY = re.compile(r"\s*([-+]?(?:[0-9]+\.?[0-9]*|\.[0-9]+)(?:[eE][-+]?[0-9]+)?)\s*(.*?)\s*\Z", re.DOTALL)
+#: Longest unit string read: the usual ones are a few characters; a long one is refused unparsed.
+MAX_LENGTH = 64
+
+
+@functools.cache
+def registry():
+    """pint's unit registry, made on first use (it takes a fraction of a second) and then only read."""
+    import pint
+
+    return pint.UnitRegistry()
+
+
+@functools.lru_cache(maxsize=512)
+def _unit(text: str):
+    return registry().Unit(text)
+
+
+def to_si(text: str, unit: str, field: str) -> float:
+    """The number that ``text`` (a number and a unit) stands for in the field's unit ``unit``.
+
+    Raises
+    ------
+    marshmallow.ValidationError
+        Text that is not a number and a unit; a unit pint does not know; a unit of another
+        dimension (naming the field and both dimensions).
+    """
+    field = field or "this quantity"
+    match = _QUANTITY.match(text) if len(text) <= MAX_LENGTH else None
+    if match is None:
+        raise ValidationError(f"Not a number, nor a number with a unit such as '30 mm': {text[:MAX_LENGTH]!r}.")
+    number, unit_text = match.groups()
+    if not unit_text:
+        raise ValidationError(f"A number in a string: send {number} as a JSON number, or give its unit.")
+    target = PINT_UNITS[unit]
+    if unit == "rev min^-1" and re.search(r"\bHz\b|hertz", unit_text):
+        raise ValidationError("Hz is ambiguous for a shaft speed (revolutions or radians per second): give rpm, "
+                              "rev/s or rad/s.")
+    import pint
+
+    try:
+        given = _unit(unit_text)
+    except (pint.errors.PintError, AttributeError, TypeError, ValueError, SyntaxError):
+        raise ValidationError(f"Unknown unit {unit_text!r} in {text!r}.") from None
+    wanted = _unit(target)
+    if given.dimensionality != wanted.dimensionality:
+        raise ValidationError(
+            f"{field} is a quantity of dimension {_dimension(wanted)} ({unit}); {text!r} has dimension "
+            f"{_dimension(given)}.")
+    try:
+        value = registry().Quantity(float(number), given).to(wanted).magnitude
+    except (pint.errors.PintError, OverflowError, ValueError):
+        raise ValidationError(f"{text!r} cannot be converted to {unit}.") from None
+    if not math.isfinite(value):
+        raise ValidationError("Must be a finite number.")
+    return float(value)
+
+
+def _dimension(unit) -> str:
+    text = str(unit.dimensionality)
+    return text if text != "dimensionless" else "1 (dimensionless)"
+
+
+def column_to_si(values: list, unit: str, field: str) -> tuple[list, dict]:
+    """A column whose strings are converted (numbers kept), and the errors by position."""
+    converted, errors = [], {}
+    for position, value in enumerate(values):
+        if isinstance(value, str):
+            try:
+                value = to_si(value, unit, field)
+            except ValidationError as error:
+                errors[position] = error.messages
+        elif type(value) not in (int, float):
+            errors[position] = ["Not a number."]
+        converted.append(value)
+    return converted, errors
