@@ -20,7 +20,6 @@ from service.api.problems import (
     STOPPED,
     TOO_LARGE,
     Problem,
-    invalid_input,
     problem_response,
     register_error_handlers,
 )
@@ -165,15 +164,14 @@ def _calculation_view(calculation: Calculation):
 
 
 def _selection(calculation: Calculation, names, parameters: list[str]):
-    """The outputs selected by the body's ``outputs`` or the query's ``output`` (not both)."""
-    if names is not None and parameters:
-        raise invalid_input([(f"/{outputs.BODY_MEMBER}", "Select outputs once: in the body (outputs) or in the "
-                                                         "query (output), not both.", query.OUTPUT)])
-    if names is not None:
-        return outputs.parse(calculation, names)
+    """The outputs selected by the body's ``outputs`` and the query's ``output`` (both: all of them)."""
     if parameters:
-        return outputs.parse(calculation, [n for p in parameters for n in p.split(",")], query.OUTPUT)
-    return None
+        listed = [n for p in parameters for n in p.split(",")]
+        if names is None:
+            return outputs.parse(calculation, listed, query.OUTPUT)
+        outputs.parse(calculation, listed, query.OUTPUT)  # each is judged where it was given
+        names = [*names, *listed] if isinstance(names, list) else names
+    return outputs.parse(calculation, names) if names is not None else None
 
 
 def _query_view(calculation: Calculation):
