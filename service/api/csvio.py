@@ -54,7 +54,7 @@ def rows_payload(calculation, body: bytes | bytearray) -> dict:
     if not lines:
         raise invalid_input([("", "The CSV body is empty: send a header line of field names and one case a line.")])
     header = [name.strip() for name in lines[0][1]]
-    errors = [(f"/cases/{column}", f"Header column {column + 1} is empty: name a field.")
+    errors = [("/cases", f"Header column {column + 1} is empty: name a field.")
               for column, name in enumerate(header) if not name]
     repeated = sorted({name for name in header if name and header.count(name) > 1})
     errors += [("/cases", f"The header names {name} more than once.") for name in repeated]
