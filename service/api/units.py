@@ -47,7 +47,9 @@ def registry():
     """pint's unit registry, made on first use (it takes a fraction of a second) and then only read."""
     import pint
 
-    return pint.UnitRegistry()
+    registry = pint.UnitRegistry()
+    registry.define("rev = revolution")  # as in rev/s and rev/min
+    return registry
 
 
 @functools.lru_cache(maxsize=512)
