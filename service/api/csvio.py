@@ -25,7 +25,7 @@ import math
 import numpy as np
 from flask import Response
 
-from service.api.problems import MALFORMED, Problem, invalid_input
+from service.api.problems import Problem, invalid_input
 from service.api.query import typed_value
 
 CSV = "text/csv"
@@ -44,7 +44,7 @@ def rows_payload(calculation, body: bytes | bytearray) -> dict:
     try:
         text = bytes(body).decode("utf-8-sig")
     except UnicodeDecodeError:
-        raise Problem(400, "Malformed CSV", "The body is not UTF-8 text.", MALFORMED) from None
+        raise Problem(400, "Malformed CSV", "The body is not UTF-8 text.", MALFORMED_CSV) from None
     reader = csv.reader(io.StringIO(text, newline=""), strict=True)
     try:
         lines = [(reader.line_num, row) for row in reader if row]

@@ -5,13 +5,15 @@ A selection is a list of names, sent as ``"outputs": [...]`` beside the case, th
 Each name is
 
 - an output of the calculation (``alpha1``): that output;
-- ``checks.NAME``, or a check's bare name where no output has that name: that check's whole entry;
+- ``checks.NAME``: that check's whole entry (a check and an output may share a name, such as
+  ``de_haller_rotor``, so a check is always named with the prefix);
 - ``checks.NAME.status`` or ``checks.NAME.value``: that check too (the part matters only where one
   value is answered, as ``text/plain``).
 
 The answer keeps its shape and ``checks`` (holding only the named checks): it is the full answer
 with everything else left out, and nothing is computed differently. A name that the calculation
-does not know, or a check that none of the request's cases is judged by, is a 422 naming it.
+does not know is a 422 naming it before anything is computed; a check that none of the request's
+cases is judged by, once they are (check names depend on the input mode).
 """
 
 from __future__ import annotations
@@ -85,11 +87,9 @@ def parse(calculation, names, parameter: str = BODY_MEMBER) -> Selection:
                                                         "checks.NAME, checks.NAME.status or checks.NAME.value."))
             else:
                 items.append(("check", check, part or "status"))
-        elif name and all(c.isalnum() or c == "_" for c in name):
-            items.append(("check", name, "status"))  # judged once the checks are known
         else:
-            errors.append(selection.error(position, f"Not an output or check: {name!r}. Outputs: "
-                                                    f"{', '.join(known)}."))
+            errors.append(selection.error(position, f"Not an output of {calculation.name}: {name!r} (a check is "
+                                                    f"named checks.NAME). Outputs: {', '.join(known)}."))
     if errors:
         raise invalid_input(errors)
     return Selection(tuple(items), parameter)

@@ -325,7 +325,7 @@ GET_NOTE = (
 def _selection_schema(calculation: Calculation) -> dict:
     return {"type": "array", "minItems": 1, "description": (
         "Answer only these outputs and checks: output names, `checks.NAME`, `checks.NAME.status` or "
-        "`checks.NAME.value` (a check's bare name where no output has it)."),
+        "`checks.NAME.value`."),
         "items": {"type": "string", "enum": list(calculation.outputs().fields)}}
 
 
