@@ -13,7 +13,7 @@ from flask import Blueprint, Flask, Response, current_app, request
 from werkzeug.exceptions import RequestEntityTooLarge
 
 from service import __version__
-from service.api import access, csvio, jsonparse, jsonwrite, observability, outputs, query
+from service.api import access, csvio, jsonparse, jsonwrite, observability, outputs, query, units
 from service.api.calculation import Calculation, run_calculation, run_drawing
 from service.api.problems import (
     MALFORMED,
@@ -149,11 +149,13 @@ def _calculation_view(calculation: Calculation):
         payload = (csvio.rows_payload(calculation, read_csv()) if request.mimetype == csvio.CSV
                    else read_json())
         names, payload = outputs.take(payload)
+        system, payload = _unit_system(payload)
         select = _selection(calculation, names, request.args.getlist(query.OUTPUT))
-        if csvio.wants_csv(request):
+        if csvio.wants_csv(request) or system == "us":
             body, size = run_calculation(calculation, payload, current_app.config["MAX_CASES"], select=select)
             observability.record_cases(size, body)
-            return csvio.response(calculation, body)
+            body = units.answer_in_us(calculation, body) if system == "us" else body
+            return csvio.response(calculation, body) if csvio.wants_csv(request) else _json(body)
         body, size = run_calculation(calculation, payload, current_app.config["MAX_CASES"], stream=True,
                                      select=select)
         observability.record_cases(size, body)
@@ -161,6 +163,15 @@ def _calculation_view(calculation: Calculation):
 
     view.__name__ = f"calculate_{calculation.name.replace('-', '_')}"
     return view
+
+
+def _unit_system(payload):
+    """The unit system of the answer (the body's ``units`` or the query's ``units``), and the
+    request without it."""
+    if isinstance(payload, dict) and "units" in payload:
+        payload = dict(payload)
+        return units.system(payload.pop("units")), payload
+    return units.system(request.args.get("units"), parameter="units"), payload
 
 
 def _selection(calculation: Calculation, names, parameters: list[str]):
@@ -181,7 +192,9 @@ def _query_view(calculation: Calculation):
         try:
             payload, names = query.case_from_query(calculation, request.args)
             select = outputs.parse(calculation, names, query.OUTPUT) if names is not None else None
+            system = units.system(request.args.get("units"), parameter="units")
             body, size = run_calculation(calculation, payload, current_app.config["MAX_CASES"], select=select)
+            body = units.answer_in_us(calculation, body) if system == "us" else body
             text = outputs.one_value(calculation, select, body) if select and len(select.items) == 1 else None
         except Problem as problem:
             raise query.with_parameters(problem) from None

@@ -33,6 +33,7 @@ from service.api.problems import INVALID_INPUT, Problem, invalid_input
 
 OUTPUT = outputs.QUERY_PARAMETER
 API_KEY = "api_key"
+UNITS = "units"
 #: A JSON number, and nothing else (no nan, inf, hex, underscores or spaces as Python's float takes).
 _NUMBER = re.compile(r"-?(?:0|[1-9][0-9]*)(?:\.[0-9]+)?(?:[eE][-+]?[0-9]+)?\Z")
 _INTEGER = re.compile(r"-?(?:0|[1-9][0-9]*)\Z")
@@ -77,8 +78,8 @@ def case_from_query(calculation, args) -> tuple[dict, list[str] | None]:
         values = args.getlist(key)
         if key == OUTPUT:
             names = [name for value in values for name in value.split(",")]
-        elif key == API_KEY:
-            continue  # access control reads it (where allowed); it is no input
+        elif key in (API_KEY, UNITS):
+            continue  # access control reads the key (where allowed), the view the unit system: no inputs
         elif len(values) > 1 and not isinstance(fields.get(key), QuantityList):
             errors.append((f"/{_escape(key)}", f"Given {len(values)} times: give {key} once.", key))
         else:

@@ -5,6 +5,7 @@ from __future__ import annotations
 from apispec import APISpec
 from apispec.ext.marshmallow import MarshmallowPlugin
 
+from service.api import units
 from service.api.access import API_KEY_HEADER, REALM
 from service.api.calculation import Calculation, Mode
 from service.api.fields import Option, Quantity, QuantityList, QuantityPerStage
@@ -55,7 +56,9 @@ def case_field_property(self, field, ret, **kwargs) -> dict:
     else:
         schema = {"type": "array", "items": _number_schema(field.item), "minItems": 1}
     columns = bool(getattr(field.parent, "columns", False))
-    return _one_or_column(schema) if columns else schema
+    schema = _one_or_column(schema) if columns else schema
+    unit = getattr(field, "unit", None) or getattr(getattr(field, "item", None), "unit", None)
+    return {**schema, "x-unit-us": units.us_unit(unit)} if unit else schema
 
 
 def build_spec(calculations: list[Calculation], version: str) -> dict:
@@ -133,18 +136,22 @@ def _add_calculation(spec: APISpec, plugin, calculation: Calculation) -> None:
     shapes = [
         _ref(f"{prefix}Case"),
         {"type": "object", "title": "Rows", "properties": {
-            "cases": {"type": "array", "items": _ref(f"{prefix}Case"), "minItems": 1}, "outputs": selection},
+            "cases": {"type": "array", "items": _ref(f"{prefix}Case"), "minItems": 1}, "outputs": selection,
+            "units": UNITS_MEMBER},
          "required": ["cases"], "additionalProperties": False},
     ]
     if calculation.columns:
         shapes.append({"type": "object", "title": "Columns", "properties": {"columns": _ref(f"{prefix}Columns"),
-                                                                            "outputs": selection},
+                                                                            "outputs": selection,
+                                                                            "units": UNITS_MEMBER},
                        "required": ["columns"], "additionalProperties": False})
     spec.components.schema(f"{prefix}Request", component={"oneOf": shapes})
 
     outputs = {}
     for name, field in calculation.outputs().fields.items():
         prop = plugin.converter.field2property(field)
+        if "x-unit" in prop:  # the unit of answers asked for with units=us
+            prop["x-unit-us"] = units.us_unit(prop["x-unit"])
         if prop.pop("x-per-stage", False):
             item = prop.get("type", "number")
             # Entries that may not apply (a rotor-frame value at a station without a rotor) are null.
@@ -189,7 +196,8 @@ def _add_calculation(spec: APISpec, plugin, calculation: Calculation) -> None:
         "summary": calculation.summary,
         "description": calculation.description + "\n\n" + CAUTION,
         "security": [{"ApiKey": []}, {"BearerKey": []}],
-        "parameters": [_output_parameter(calculation, "Outputs and checks to answer (as the body's `outputs`).")],
+        "parameters": [_output_parameter(calculation, "Outputs and checks to answer (as the body's `outputs`)."),
+                       UNITS_PARAMETER],
         "requestBody": {"required": True, "description": SELECTION_NOTE, "content": {
             "application/json": {"schema": _ref(f"{prefix}Request")},
             "text/csv": {"schema": {"type": "string", "description": CSV_REQUEST}}}},
@@ -302,7 +310,15 @@ def _add_service_paths(spec: APISpec) -> None:
 SELECTION_NOTE = (
     "One case, rows or columns. Beside the case's fields, the `cases` or the `columns`, `outputs` (a list of "
     "output names, `checks.NAME`, `checks.NAME.status` or `checks.NAME.value`) restricts the answer to those "
-    "outputs and checks.")
+    "outputs and checks, and `units: \"us\"` answers in US customary units. Any input quantity may be a string "
+    "with its unit (`\"30 mm\"`, `\"14.696 psi\"`), converted to the field's `x-unit`.")
+UNITS_DESCRIPTION = (
+    "`si` (the default) or `us`: every output in US customary units, the unit of each given as `x-unit-us` in "
+    "this document (ft, ft s^-1, degR, lbf in^-2, lb s^-1, Btu lb^-1, hp, ...); check values are dimensionless "
+    "and stay as they are.")
+UNITS_MEMBER = {"type": "string", "enum": ["si", "us"], "description": UNITS_DESCRIPTION}
+UNITS_PARAMETER = {"name": "units", "in": "query", "required": False, "description": UNITS_DESCRIPTION,
+                   "schema": {"type": "string", "enum": ["si", "us"]}}
 CSV_REQUEST = (
     "Rows as CSV (RFC 4180): a header line of field names, then one case a line; an empty cell leaves the field "
     "out; a list is one quoted cell of comma-separated numbers. Problems point at `/cases/i/field`: case i is "
@@ -351,6 +367,7 @@ def _get_operation(plugin, prefix: str, calculation: Calculation) -> dict:
             parameter.update(style="form", explode=True)
         parameters.append(parameter)
     parameters.append(_output_parameter(calculation, "With one name: a text/plain answer of that one value."))
+    parameters.append(UNITS_PARAMETER)
     return {
         "operationId": calculation.name.replace("-", "_") + "_query",
         "tags": [calculation.name],

@@ -117,3 +117,81 @@ def column_to_si(values: list, unit: str, field: str) -> tuple[list, dict]:
             errors[position] = ["Not a number."]
         converted.append(value)
     return converted, errors
+
+
+# -- answers in US customary units ---------------------------------------------------------------
+
+#: The unit systems an answer may be given in: ``si`` (the default) or ``us``.
+SYSTEMS = ("si", "us")
+#: The US customary unit of each SI ``x-unit``: (as pint reads it, as written in ``x-unit-us``).
+US_UNITS = {
+    "-": ("dimensionless", "-"),
+    "deg": ("degree", "deg"),
+    "m": ("foot", "ft"),
+    "m^2": ("foot ** 2", "ft^2"),
+    "m s^-1": ("foot / second", "ft s^-1"),
+    "K": ("degree_Rankine", "degR"),
+    "Pa": ("pound_force / inch ** 2", "lbf in^-2"),
+    "W": ("horsepower", "hp"),
+    "J kg^-1": ("Btu / pound", "Btu lb^-1"),
+    "J kg^-1 K^-1": ("Btu / pound / degree_Rankine", "Btu lb^-1 degR^-1"),
+    "kg s^-1": ("pound / second", "lb s^-1"),
+    "kg m^-3": ("pound / foot ** 3", "lb ft^-3"),
+    "rev min^-1": ("revolution / minute", "rev min^-1"),
+}
+
+
+def us_unit(unit: str) -> str:
+    """The ``x-unit-us`` spelling of an SI ``x-unit``."""
+    return US_UNITS[unit][1]
+
+
+@functools.cache
+def us_factor(unit: str) -> float:
+    """US customary value per SI value of a quantity in ``unit`` (absolute temperatures: K to degR
+    is a factor, 1.8, since both scales start at absolute zero)."""
+    return float(registry().Quantity(1.0, PINT_UNITS[unit]).to(US_UNITS[unit][0]).magnitude)
+
+
+def _scaled(value, factor: float):
+    if value is None:
+        return None
+    if isinstance(value, list):
+        return [_scaled(item, factor) for item in value]
+    if hasattr(value, "dtype"):  # a numpy column
+        return value * factor if value.dtype.kind == "f" else [_scaled(v, factor) for v in value.tolist()]
+    return value * factor
+
+
+def answer_in_us(calculation, body: dict) -> dict:
+    """An answer (any shape, not streamed) with every output in its US customary unit. Check
+    values stay as they are: every rule of thumb judges a dimensionless number."""
+    factors = {name: us_factor(field.metadata["x-unit"]) for name, field in calculation.outputs().fields.items()}
+    factors = {name: factor for name, factor in factors.items() if factor != 1.0}
+
+    def convert(case: dict) -> dict:
+        return {name: _scaled(value, factors[name]) if name in factors else value for name, value in case.items()}
+
+    if "results" in body:
+        return {**body, "results": [convert(case) if case is not None else None for case in body["results"]]}
+    if "columns" in body:
+        return {**body, "columns": convert(body["columns"])}
+    return convert(body)
+
+
+def system(value, pointer: str = "/units", parameter: str | None = None) -> str:
+    """The unit system asked for: ``si`` or ``us``.
+
+    Raises
+    ------
+    Problem
+        422 naming the member (or query parameter) for any other value.
+    """
+    if value is None:
+        return "si"
+    if value in SYSTEMS:
+        return value
+    from service.api.problems import invalid_input
+
+    entry = (pointer, f"Must be one of: {', '.join(SYSTEMS)}.")
+    raise invalid_input([entry + ((parameter,) if parameter else ())])

@@ -135,3 +135,66 @@ def test_hz_is_refused_for_a_shaft_speed(client):
     case = {**EXAMPLES["machine-design"].good, "shaft_speed": "200 Hz"}
     problem = strict_json(client.post("/v1/machine-design", json=case).get_data(as_text=True))
     assert [e["pointer"] for e in problem["errors"]] == ["/shaft_speed"] and "rev/s" in problem["errors"][0]["detail"]
+
+
+# SI value per US customary value of each answer's unit, from the NIST SP 811 factors above:
+# lbf = lb x 9.80665 m/s^2 (standard gravity, exact); Btu is pint's ISO Btu (1055.056 J), which
+# differs from SP 811's Btu_IT (1.055 056 E+03, rounded) by about 1e-7; horsepower (550 ft lbf/s)
+# -> watt 7.456 999 E+02 (SP 811 B.8, from memory).
+SI_PER_US = {
+    "-": (1.0, 0), "deg": (1.0, 0), "m": (FT, 1e-12), "m^2": (FT**2, 1e-12), "m s^-1": (FT, 1e-12),
+    "K": (1 / 1.8, 1e-12), "Pa": (LB * 9.80665 / INCH**2, 1e-12), "kg s^-1": (LB, 1e-12),
+    "kg m^-3": (LB / FT**3, 1e-12), "rev min^-1": (1.0, 0), "J kg^-1": (BTU_IT / LB, 1e-6),
+    "J kg^-1 K^-1": (BTU_PER_LB_DEGF, 1e-6), "W": (7.456999e2, 1e-6),
+}
+
+
+@pytest.mark.parametrize(("name", "case"), [
+    ("triangles", EXAMPLES["triangles"].good),
+    ("stage-split", EXAMPLES["stage-split"].variants[0]),
+    ("machine-design", EXAMPLES["machine-design"].good),
+])
+def test_answers_in_us_units_are_the_si_answers_converted(client, name, case):
+    si = strict_json(client.post(f"/v1/{name}", json=case).get_data(as_text=True))
+    us = strict_json(client.post(f"/v1/{name}", json={**case, "units": "us"}).get_data(as_text=True))
+    get = strict_json(client.get(f"/v1/{name}", query_string={
+        **{k: ",".join(map(str, v)) if isinstance(v, list) else v for k, v in case.items()}, "units": "us"})
+        .get_data(as_text=True))
+    assert get == us and us["checks"] == si["checks"]
+    calculation = next(c for c in CALCULATIONS if c.name == name)
+    converted = set()
+    for output, field in calculation.outputs().fields.items():
+        if output not in si:
+            continue
+        factor, rtol = SI_PER_US[field.metadata["x-unit"]]
+        a, b = np.array(si[output], dtype=float), np.array(us[output], dtype=float)
+        np.testing.assert_allclose(b * factor, a, rtol=rtol, atol=0, equal_nan=True, err_msg=output)
+        converted.add(field.metadata["x-unit"])
+    assert {"m s^-1", "K"} <= converted or {"Pa", "K"} <= converted
+
+
+def test_every_documented_unit_has_its_us_unit(spec_document):
+    def walk(node):
+        if isinstance(node, dict):
+            if "x-unit" in node:
+                assert node.get("x-unit-us") == units.us_unit(node["x-unit"]), node
+            for value in node.values():
+                walk(value)
+        elif isinstance(node, list):
+            for value in node:
+                walk(value)
+
+    walk(spec_document["components"])
+
+
+@pytest.fixture(scope="module")
+def spec_document(client):
+    return strict_json(client.get("/v1/openapi.json").get_data(as_text=True))
+
+
+def test_an_unknown_unit_system_is_a_422(client):
+    problem = strict_json(client.post("/v1/triangles", json={**EXAMPLES["triangles"].good, "units": "imperial"})
+                          .get_data(as_text=True))
+    assert [e["pointer"] for e in problem["errors"]] == ["/units"]
+    problem = strict_json(client.get("/v1/triangles?machine=compressor&units=metric").get_data(as_text=True))
+    assert ("/units", "units") in [(e["pointer"], e.get("parameter")) for e in problem["errors"]]

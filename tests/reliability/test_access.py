@@ -284,7 +284,7 @@ def _every_kind_of_response(client):
         "401": client.post("/v1/triangles", json=good),
         "403": client.post("/v1/triangles", json=good, headers={"X-API-Key": WRONG}),
         "404": client.get("/nowhere"),
-        "405": client.get("/v1/triangles"),
+        "405": client.patch("/v1/triangles"),
         "413": client.post("/v1/triangles", data="x" * 2048, content_type="application/json", headers=key),
         "415": client.post("/v1/triangles", data="{}", content_type="text/plain", headers=key),
         "422": client.post("/v1/triangles", json={}, headers=key),
