@@ -171,7 +171,12 @@ def _unit_system(payload):
     if isinstance(payload, dict) and "units" in payload:
         payload = dict(payload)
         return units.system(payload.pop("units")), payload
-    return units.system(request.args.get("units"), parameter="units"), payload
+    return _query_system(), payload
+
+
+def _query_system() -> str:
+    given = request.args.get("units")
+    return units.system(*([given] if given is not None else []), parameter="units")
 
 
 def _selection(calculation: Calculation, names, parameters: list[str]):
@@ -192,7 +197,7 @@ def _query_view(calculation: Calculation):
         try:
             payload, names = query.case_from_query(calculation, request.args)
             select = outputs.parse(calculation, names, query.OUTPUT) if names is not None else None
-            system = units.system(request.args.get("units"), parameter="units")
+            system = _query_system()
             body, size = run_calculation(calculation, payload, current_app.config["MAX_CASES"], select=select)
             body = units.answer_in_us(calculation, body) if system == "us" else body
             text = outputs.one_value(calculation, select, body) if select and len(select.items) == 1 else None

@@ -16,7 +16,7 @@ import functools
 import math
 import re
 
-from marshmallow import ValidationError
+from marshmallow import ValidationError, missing
 
 #: The ``x-unit`` spellings of the schemas, as pint reads them.
 PINT_UNITS = {
@@ -179,15 +179,15 @@ def answer_in_us(calculation, body: dict) -> dict:
     return convert(body)
 
 
-def system(value, pointer: str = "/units", parameter: str | None = None) -> str:
-    """The unit system asked for: ``si`` or ``us``.
+def system(value=missing, pointer: str = "/units", parameter: str | None = None) -> str:
+    """The unit system asked for: ``si`` (also where none is given) or ``us``.
 
     Raises
     ------
     Problem
         422 naming the member (or query parameter) for any other value.
     """
-    if value is None:
+    if value is missing:
         return "si"
     if value in SYSTEMS:
         return value

@@ -198,3 +198,9 @@ def test_an_unknown_unit_system_is_a_422(client):
     assert [e["pointer"] for e in problem["errors"]] == ["/units"]
     problem = strict_json(client.get("/v1/triangles?machine=compressor&units=metric").get_data(as_text=True))
     assert ("/units", "units") in [(e["pointer"], e.get("parameter")) for e in problem["errors"]]
+
+
+def test_a_null_unit_system_is_a_422(client):
+    problem = strict_json(client.post("/v1/triangles", json={"cases": [EXAMPLES["triangles"].good], "units": None})
+                          .get_data(as_text=True))
+    assert problem["status"] == 422 and [e["pointer"] for e in problem["errors"]] == ["/units"]
