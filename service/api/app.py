@@ -180,14 +180,15 @@ def _query_system() -> str:
 
 
 def _selection(calculation: Calculation, names, parameters: list[str]):
-    """The outputs selected by the body's ``outputs`` and the query's ``output`` (both: all of them)."""
-    if parameters:
-        listed = [n for p in parameters for n in p.split(",")]
-        if names is None:
-            return outputs.parse(calculation, listed, query.OUTPUT)
-        outputs.parse(calculation, listed, query.OUTPUT)  # each is judged where it was given
-        names = [*names, *listed] if isinstance(names, list) else names
-    return outputs.parse(calculation, names) if names is not None else None
+    """The outputs selected by the body's ``outputs`` and the query's ``output`` (both: all of them,
+    each list judged where it was given)."""
+    body = outputs.parse(calculation, names) if names is not None else None
+    if not parameters:
+        return body
+    query_selection = outputs.parse(calculation, [n for p in parameters for n in p.split(",")], query.OUTPUT)
+    if body is None:
+        return query_selection
+    return outputs.Selection(body.items + query_selection.items, body.parameter)
 
 
 def _query_view(calculation: Calculation):

@@ -97,3 +97,13 @@ def test_an_unknown_name_is_a_422_naming_it(client, outputs, pointer):
         problem = strict_json(response.get_data(as_text=True))
         assert response.status_code == 422 and problem["type"] == INVALID_INPUT, problem
         assert [error["pointer"] for error in problem["errors"]] == [pointer]
+
+
+def test_outputs_in_the_body_and_the_query_are_judged_each_and_answered_together(client):
+    good = EXAMPLES["triangles"].good
+    response = client.post("/v1/triangles?output=beta1", json={"cases": [good], "outputs": []})
+    assert response.status_code == 422
+    assert [e["pointer"] for e in strict_json(response.get_data(as_text=True))["errors"]] == ["/outputs"]
+    answer = strict_json(client.post("/v1/triangles?output=beta1", json={"cases": [good], "outputs": ["alpha1"]})
+                         .get_data(as_text=True))
+    assert set(answer["results"][0]) == {"alpha1", "beta1", "checks"}
