@@ -182,7 +182,7 @@ def _query_system() -> str:
 def _selection(calculation: Calculation, names, parameters: list[str]):
     """The outputs selected by the body's ``outputs`` and the query's ``output`` (both: all of them,
     each list judged where it was given)."""
-    body = outputs.parse(calculation, names) if names is not None else None
+    body = outputs.parse(calculation, names) if names is not outputs.ABSENT else None
     if not parameters:
         return body
     query_selection = outputs.parse(calculation, [n for p in parameters for n in p.split(",")], query.OUTPUT)

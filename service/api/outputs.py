@@ -145,11 +145,16 @@ def one_value(calculation, selection: Selection, body: dict):
 
 
 def take(payload):
-    """Split a JSON body into its selection (the ``outputs`` member, or None) and the request."""
+    """Split a JSON body into its selection (the ``outputs`` member, or ``ABSENT``) and the request
+    (``"outputs": null`` is a selection, and refused as one)."""
     if isinstance(payload, dict) and BODY_MEMBER in payload:
         payload = dict(payload)
         return payload.pop(BODY_MEMBER), payload
-    return None, payload
+    return ABSENT, payload
+
+
+#: What :func:`take` gives for a body without ``outputs``.
+ABSENT = object()
 
 
 

@@ -89,6 +89,7 @@ def test_a_check_by_its_name_or_its_status(client):
     ([], "/outputs"),
     ("alpha1", "/outputs"),
     ([1], "/outputs"),
+    (None, "/outputs"),
 ])
 def test_an_unknown_name_is_a_422_naming_it(client, outputs, pointer):
     for body in ({**EXAMPLES["triangles"].good, "outputs": outputs}, {"cases": [EXAMPLES["triangles"].good],
