@@ -18,7 +18,7 @@ FLOWPATH = {"machine": "compressor", "mass_flow": 30.0, "total_temperature": 288
             "max_loading_coefficient": 0.38, "flow_coefficient": 0.5, "reaction": 0.6, "rotor_aspect_ratio": 2.5,
             "stator_aspect_ratio": 3.0, "target_diffusion_factor": 0.45}
 TRIANGLES = {"machine": "compressor", "flow_coefficient": 0.5, "loading_coefficient": 0.4, "reaction": 0.6,
-             "blade_speed": 300.0}
+             "blade_speed": 300.0, "mean_radius": 0.3, "hub_to_tip_ratio": 0.7}
 
 
 def main() -> None:

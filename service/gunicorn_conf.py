@@ -18,6 +18,8 @@ from pathlib import Path
 DEFAULT_HOST = "127.0.0.1"
 DEFAULT_PORT = 8080
 DEFAULT_TIMEOUT = 30
+DEFAULT_RECEIVE_TIMEOUT = 10
+DEFAULT_SEND_TIMEOUT = 30
 MIN_DEFAULT_WORKERS = 2
 LOG_LEVELS = ("debug", "info", "warning", "error", "critical")
 ENVIRONMENT_VARIABLES = (
@@ -27,6 +29,8 @@ ENVIRONMENT_VARIABLES = (
     "MEANLINE_TIMEOUT",
     "MEANLINE_GRACEFUL_TIMEOUT",
     "MEANLINE_LOG_LEVEL",
+    "MEANLINE_RECEIVE_TIMEOUT",
+    "MEANLINE_SEND_TIMEOUT",
     "PROMETHEUS_MULTIPROC_DIR",
 )
 
@@ -116,20 +120,30 @@ wsgi_app = "service:create_app()"
 # numpy for no gain. gthread workers would run a worker's requests on one core in turn behind
 # the GIL, adding queueing and memory without adding throughput. One single-threaded process per
 # core is the configuration that uses the CPUs fully and keeps a runaway request isolated: the
-# master kills that one worker after `timeout` and the others carry on. Sync workers are held by
-# slow clients, so in production they sit behind a buffering proxy (ingress, load balancer).
-worker_class = "sync"
+# master kills that one worker after `timeout` and the others carry on. gunicorn's own sync worker
+# waits on a slow client without limit and without a heartbeat (so the master killed it as stuck,
+# also in the middle of an answer); the service's sync worker (service/worker.py) bounds the time it
+# waits for a request (RECEIVE_TIMEOUT) and for the client to take an answer (SEND_TIMEOUT), and
+# keeps its heartbeat while it waits. Many slow clients at once can still hold every worker for
+# that long, so in front of untrusted clients a buffering proxy (ingress, load balancer) remains.
+worker_class = "service.worker.PacedSyncWorker"
 # One worker per usable CPU, but at least two, so a long batch in one worker does not leave the
 # health probes and short requests waiting.
 workers = _env_int("MEANLINE_WORKERS", max(MIN_DEFAULT_WORKERS, available_cpus()), minimum=1, maximum=256)
 threads = 1
-# A sync worker is busy for the whole request, so this is the per-request time limit: a worker
-# that has not answered within it is killed and replaced.
+# The per-request time limit: a worker that has not told the master it is alive within it is
+# stopped (the request answered 503) and replaced. The service's worker keeps telling it while it
+# waits on a client, so this limits the time a request computes without sending.
 timeout = _env_int("MEANLINE_TIMEOUT", DEFAULT_TIMEOUT, minimum=1, maximum=3600)
 # On SIGTERM, workers get this long to finish the request in hand; by default as long as the
 # longest request may take, so a rolling update drops none. Kubernetes' grace period must exceed
 # it (deploy/kubernetes/deployment.yaml).
 graceful_timeout = _env_int("MEANLINE_GRACEFUL_TIMEOUT", timeout, minimum=1, maximum=3600)
+# The most time [s] a worker waits, in total, for a request's bytes (408 past it), and for the
+# client to take an answer (the connection is closed past it). Not gunicorn settings: read by
+# service.worker.PacedSyncWorker.
+RECEIVE_TIMEOUT = _env_int("MEANLINE_RECEIVE_TIMEOUT", DEFAULT_RECEIVE_TIMEOUT, minimum=1, maximum=3600)
+SEND_TIMEOUT = _env_int("MEANLINE_SEND_TIMEOUT", DEFAULT_SEND_TIMEOUT, minimum=1, maximum=3600)
 # Sync workers close the connection after each response and ignore this; it takes effect only if
 # the worker class is ever changed. Two seconds is gunicorn's default.
 keepalive = 2
@@ -200,8 +214,43 @@ def _trim():
 
 
 def post_worker_init(worker):
-    """Note the worker's resident size once the app is loaded, the base of post_request's checks."""
+    """Note the worker's resident size once the app is loaded, the base of post_request's checks,
+    and have gunicorn's own error answers written as problem documents."""
     worker.meanline_start_bytes = _resident_bytes()
+    _answer_server_errors_as_problems()
+
+
+def _server_problem(status, reason, detail):
+    """The bytes of a problem document answering a request that gunicorn refused itself."""
+    import json
+    import uuid
+
+    from service.api.access import SECURITY_HEADERS
+
+    identifier = str(uuid.uuid4())
+    body = json.dumps({"type": "about:blank", "title": reason, "status": status, "detail": detail,
+                       "request_id": identifier}).encode("utf-8")
+    headers = [f"HTTP/1.1 {status} {reason}", "Connection: close", "Content-Type: application/problem+json",
+               f"Content-Length: {len(body)}", "Cache-Control: no-store", f"X-Request-ID: {identifier}",
+               *(f"{name}: {value}" for name, value in SECURITY_HEADERS.items())]
+    return ("\r\n".join(headers) + "\r\n\r\n").encode("latin-1") + body
+
+
+def _answer_server_errors_as_problems():
+    """Replace gunicorn's HTML error page (``gunicorn.util.write_error``) in this worker.
+
+    Gunicorn answers a request it cannot parse itself, before the app sees it: a request line over
+    ``limit_request_line`` (414), too many or too long header fields (431), a malformed request
+    line, header or chunked framing (400), an unsupported transfer coding (501). Its workers write
+    that answer through ``gunicorn.util.write_error``, which has no setting, so this worker's copy
+    of it is replaced by one writing the same status as ``application/problem+json``.
+    """
+    from gunicorn import util
+
+    def write_error(sock, status_int, reason, mesg):
+        util.write_nonblock(sock, _server_problem(int(status_int), reason, mesg or reason))
+
+    util.write_error = write_error
 
 
 def post_request(worker, req, environ, resp):
@@ -230,11 +279,18 @@ def _prometheus_dir():
 
 
 def on_starting(server):
-    """Start with an empty metrics directory, so counters of a previous run are not summed in.
+    """Read the API keys in the master; start with an empty metrics directory.
+
+    The keys (``MEANLINE_API_KEYS``, ``MEANLINE_API_KEYS_FILE``) are read here once, and every
+    worker forked from the master inherits them, so all workers agree, also one that replaces a
+    dead worker after the file changed. A key source that is set but unreadable or empty stops the
+    server (it must not run open by mistake). ``on_reload`` (SIGHUP) reads them again.
 
     Only prometheus_client's ``*.db`` files are removed, never anything else that a
-    misconfigured path might point at.
+    misconfigured path might point at, so counters of a previous run are not summed in.
     """
+    _read_api_keys(server)
+    _derive_max_memory(server)
     directory = _prometheus_dir()
     if directory is None:
         return
@@ -252,3 +308,44 @@ def child_exit(server, worker):
     except ImportError:
         return
     multiprocess.mark_process_dead(worker.pid)
+
+
+# --- API keys --------------------------------------------------------------------------------
+def _read_api_keys(server):
+    from service.api import keys
+
+    try:
+        count = keys.read_for_server()
+    except ValueError as error:
+        server.log.error("API keys: %s; the server does not start", error)
+        raise SystemExit(1) from None
+    server.log.info("API keys read by the master: %d key(s) configured", count)
+
+
+def on_reload(server):
+    """SIGHUP: read the API keys again before the new workers start (the old ones then stop).
+
+    A key source that has turned unreadable or empty keeps the keys read before, and the master
+    logs an error, so a bad file never leaves the service without keys or open.
+    """
+    from service.api import keys
+
+    keys.reload_for_server(logger=server.log)
+
+
+# --- Memory per request ----------------------------------------------------------------------
+def _derive_max_memory(server):
+    """Without MEANLINE_MAX_MEMORY, a request's memory bound from the container's memory limit:
+    the limit less every worker's base memory, shared by the workers (service/api/memory.py).
+    Set in the master's environment, which the workers inherit."""
+    if os.environ.get("MEANLINE_MAX_MEMORY", "").strip():
+        return
+    from service.api import memory
+
+    limit = memory.container_limit()
+    if limit is None:
+        return  # the app's default applies
+    count = getattr(getattr(server, "cfg", None), "workers", None) or workers
+    os.environ["MEANLINE_MAX_MEMORY"] = str(memory.default_max_memory(count, limit))
+    server.log.info("MEANLINE_MAX_MEMORY derived from the container's limit of %d MiB and %d workers: %d MiB "
+                    "per request", limit >> 20, count, int(os.environ["MEANLINE_MAX_MEMORY"]) >> 20)

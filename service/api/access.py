@@ -7,7 +7,11 @@ sources count), every endpoint except the open ones below requires a key, sent a
 ``X-API-Key: <key>`` or ``Authorization: Bearer <key>``:
 
 - no key: 401 with ``WWW-Authenticate: Bearer realm="meanline-service"``;
-- a key that matches none: 403.
+- a key that matches none: 403; so does a request that presents both headers with one of them
+  wrong (every key presented must be right).
+
+Under gunicorn the master reads the keys at start and on SIGHUP, and every worker inherits them
+(:mod:`service.api.keys`), so all workers agree and a bad key file never leaves one without keys.
 
 A presented key is hashed (SHA-256) and compared with the hash of every configured key by
 ``hmac.compare_digest``, without stopping at the first match, so neither the time taken nor
@@ -17,14 +21,13 @@ after start; keys are never logged nor echoed in a response.
 
 from __future__ import annotations
 
-import hashlib
 import hmac
 import logging
 from collections.abc import Iterable
-from pathlib import Path
 
 from flask import Flask, Response, current_app, request
 
+from service.api import keys
 from service.api.problems import FORBIDDEN, UNAUTHORIZED, Problem, problem_response
 from service.api.query import query_keys
 
@@ -46,56 +49,9 @@ _EXTENSION = "meanline_access"
 log = logging.getLogger(__name__)
 
 
-def _digest(key: str) -> bytes:
-    return hashlib.sha256(key.encode("utf-8")).digest()
-
-
-def _checked(keys: Iterable[str], source: str) -> list[str]:
-    checked = []
-    for number, key in enumerate(keys, start=1):
-        key = key.strip()
-        if not key or key.startswith("#"):
-            continue
-        # A key travels in an HTTP header: visible ASCII only. The message names the position,
-        # never the key.
-        if not all("!" <= character <= "~" for character in key):
-            raise ValueError(f"API key {number} of {source} holds characters other than visible ASCII "
-                             "(no spaces, no control characters)")
-        checked.append(key)
-    return checked
-
-
-def load_api_keys(config) -> list[str]:
-    """The configured API keys: ``API_KEYS`` (a comma-separated string or a list) and the lines
-    of the file ``API_KEYS_FILE`` (blank lines and lines starting with ``#`` ignored).
-
-    Raises
-    ------
-    ValueError
-        A source that is set but unreadable or holds no key: the service refuses to start rather
-        than run open by mistake.
-    """
-    keys = []
-    listed = config.get("API_KEYS")
-    if isinstance(listed, str):
-        listed = listed.split(",") if listed.strip() else None
-    if listed is not None:
-        found = _checked(listed, "MEANLINE_API_KEYS (API_KEYS)")
-        if not found:
-            raise ValueError("MEANLINE_API_KEYS (API_KEYS) is set but holds no key")
-        keys += found
-    path = config.get("API_KEYS_FILE")
-    if path is not None and str(path).strip():
-        try:
-            lines = Path(path).read_text(encoding="utf-8").splitlines()
-        except (OSError, UnicodeDecodeError) as error:
-            raise ValueError(f"MEANLINE_API_KEYS_FILE (API_KEYS_FILE) {str(path)!r} cannot be read: "
-                             f"{type(error).__name__}") from None
-        found = _checked(lines, f"MEANLINE_API_KEYS_FILE (API_KEYS_FILE) {str(path)!r}")
-        if not found:
-            raise ValueError(f"MEANLINE_API_KEYS_FILE (API_KEYS_FILE) {str(path)!r} holds no key")
-        keys += found
-    return keys
+_digest = keys.digest
+_checked = keys._checked
+load_api_keys = keys.load_api_keys
 
 
 def presented_keys(headers) -> list[str]:
@@ -133,9 +89,11 @@ def _require_key() -> Response | None:
                     "header or as Authorization: Bearer <key>.", UNAUTHORIZED),
             {"WWW-Authenticate": f'Bearer realm="{REALM}"'},
         )
-    matched = False
+    # Every key presented must be right: a wrong X-API-Key beside a right Bearer token (or the
+    # other way round) is refused. Each is compared in full, whatever the other gave.
+    matched = True
     for key in presented:
-        matched |= key_matches(key, digests)
+        matched &= key_matches(key, digests)
     if not matched:
         return problem_response(Problem(403, "Forbidden", "The API key is not valid.", FORBIDDEN))
     return None
@@ -160,13 +118,22 @@ def _with_security_headers(wsgi_app):
     return app
 
 
-def init_app(app: Flask) -> None:
-    """Read the keys from ``app.config``, require them where they apply, add the security headers."""
-    keys = load_api_keys(app.config)
-    app.extensions[_EXTENSION] = tuple(_digest(key) for key in dict.fromkeys(keys))
-    if keys:
-        log.info("API key required on every endpoint but %s (%d keys configured)",
-                 ", ".join(sorted(OPEN_ROUTES)), len(set(keys)))
+def init_app(app: Flask, configured: bool = False) -> None:
+    """Read the keys, require them where they apply, add the security headers.
+
+    Under gunicorn the keys are the ones the master read (at start or on its last SIGHUP), the
+    same in every worker, unless ``configured`` (the app's own configuration names a key source,
+    which then wins); elsewhere they are read from ``app.config``.
+    """
+    inherited = keys.server_digests()
+    if inherited is not None and not configured:
+        digests, source = inherited, "read by the server's master"
+    else:
+        digests, source = keys.digests(load_api_keys(app.config)), "configured"
+    app.extensions[_EXTENSION] = digests
+    if digests:
+        log.info("API key required on every endpoint but %s (%d keys %s)",
+                 ", ".join(sorted(OPEN_ROUTES)), len(digests), source)
     else:
         log.warning("no API keys configured: the calculation endpoints are open to every caller")
     app.before_request(_require_key)

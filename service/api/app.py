@@ -6,6 +6,7 @@ import json
 import logging
 import math
 import os
+from collections import Counter
 from collections.abc import Mapping
 
 import orjson
@@ -13,7 +14,7 @@ from flask import Blueprint, Flask, Response, current_app, request
 from werkzeug.exceptions import RequestEntityTooLarge
 
 from service import __version__
-from service.api import access, csvio, jsonparse, jsonwrite, observability, outputs, query, units
+from service.api import access, csvio, jsonparse, jsonwrite, memory, observability, outputs, query, units
 from service.api.calculation import Calculation, run_calculation, run_drawing
 from service.api.problems import (
     MALFORMED,
@@ -32,6 +33,7 @@ log = logging.getLogger(__name__)
 DEFAULTS = {
     "MAX_BODY_BYTES": 16 * 1024 * 1024,
     "MAX_CASES": 1_000_000,
+    "MAX_MEMORY": memory.DEFAULT_MAX_MEMORY,
     "API_KEYS": None,
     "API_KEYS_FILE": None,
     "API_KEYS_IN_QUERY": False,
@@ -40,6 +42,7 @@ DEFAULTS = {
 ENVIRONMENT = {
     "MAX_BODY_BYTES": int,
     "MAX_CASES": int,
+    "MAX_MEMORY": int,
     "API_KEYS": str,
     "API_KEYS_FILE": str,
     "API_KEYS_IN_QUERY": lambda raw: _flag(raw),
@@ -74,8 +77,9 @@ def create_app(config: Mapping | None = None) -> Flask:
     config : mapping, optional
         Settings that override the defaults and the ``MEANLINE_*`` environment variables:
         ``MAX_BODY_BYTES`` (request body limit, 413 above it), ``MAX_CASES`` (cases per
-        request, 413 above it), ``LOG_LEVEL`` (else ``MEANLINE_LOG_LEVEL``; see
-        :mod:`service.api.observability`), ``API_KEYS`` and ``API_KEYS_FILE`` (see
+        request, 413 above it), ``MAX_MEMORY`` (memory one request may take [bytes], 413 for a
+        batch whose cases would take more; see :mod:`service.api.memory`), ``LOG_LEVEL`` (else
+        ``MEANLINE_LOG_LEVEL``; see :mod:`service.api.observability`), ``API_KEYS`` and ``API_KEYS_FILE`` (see
         :mod:`service.api.access`).
     """
     app = Flask(__name__)
@@ -90,7 +94,7 @@ def create_app(config: Mapping | None = None) -> Flask:
     app.wsgi_app = _answer_when_stopped(app.wsgi_app)
     observability.init_app(app)  # before access: its logging is set up for access's start-up notes
     app.before_request(query.check_api_key_parameter)  # before access: a refused query key is a 400, not a 401
-    access.init_app(app)
+    access.init_app(app, configured=bool({"API_KEYS", "API_KEYS_FILE"} & set(config or {})))
 
     spec_bytes = orjson.dumps(build_spec(list(CALCULATIONS), __version__))
     blueprint = Blueprint("calculations", __name__)
@@ -151,13 +155,13 @@ def _calculation_view(calculation: Calculation):
         names, payload = outputs.take(payload)
         system, payload = _unit_system(payload)
         select = _selection(calculation, names, request.args.getlist(query.OUTPUT))
+        limits = {"max_memory": current_app.config["MAX_MEMORY"], "select": select}
         if csvio.wants_csv(request) or system == "us":
-            body, size = run_calculation(calculation, payload, current_app.config["MAX_CASES"], select=select)
+            body, size = run_calculation(calculation, payload, current_app.config["MAX_CASES"], **limits)
             observability.record_cases(size, body)
             body = units.answer_in_us(calculation, body) if system == "us" else body
             return csvio.response(calculation, body) if csvio.wants_csv(request) else _json(body)
-        body, size = run_calculation(calculation, payload, current_app.config["MAX_CASES"], stream=True,
-                                     select=select)
+        body, size = run_calculation(calculation, payload, current_app.config["MAX_CASES"], stream=True, **limits)
         observability.record_cases(size, body)
         return _json(body)
 
@@ -231,11 +235,13 @@ def _json(body) -> Response:
 
 
 def _reject_duplicate_keys(pairs):
-    names = [name for name, _ in pairs]
-    if len(set(names)) != len(names):
-        duplicates = sorted({name for name in names if names.count(name) > 1})
-        raise Problem(400, "Malformed JSON", f"Duplicate keys in one object: {', '.join(duplicates)}.", MALFORMED)
-    return dict(pairs)
+    result = dict(pairs)
+    if len(result) != len(pairs):
+        counts = Counter(name for name, _ in pairs)  # linear: one count per name, not a scan per name
+        duplicates = sorted(name for name, count in counts.items() if count > 1)
+        shown = ", ".join(duplicates[:20]) + (f" and {len(duplicates) - 20} more" if len(duplicates) > 20 else "")
+        raise Problem(400, "Malformed JSON", f"Duplicate keys in one object: {shown}.", MALFORMED)
+    return result
 
 
 def _parse_int(text: str):
@@ -262,8 +268,21 @@ def _parse_strictly(body: bytes):
 
 
 def read_csv() -> bytes | bytearray:
-    """The request body of a ``text/csv`` request, within the size limit (as :func:`read_json`)."""
-    body = _request_body()
+    """The request body of a ``text/csv`` request, read with the rules of :func:`read_json`
+    (no Content-Encoding, the receive timeout, chunked framing, the size limit)."""
+    encoding = request.headers.get("Content-Encoding", "").strip().lower()
+    if encoding not in ("", "identity"):
+        raise Problem(415, "Unsupported Media Type",
+                      f"The service does not decode Content-Encoding {encoding!r}: send the CSV uncompressed.")
+    try:
+        body = _request_body()
+    except ReceiveTimeout:
+        raise Problem(408, "Request Timeout", "The body did not arrive within the receive timeout "
+                      "(MEANLINE_RECEIVE_TIMEOUT). Send it faster, or through a buffering proxy.") from None
+    except _FRAMING_ERRORS as error:
+        raise Problem(400, "Malformed request body",
+                      f"The body could not be read: {type(error).__name__}. Check its chunked framing.",
+                      MALFORMED) from None
     limit = current_app.config["MAX_BODY_BYTES"]
     if len(body) > limit or (request.content_length is None and len(body) >= limit):
         raise _body_too_large()
@@ -276,7 +295,23 @@ def read_json():
     if not (mimetype == "application/json" or mimetype.endswith("+json")):
         raise Problem(415, "Unsupported Media Type",
                       f"Send the body as application/json, not {mimetype or 'no Content-Type'}.")
-    body = _request_body()
+    encoding = request.headers.get("Content-Encoding", "").strip().lower()
+    if encoding not in ("", "identity"):
+        # Read as it is, a compressed body would fail as malformed JSON (or, decoded, outgrow the
+        # body limit that was checked on its compressed size): say what is wrong instead.
+        raise Problem(415, "Unsupported Media Type",
+                      f"The service does not decode Content-Encoding {encoding!r}: send the JSON uncompressed.")
+    try:
+        body = _request_body()
+    except ReceiveTimeout:
+        raise Problem(408, "Request Timeout", "The body did not arrive within the receive timeout "
+                      "(MEANLINE_RECEIVE_TIMEOUT). Send it faster, or through a buffering proxy.") from None
+    except _FRAMING_ERRORS as error:
+        # The server found the body's framing broken while the app read it (a chunk size that is
+        # not hexadecimal, a chunk without its CRLF, a body that ends early): the client's fault.
+        raise Problem(400, "Malformed request body",
+                      f"The body could not be read: {type(error).__name__}. Check its chunked framing.",
+                      MALFORMED) from None
     # Werkzeug refuses a declared length above the limit itself; a chunked body is cut at the
     # limit instead, so one that reaches it may have been longer.
     limit = current_app.config["MAX_BODY_BYTES"]
@@ -291,6 +326,17 @@ def read_json():
     except RecursionError:
         raise Problem(400, "Malformed JSON", "The body is nested too deeply.", MALFORMED) from None
 
+
+try:  # the server's errors for a body whose framing is broken, raised where the app reads it
+    from gunicorn.http.errors import NoMoreData, ParseException
+
+    _FRAMING_ERRORS: tuple = (ParseException, NoMoreData)
+except ImportError:  # another WSGI server
+    _FRAMING_ERRORS = ()
+try:  # the service's worker: a body that does not arrive within MEANLINE_RECEIVE_TIMEOUT
+    from service.worker import ReceiveTimeout
+except ImportError:
+    ReceiveTimeout = ()
 
 #: A body declared at least this long is read into one buffer of its length, this many bytes at a time.
 LARGE_BODY_BYTES = 1 << 20

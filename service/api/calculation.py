@@ -20,9 +20,9 @@ import numpy as np
 import orjson
 from marshmallow import Schema, ValidationError, missing
 
-from service.api import outputs
+from service.api import memory, outputs
 from service.api.fields import CaseSchema, Option, Quantity, QuantityList
-from service.api.problems import MAX_LISTED_ERRORS, PHYSICALLY_IMPOSSIBLE, Problem, invalid_input
+from service.api.problems import MAX_LISTED_ERRORS, PHYSICALLY_IMPOSSIBLE, Problem, invalid_input, unlisted
 from service.api.rowstext import RowsText
 from service.core.cases import CaseResults, reason_texts
 from service.core.checks import STATUSES
@@ -232,7 +232,7 @@ class ErrorsText:
 
 
 def run_calculation(calculation: Calculation, payload: Any, max_cases: int, stream: bool = False,
-                    select: outputs.Selection | None = None):
+                    max_memory: int | None = None, select: outputs.Selection | None = None):
     """Validate, compute and lay out the response body of one request.
 
     With ``select`` (see :mod:`service.api.outputs`), the answer holds only the selected outputs
@@ -252,7 +252,8 @@ def run_calculation(calculation: Calculation, payload: Any, max_cases: int, stre
     Raises
     ------
     Problem
-        422 for invalid input (every offending field named), 413 above ``max_cases``, and
+        422 for invalid input (every offending field named), 413 above ``max_cases`` or where the
+        cases would take more than ``max_memory`` bytes (see :mod:`service.api.memory`), and
         422 for a single case that is physically impossible.
     """
     if not isinstance(payload, dict):
@@ -260,13 +261,13 @@ def run_calculation(calculation: Calculation, payload: Any, max_cases: int, stre
                                   "or {\"columns\": {...}}.")])
     if "cases" in payload:
         shape = "rows"
-        groups, size, errors = _rows_groups(calculation, payload, max_cases)
+        groups, size, errors = _rows_groups(calculation, payload, max_cases, max_memory)
     elif "columns" in payload and not calculation.columns:
         raise invalid_input([("/columns", "This calculation takes one case or rows ({\"cases\": [...]}), "
                                           "not columns.")])
     elif "columns" in payload:
         shape = "columns"
-        groups, size, errors = _columns_groups(calculation, payload, max_cases)
+        groups, size, errors = _columns_groups(calculation, payload, max_cases, max_memory)
     else:
         shape = "single"
         groups, size, errors = _single_group(calculation, payload)
@@ -281,8 +282,16 @@ def run_calculation(calculation: Calculation, payload: Any, max_cases: int, stre
             errors.extend(mode_errors)
             if mode is not None and not errors:
                 index = group.index[sub_index]
-                result = _evaluate(calculation, mode, options, data, len(index))
-                outcomes.append(result if shape == "single" else _outcome(result, index, calculation._integer_outputs))
+                if shape == "single":
+                    outcomes.append(_evaluate(calculation, mode, options, data, len(index)))
+                    continue
+                # A chunk of cases at a time where the core's intermediates are large per case: only
+                # one chunk's are alive at once, and each chunk is one outcome (as a group is).
+                for start, stop in _chunks(len(index), memory.chunk_cases(calculation.name)):
+                    part = _sliced(data, len(index), start, stop) if stop - start < len(index) else data
+                    result = _evaluate(calculation, mode, options, part, stop - start)
+                    outcomes.append(_outcome(result, index[start:stop], calculation._integer_outputs))
+                    del result, part
     if errors:
         raise invalid_input(errors)
 
@@ -298,12 +307,61 @@ def run_calculation(calculation: Calculation, payload: Any, max_cases: int, stre
         if len(outcomes) > 1:
             case_errors.sort(key=lambda e: e["index"])
     if shape == "rows":
-        results = (RowsText(calculation, outcomes, size) if stream and RowsText.takes(outcomes)
-                   else _rows_body(calculation, outcomes, size))
+        if stream and RowsText.takes(outcomes):
+            results = RowsText(calculation, outcomes, size)
+        elif stream:
+            results = CaseRows(calculation, outcomes, size)
+        else:
+            results = _rows_body(calculation, outcomes, size)
         body = {"results": results, "errors": case_errors}
     else:
         body = {"columns": _columns_body(calculation, outcomes, size), "errors": case_errors}
     return body, size
+
+
+def _chunks(size: int, chunk: int | None):
+    """(start, stop) of each chunk of ``size`` cases: one chunk without a chunk size."""
+    if not chunk or size <= chunk:
+        return [(0, size)]
+    return [(start, min(start + chunk, size)) for start in range(0, size, chunk)]
+
+
+def _sliced(data: dict, size: int, start: int, stop: int) -> dict:
+    """The inputs of cases ``start`` to ``stop``: every per-case array sliced (a view), the rest as is."""
+    return {name: (value[start:stop] if isinstance(value, np.ndarray) and value.ndim and len(value) == size
+                   else value)
+            for name, value in data.items()}
+
+
+class CaseRows:
+    """The ``results`` of a rows answer whose cases hold lists (per-stage outputs and checks),
+    written a slice of cases at a time: the same bytes as ``orjson.dumps`` of the list that
+    :func:`_rows_body` makes, without holding a dict of every case at once."""
+
+    ROWS_PER_PIECE = 256
+
+    def __init__(self, calculation: Calculation, outcomes: list[_Outcome], size: int):
+        self.calculation, self.outcomes, self.size = calculation, outcomes, size
+        # For each case of the request: its outcome, and its position in that outcome.
+        self.owner = np.zeros(size, dtype=np.intp)
+        self.position = np.zeros(size, dtype=np.intp)
+        for number, outcome in enumerate(outcomes):
+            self.owner[outcome.index] = number
+            self.position[outcome.index] = np.arange(len(outcome.index))
+
+    def __len__(self) -> int:
+        return self.size
+
+    def json_pieces(self):
+        if not self.size:
+            yield b"[]"
+            return
+        for start in range(0, self.size, self.ROWS_PER_PIECE):
+            stop = min(start + self.ROWS_PER_PIECE, self.size)
+            cases = [_case_body(self.calculation, self.outcomes[o], p) for o, p in
+                     zip(self.owner[start:stop].tolist(), self.position[start:stop].tolist(), strict=True)]
+            text = orjson.dumps(cases, option=orjson.OPT_SERIALIZE_NUMPY)
+            yield (b"[" if start == 0 else b",") + text[1:-1] + (b"]" if stop == self.size else b"")
 
 
 def run_drawing(calculation: Calculation, payload: Any, max_cases: int) -> str:
@@ -366,15 +424,30 @@ def _load_valid(plan, raw: dict):
     return loaded
 
 
-def _load(schema: CaseSchema, raw: dict, pointer, plan=None):
+def _load(schema: CaseSchema, raw: dict, pointer, plan=None, listed: int = MAX_LISTED_ERRORS):
     """Loaded fields and errors; where loading fails, the valid option values still come back so
-    that the input mode can be judged too and every offending field is named at once."""
+    that the input mode can be judged too and every offending field is named at once. Unknown
+    fields beyond the first ``listed`` are counted, not named."""
     if plan is not None:
         loaded = _load_valid(plan, raw)
         if loaded is not None:
             return loaded, []
+    unknown_errors = []
+    known = {f.data_key or name for name, f in schema.load_fields.items()}
+    if not known >= raw.keys():
+        # Unknown fields are reported here rather than by marshmallow, which builds a message for
+        # each through several layers (thousands of them took seconds); past ``listed`` they are
+        # only counted, so that refusing them costs one pass over the keys.
+        unknown = [name for name in raw if name not in known]
+        raw = {name: value for name, value in raw.items() if name in known}
+        for name in unknown[:listed]:
+            pointers = pointer(name if name != "" else _EMPTY_NAME, ())
+            pointers = [pointers] if isinstance(pointers, str) else pointers
+            unknown_errors += [(one, "Unknown field.") for one in pointers]
+        if len(unknown) > listed:
+            unknown_errors.append(unlisted((len(unknown) - listed) * _pointer_count(pointer)))
     try:
-        return schema.load(raw), []
+        loaded = schema.load(raw)
     except ValidationError as error:
         options = {}
         for name, f in schema.fields.items():
@@ -382,7 +455,17 @@ def _load(schema: CaseSchema, raw: dict, pointer, plan=None):
                 value = raw.get(name, f.load_default)
                 if isinstance(value, str) or (isinstance(value, list) and all(isinstance(v, str) for v in value)):
                     options[name] = value if isinstance(value, str) else np.asarray(value, dtype=str)
-        return options, list(_flatten(error.messages, pointer))
+        return options, list(_flatten(error.messages, pointer)) + unknown_errors
+    if unknown_errors:
+        options = {name: loaded[name] for name in loaded if isinstance(schema.fields.get(name), Option)}
+        return options, unknown_errors
+    return loaded, []
+
+
+def _pointer_count(pointer) -> int:
+    """How many cases a message about a whole field concerns (rows: every row of a block)."""
+    pointers = pointer("", ())
+    return 1 if isinstance(pointers, str) else len(pointers)
 
 
 class _EmptyName:
@@ -418,9 +501,8 @@ def _single_group(calculation: Calculation, payload: dict):
                    lambda f, rest: _join("", f, *rest), lambda f, positions: [_join("", f)])], 1, errors
 
 
-def _columns_groups(calculation: Calculation, payload: dict, max_cases: int):
-    extra = [(_join("", key), "Unknown field: give one of 'cases' or 'columns'.")
-             for key in payload if key != "columns"]
+def _columns_groups(calculation: Calculation, payload: dict, max_cases: int, max_memory: int | None = None):
+    extra = _unknown_top_level(payload, "columns")
     columns = payload["columns"]
     if not isinstance(columns, dict):
         raise invalid_input([("/columns", "Must be an object of field names to values or lists of values.")])
@@ -434,6 +516,7 @@ def _columns_groups(calculation: Calculation, payload: dict, max_cases: int):
                   for name, n in lengths.items() if n != size]
     if size > max_cases:
         raise _too_many(size, max_cases)
+    _check_memory(calculation, "columns", size, max_memory)
 
     def pointer(f, rest):
         return _join("/columns", f, *rest)
@@ -456,8 +539,8 @@ def _column_length(calculation: Calculation, name: str, value) -> int | None:
     return len(value)
 
 
-def _rows_groups(calculation: Calculation, payload: dict, max_cases: int):
-    extra = [(_join("", key), "Unknown field: give one of 'cases' or 'columns'.") for key in payload if key != "cases"]
+def _rows_groups(calculation: Calculation, payload: dict, max_cases: int, max_memory: int | None = None):
+    extra = _unknown_top_level(payload, "cases")
     cases = payload["cases"]
     if not isinstance(cases, list):
         raise invalid_input([("/cases", "Must be a list of case objects.")])
@@ -465,6 +548,7 @@ def _rows_groups(calculation: Calculation, payload: dict, max_cases: int):
         raise invalid_input([("/cases", "A batch must hold at least one case.")])
     if len(cases) > max_cases:
         raise _too_many(len(cases), max_cases)
+    _check_memory(calculation, "rows", len(cases), max_memory)
     if set(map(type, cases)) != {dict}:
         extra += [(f"/cases/{i}", "Each case must be a JSON object.") for i, case in enumerate(cases)
                   if not isinstance(case, dict)]
@@ -472,7 +556,7 @@ def _rows_groups(calculation: Calculation, payload: dict, max_cases: int):
         raise invalid_input(extra)
 
     groups, errors = [], []
-    for rows, raw in _row_blocks(cases):
+    for rows, raw in _row_blocks(cases, calculation._columns_schema.load_fields):
         names = list(raw)
         index = np.arange(rows.start, rows.stop, rows.step) if isinstance(rows, range) else np.asarray(rows)
 
@@ -486,13 +570,15 @@ def _rows_groups(calculation: Calculation, payload: dict, max_cases: int):
             return [_join(f"/cases/{rows[p]}", f) for p in positions[: MAX_LISTED_ERRORS + 1]]
 
         schema = calculation._columns_schema
-        data, group_errors = _load(schema, raw, pointer, calculation._plans[id(schema)])
+        # Once a response's worth of errors is named, further unknown fields are only counted.
+        data, group_errors = _load(schema, raw, pointer, calculation._plans[id(schema)],
+                                   max(MAX_LISTED_ERRORS - len(errors), 0))
         errors.extend(group_errors)
         groups.append(_Group(data, frozenset(names), index, pointer, case_pointers))
     return groups, len(cases), errors
 
 
-def _row_blocks(cases: list[dict]) -> list[tuple[Sequence[int], dict[str, list]]]:
+def _row_blocks(cases: list[dict], known=None) -> list[tuple[Sequence[int], dict[str, list]]]:
     """The rows as blocks of columns: rows that name the same fields (and give lists of the same
     lengths) form one block, as ``(positions, {field: values})`` with the fields sorted by name.
 
@@ -506,10 +592,12 @@ def _row_blocks(cases: list[dict]) -> list[tuple[Sequence[int], dict[str, list]]
         blocks = [(range(len(cases)), uniform)]
     else:
         blocks = _blocks_by_names(cases)
-    # A field given as lists splits a block by list length (one case's stages each).
+    # A field given as lists splits a block by list length (one case's stages each); an unknown
+    # field (``known``: the schema's) is refused whatever it holds, so it is not looked at.
     split = []
     for rows, columns in blocks:
-        listed = [name for name, column in columns.items() if _holds_lists(column)]
+        listed = [name for name, column in columns.items()
+                  if (known is None or name in known) and _holds_lists(column)]
         if not listed:
             split.append((rows, columns))
             continue
@@ -537,7 +625,8 @@ def _uniform_columns(cases: list[dict]) -> dict[str, list] | None:
     if not width or list(chain.from_iterable(cases)) != order * len(cases):
         return None
     values = list(chain.from_iterable(map(dict.values, cases)))
-    return {name: values[order.index(name)::width] for name in sorted(order)}
+    position = {name: i for i, name in enumerate(order)}
+    return {name: values[position[name]::width] for name in sorted(order)}
 
 
 def _holds_lists(column: list) -> bool:
@@ -573,6 +662,33 @@ def _blocks_by_names(cases: list[dict]) -> list[tuple[list[int], dict[str, list]
         block = cases if len(rows) == len(cases) else [cases[i] for i in rows]
         blocks.append((rows, {name: list(map(itemgetter(name), block)) for name in names}))
     return blocks
+
+
+def _check_memory(calculation: Calculation, shape: str, size: int, max_memory: int | None) -> None:
+    """413 for a batch whose cases would take more memory than ``max_memory`` (before any is loaded)."""
+    if max_memory is None:
+        return
+    per_case = memory.bytes_per_case(calculation.name, shape)
+    if memory.request_bytes(calculation.name, shape, size) <= max_memory:
+        return
+    fit = memory.cases_that_fit(calculation.name, shape, max_memory)
+    raise Problem(413, "Too many cases for the memory limit",
+                  f"The request holds {size} cases of {calculation.name} as {shape}, about "
+                  f"{memory.describe_bytes(per_case)} each; at most {fit} fit in the memory limit of "
+                  f"{memory.describe_bytes(max_memory)} per request. Split the batch into requests of at most "
+                  f"{fit} cases.", "urn:meanline:problem:too-large")
+
+
+def _unknown_top_level(payload: dict, shape: str) -> list:
+    """Errors for the keys of a batch body beside ``shape``: the first ones named, the rest counted."""
+    if len(payload) == 1:
+        return []
+    unknown = [key for key in payload if key != shape]
+    errors = [(_join("", key), "Unknown field: give one of 'cases' or 'columns'.")
+              for key in unknown[:MAX_LISTED_ERRORS]]
+    if len(unknown) > MAX_LISTED_ERRORS:
+        errors.append(unlisted(len(unknown) - MAX_LISTED_ERRORS))
+    return errors
 
 
 def _too_many(size: int, max_cases: int) -> Problem:

@@ -12,6 +12,23 @@ from service.core.triangles import MACHINES
 ANGLE_LIMITS = {"minimum": -90.0, "maximum": 90.0, "exclusive_minimum": True, "exclusive_maximum": True}
 POSITIVE = {"minimum": 0.0, "exclusive_minimum": True}
 
+# Physical ranges of dimensional inputs. Within them every calculation is right to rounding (the
+# core forms its results from ratios, so they do not depend on the scale); outside them a number is
+# not a physical value of the quantity for any turbomachine, and tiny values (down to the
+# subnormal floats, which carry fewer digits) would make ratios of them meaningless.
+#: Speeds: from 1 mm/s to below the speed of light. [m s^-1]
+SPEED_LIMITS = {"minimum": 1e-3, "maximum": 299792458.0, "exclusive_maximum": True}
+#: Lengths: from 1 micrometre, far below any blade chord, pitch, height or radius. [m]
+LENGTH_LIMITS = {"minimum": 1e-6}
+#: Temperatures: from 1 K; no gas turbomachine runs colder. [K]
+TEMPERATURE_LIMITS = {"minimum": 1.0}
+#: Pressures: from 1 Pa; below it the mean free path of air (about 7 mm at 1 Pa and 300 K, kinetic
+#: theory) is as long as a blade chord and the flow is no longer a continuum. [Pa]
+PRESSURE_LIMITS = {"minimum": 1.0}
+#: Dimensionless design parameters whose tiny values mean no flow, no work or no blade: flow and
+#: loading coefficients, solidities, aspect ratios, Zweifel targets. [-]
+RATIO_LIMITS = {"minimum": 1e-6}
+
 
 def angle(description: str, **kwargs) -> Quantity:
     """A flow angle from the axial direction, positive in the direction of rotor motion."""
@@ -21,6 +38,33 @@ def angle(description: str, **kwargs) -> Quantity:
 
 def positive(description: str, unit: str, **kwargs) -> Quantity:
     return Quantity(description, unit, **POSITIVE, **kwargs)
+
+
+def _ranged(description: str, range_text: str) -> str:
+    """The description with its physical range put before the closing unit in brackets."""
+    text, unit = description.rsplit(" [", 1)
+    return f"{text} {range_text} [{unit}"
+
+
+def speed(description: str, **kwargs) -> Quantity:
+    """A speed in its physical range (:data:`SPEED_LIMITS`)."""
+    return Quantity(_ranged(description, "From 1e-3 m/s to below the speed of light."), "m s^-1",
+                    **SPEED_LIMITS, **kwargs)
+
+
+def length(description: str, **kwargs) -> Quantity:
+    """A length in its physical range (:data:`LENGTH_LIMITS`)."""
+    return Quantity(_ranged(description, "At least 1e-6 m."), "m", **LENGTH_LIMITS, **kwargs)
+
+
+def shaft_speed_field(description: str, **kwargs) -> Quantity:
+    """A shaft speed of at least 1e-3 rev/min."""
+    return Quantity(_ranged(description, "At least 1e-3 rev/min."), "rev min^-1", minimum=1e-3, **kwargs)
+
+
+def ratio(description: str, **kwargs) -> Quantity:
+    """A positive dimensionless design parameter of at least 1e-6 (:data:`RATIO_LIMITS`)."""
+    return Quantity(_ranged(description, "At least 1e-6."), "-", **RATIO_LIMITS, **kwargs)
 
 
 def machine_field(**kwargs) -> Option:
@@ -36,18 +80,18 @@ class GasInputs(CaseSchema):
         GAS_NAMES,
         load_default="air",
     )
-    cp = positive("Specific heat at constant pressure, replacing the named gas's value. [J kg^-1 K^-1]",
-                  "J kg^-1 K^-1", load_default=None)
+    cp = Quantity("Specific heat at constant pressure, replacing the named gas's value; at least 1. [J kg^-1 K^-1]",
+                  "J kg^-1 K^-1", minimum=1.0, load_default=None)
     gamma = Quantity("Ratio of specific heats, replacing the named gas's value; greater than 1. [-]", "-",
                      minimum=1.0, exclusive_minimum=True, maximum=5.0 / 3.0, load_default=None)
 
 
 def _inlet_state(required: bool) -> dict:
     return {
-        "total_temperature": positive("Total (stagnation) temperature at the inlet (station 1). [K]", "K",
-                                      required=required),
-        "total_pressure": positive("Total (stagnation) pressure at the inlet (station 1). [Pa]", "Pa",
-                                   required=required),
+        "total_temperature": Quantity("Total (stagnation) temperature at the inlet (station 1); at least 1 K. [K]",
+                                      "K", **TEMPERATURE_LIMITS, required=required),
+        "total_pressure": Quantity("Total (stagnation) pressure at the inlet (station 1); at least 1 Pa. [Pa]", "Pa",
+                                   **PRESSURE_LIMITS, required=required),
     }
 
 

@@ -5,7 +5,7 @@ from __future__ import annotations
 from marshmallow import Schema
 
 from service.api.calculation import Calculation, Mode, combine_modes
-from service.api.common import angle, integer_output, output, positive
+from service.api.common import angle, integer_output, length, output, ratio, shaft_speed_field, speed
 from service.api.fields import CaseSchema, Option, Quantity
 from service.core import diffusion
 
@@ -18,23 +18,23 @@ class DiffusionInput(CaseSchema):
     span_position = Option("Where along the span the row is judged: `hub`, `mean` or `tip`; the rotor tip is held "
                            "to a lower diffusion-factor limit (NASA SP-36).", diffusion.SPAN_POSITIONS,
                            load_default="mean")
-    axial_velocity = positive("Axial velocity at the row inlet. [m s^-1]", "m s^-1", required=True)
-    outlet_axial_velocity = positive("Axial velocity at the row outlet (default: the inlet's). [m s^-1]", "m s^-1")
+    axial_velocity = speed("Axial velocity at the row inlet. [m s^-1]", required=True)
+    outlet_axial_velocity = speed("Axial velocity at the row outlet (default: the inlet's). [m s^-1]")
     inlet_angle = angle("Inlet flow angle in the row's own frame (relative for a rotor, absolute for a stator).",
                         required=True)
     outlet_angle = angle("Outlet flow angle in the row's own frame (relative for a rotor, absolute for a stator).",
                          required=True)
-    inlet_radius = positive("Mean radius at the row inlet, for a row whose radius changes (NASA SP-36 form). [m]",
-                            "m")
-    outlet_radius = positive("Mean radius at the row outlet (with inlet_radius). [m]", "m")
-    shaft_speed = positive("Rotor row given inlet_radius and outlet_radius: the shaft speed, so that the tangential "
-                           "term is the change of absolute angular momentum r2 Vtheta2 - r1 Vtheta1 = r2 Wtheta2 - "
-                           "r1 Wtheta1 + Omega (r2^2 - r1^2). [rev min^-1]", "rev min^-1")
-    solidity = positive("Solidity: true chord over pitch. [-]", "-")
-    chord = positive("True (not axial) chord of the blades. [m]", "m")
-    pitch = positive("Blade pitch at the mean radius. [m]", "m")
+    inlet_radius = length("Mean radius at the row inlet, for a row whose radius changes (NASA SP-36 form). [m]")
+    outlet_radius = length("Mean radius at the row outlet (with inlet_radius). [m]")
+    shaft_speed = shaft_speed_field(
+        "Rotor row given inlet_radius and outlet_radius: the shaft speed, so that the tangential term is the change "
+        "of absolute angular momentum r2 Vtheta2 - r1 Vtheta1 = r2 Wtheta2 - r1 Wtheta1 + Omega (r2^2 - r1^2). "
+        "[rev min^-1]")
+    solidity = ratio("Solidity: true chord over pitch. [-]")
+    chord = length("True (not axial) chord of the blades. [m]")
+    pitch = length("Blade pitch at the mean radius. [m]")
     blade_count = Quantity("Number of blades in the row. [-]", "-", minimum=1, integer=True)
-    mean_radius = positive("Mean radius of the row, for the pitch from the blade count. [m]", "m")
+    mean_radius = length("Mean radius of the row, for the pitch from the blade count. [m]")
     target_diffusion_factor = Quantity("Diffusion factor to size the solidity for. [-]", "-",
                                        minimum=0.0, maximum=1.0, exclusive_minimum=True, exclusive_maximum=True)
 

@@ -33,6 +33,13 @@ def flowpath_svg(payload: dict, body: dict) -> str:
     return _svg(flowpath_figure(payload, body))
 
 
+#: Outline colours of the rows whose hub or tip check warns or fails.
+_FLAG_COLOURS = {"warn": "#e69f00", "fail": "#000000"}
+
+#: Line styles of the hub and tip triangles drawn over the mean ones (when the answer has them).
+_SPAN_STYLES = (("hub", ":"), ("tip", "--"))
+
+
 def triangles_svg(payload: dict, body: dict) -> str:
     """:func:`triangles_figure` as an SVG document."""
     return _svg(triangles_figure(payload, body))
@@ -52,14 +59,20 @@ def flowpath_figure(payload: dict, body: dict):
     -------
     matplotlib.figure.Figure
         Axial position [m] against radius [m], equal scales; rotor rows red, stator
-        rows blue, each labelled with its name and blade count, ids ``row-1`` .. ``row-2n``.
+        rows blue, each labelled with its name and blade count, ids ``row-1`` .. ``row-2n``; a row
+        whose hub or tip check warns is outlined (id ``row-j-warn``), one that fails outlined and
+        hatched (``row-j-fail``), and labelled with the span ends flagged.
     """
     import matplotlib
     from matplotlib.figure import Figure
     from matplotlib.patches import Patch, Polygon
 
+    from service.core.machine_span import flagged_rows
+
     machine = payload["machine"]
     rotor_first = machine == "compressor"
+    flagged = flagged_rows(machine, {name: check["status"] for name, check in body.get("checks", {}).items()
+                                     if isinstance(check["status"], list)})
     with matplotlib.rc_context(_STYLE):
         figure = Figure(figsize=(9.0, 4.2), layout="constrained")
         axes = figure.add_subplot()
@@ -77,6 +90,14 @@ def flowpath_figure(payload: dict, body: dict):
             row = Polygon(corners, closed=True, facecolor=colour, edgecolor="black", linewidth=0.5, alpha=0.8)
             row.set_gid(f"row-{j + 1}")
             axes.add_patch(row)
+            if j in flagged:
+                status, ends = flagged[j]
+                mark = Polygon(corners, closed=True, fill=False, edgecolor=_FLAG_COLOURS[status], linewidth=2.0,
+                               hatch="///" if status == "fail" else None)
+                mark.set_gid(f"row-{j + 1}-{status}")
+                axes.add_patch(mark)
+                axes.text(0.5 * (le + te), max(tip[2 * j], tip[2 * j + 1]), f"{status}: {' '.join(ends)}",
+                          ha="center", va="bottom", fontsize=6, color=_FLAG_COLOURS[status])
             axes.text(0.5 * (le + te), 0.25 * (hub[2 * j] + tip[2 * j] + hub[2 * j + 1] + tip[2 * j + 1]),
                       f"{kind}{j // 2 + 1}\n{count}", ha="center", va="center", fontsize=7, color="white")
         axes.set_aspect("equal", adjustable="datalim")
@@ -86,7 +107,10 @@ def flowpath_figure(payload: dict, body: dict):
                        f"axial length {body['axial_length']:.3f} m (row labels: name and blade count)")
         axes.grid(True, linewidth=0.3)
         handles = [Patch(facecolor=ROTOR_COLOUR, label="rotor"), Patch(facecolor=STATOR_COLOUR, label="stator"),
-                   *axes.get_lines()]
+                   *axes.get_lines(),
+                   *(Patch(fill=False, edgecolor=_FLAG_COLOURS[status], linewidth=2.0,
+                           hatch="///" if status == "fail" else None, label=f"hub or tip check: {status}")
+                     for status in ("warn", "fail") if any(s == status for s, _ in flagged.values()))]
         axes.legend(handles=handles, loc="best", fontsize=8)
         return figure
 
@@ -107,7 +131,9 @@ def triangles_figure(payload: dict, body: dict):
         One panel per rotor station: tangential velocity [m/s] across (positive in
         the direction of rotor motion), axial velocity [m/s] down the page (the flow direction). The
         absolute velocity V, relative velocity W and blade speed U close each triangle; ids
-        ``vector-V{k}``, ``vector-W{k}``, ``vector-U{k}`` for the rotor's stations ``k``.
+        ``vector-V{k}``, ``vector-W{k}``, ``vector-U{k}`` for the rotor's stations ``k``. With hub
+        and tip values in the answer their V and W are drawn thinner (hub dotted, tip dashed), ids
+        ``vector-V{k}-hub``, ``vector-W{k}-tip``, ...
     """
     import matplotlib
     from matplotlib.figure import Figure
@@ -119,7 +145,8 @@ def triangles_figure(payload: dict, body: dict):
         {2: "rotor inlet (stator exit)", 3: "rotor exit"}
     u = body["blade_speed"]
     with matplotlib.rc_context(_STYLE):
-        figure = Figure(figsize=(9.0, 3.9), layout="constrained")
+        spanwise = f"Vx{stations[0]}_hub" in body
+        figure = Figure(figsize=(9.0, 4.6 if spanwise else 3.9), layout="constrained")
         panels = figure.subplots(1, 2)
         for axes, k in zip(panels, stations, strict=True):
             vx, vt, wt = body[f"Vx{k}"], body[f"Vtheta{k}"], body[f"Wtheta{k}"]
@@ -136,19 +163,33 @@ def triangles_figure(payload: dict, body: dict):
                 arrow.set_gid(f"vector-{name}")
                 axes.add_patch(arrow)
                 axes.plot([], [], color=colour, label=label)
+            for end, style in _SPAN_STYLES:
+                if f"Vx{k}_{end}" not in body:
+                    continue
+                evx, evt, ewt = body[f"Vx{k}_{end}"], body[f"Vtheta{k}_{end}"], body[f"Wtheta{k}_{end}"]
+                for name, tip_point, colour in ((f"V{k}", (evt, -evx), "black"), (f"W{k}", (ewt, -evx), ROTOR_COLOUR)):
+                    arrow = FancyArrowPatch((0.0, 0.0), tip_point, arrowstyle="-|>", mutation_scale=8, color=colour,
+                                            linewidth=0.9, linestyle=style, alpha=0.7, shrinkA=0, shrinkB=0)
+                    arrow.set_gid(f"vector-{name}-{end}")
+                    axes.add_patch(arrow)
+                axes.plot([], [], color="0.4", linestyle=style,
+                          label=f"{end}: alpha{k} = {body[f'alpha{k}_{end}']:.1f} deg, "
+                                f"beta{k} = {body[f'beta{k}_{end}']:.1f} deg, U = {body[f'blade_speed_{end}']:.0f} m/s")
             axes.axhline(0.0, color="0.7", linewidth=0.5)
             axes.axvline(0.0, color="0.7", linewidth=0.5)
             axes.set_title(f"Station {k}: {names[k]}")
             axes.set_xlabel("tangential velocity [m/s] (+ in the direction of rotor motion)")
-            axes.legend(loc="upper center", bbox_to_anchor=(0.5, -0.2), fontsize=8, frameon=False)
+            axes.legend(loc="upper center", bbox_to_anchor=(0.5, -0.26 if spanwise else -0.2), fontsize=8,
+                        frameon=False)
             axes.grid(True, linewidth=0.3)
         panels[0].set_ylabel("axial velocity [m/s] (flow downwards)")
-        extent = max(abs(body[f"{c}theta{k}"]) for c in "VW" for k in stations)
-        low = min(min(body[f"{c}theta{k}"] for c in "VW" for k in stations), 0.0)
-        high = max(max(body[f"{c}theta{k}"] for c in "VW" for k in stations), 0.0)
+        suffixes = [""] + [f"_{end}" for end, _ in _SPAN_STYLES if f"Vx{stations[0]}_{end}" in body]
+        swirls = [body[f"{c}theta{k}{s}"] for c in "VW" for k in stations for s in suffixes]
+        extent = max(abs(v) for v in swirls)
+        low, high = min(min(swirls), 0.0), max(max(swirls), 0.0)
         for axes in panels:
             axes.set_xlim(low - 0.1 * extent, high + 0.1 * extent)
-            axes.set_ylim(-1.15 * max(body[f"Vx{k}"] for k in stations), 0.1 * extent)
+            axes.set_ylim(-1.15 * max(body[f"Vx{k}{s}"] for k in stations for s in suffixes), 0.1 * extent)
             axes.set_aspect("equal", adjustable="box")
         figure.suptitle(f"{machine.capitalize()} stage velocity triangles: phi = {body['flow_coefficient']:.3f}, "
                         f"psi = {body['loading_coefficient']:.3f}, R = {body['reaction']:.3f}")

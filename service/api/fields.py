@@ -254,6 +254,9 @@ class QuantityList(_CaseField):
         if not isinstance(value, list) or not value:
             raise ValidationError("Must be a non-empty list of numbers.")
         if self._loads_columns() and isinstance(value[0], list):
+            empty = {i: ["Must be a non-empty list of numbers."] for i, v in enumerate(value) if v == []}
+            if empty:  # as one case's empty list is refused (rows are loaded as columns)
+                raise ValidationError(empty)
             lengths = {len(v) if isinstance(v, list) else -1 for v in value}
             if len(lengths) != 1 or -1 in lengths:
                 raise ValidationError("Every case's list must have the same length.")

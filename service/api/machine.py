@@ -7,31 +7,35 @@ from marshmallow import Schema
 from service.api.calculation import Calculation, Mode, combine_modes
 from service.api.common import (
     EFFICIENCY_LIMITS,
+    RATIO_LIMITS,
     StageSplitInputs,
     angle,
     integer_output,
+    length,
     output,
     positive,
+    ratio,
+    shaft_speed_field,
 )
 from service.api.fields import Quantity, QuantityPerStage
-from service.core import flowpath, gas, zweifel
+from service.core import flowpath, gas, machine_span, zweifel
 from service.core import machine as design
 
 
 class MachineInput(StageSplitInputs):
-    mass_flow = positive("Mass flow. [kg s^-1]", "kg s^-1", required=True)
-    shaft_speed = positive("Shaft speed. [rev min^-1]", "rev min^-1", required=True)
+    mass_flow = Quantity("Mass flow; at least 1e-6 kg/s. [kg s^-1]", "kg s^-1", minimum=1e-6, required=True)
+    shaft_speed = shaft_speed_field("Shaft speed. [rev min^-1]", required=True)
     polytropic_efficiency = Quantity("Polytropic (small-stage) efficiency of every stage. [-]", "-",
                                      **EFFICIENCY_LIMITS, required=True)
-    mean_radius = positive("Mean radius, held constant through the machine. [m]", "m")
-    hub_radius = positive("Hub radius, held constant through the machine. [m]", "m")
-    tip_radius = positive("Tip (casing) radius, held constant through the machine. [m]", "m")
+    mean_radius = length("Mean radius, held constant through the machine. [m]")
+    hub_radius = length("Hub radius, held constant through the machine. [m]")
+    tip_radius = length("Tip (casing) radius, held constant through the machine. [m]")
     max_loading_coefficient = positive(
         "Largest stage loading coefficient (work / blade_speed^2, at each stage's own blade speed) allowed; the "
         "fewest stages that keep every stage within it are found. [-]", "-")
     flow_coefficient = QuantityPerStage(
         "Flow coefficient V_x / U at each stage's mean radius: one value for every stage or a list, front to "
-        "rear. [-]", "-", minimum=0.0, exclusive_minimum=True, required=True)
+        "rear; at least 1e-6. [-]", "-", **RATIO_LIMITS, required=True)
     reaction = QuantityPerStage(
         "Reaction of each stage: one value for every stage or a list, front to rear. For a compressor given "
         "inlet_swirl, the first stage's reaction follows from the swirl and replaces the first value. [-]", "-",
@@ -40,15 +44,15 @@ class MachineInput(StageSplitInputs):
                         "stage's reaction (default: the angle follows from it). Turbine: the first nozzle's inlet "
                         "angle (default: the first rotor's exit angle).")
     outlet_swirl = angle("Compressor: absolute flow angle after the last stator (default: the inlet flow angle).")
-    rotor_aspect_ratio = positive("Blade height over axial chord of every rotor row. [-]", "-", required=True)
-    stator_aspect_ratio = positive("Blade height over axial chord of every stator row. [-]", "-", required=True)
-    zweifel_coefficient = positive("Turbine rows: target Zweifel coefficient, incompressible (default 0.8). [-]", "-",
-                                   load_default=zweifel.OPTIMUM_ZWEIFEL_COEFFICIENT)
+    rotor_aspect_ratio = ratio("Blade height over axial chord of every rotor row. [-]", required=True)
+    stator_aspect_ratio = ratio("Blade height over axial chord of every stator row. [-]", required=True)
+    zweifel_coefficient = ratio("Turbine rows: target Zweifel coefficient, incompressible (default 0.8). [-]",
+                                load_default=zweifel.OPTIMUM_ZWEIFEL_COEFFICIENT)
     target_diffusion_factor = Quantity("Compressor rows: diffusion factor to size every row's solidity for. [-]",
                                        "-", minimum=0.0, maximum=1.0, exclusive_minimum=True,
                                        exclusive_maximum=True)
-    solidity = positive("Compressor rows: solidity (chord over pitch) of every row; the blade count is rounded "
-                        "up. [-]", "-")
+    solidity = ratio("Compressor rows: solidity (chord over pitch) of every row; the blade count is rounded "
+                     "up. [-]")
     axial_gap = Quantity("Axial gap after each row as a fraction of its axial chord (default 0.25, common "
                          "practice). [-]", "-", minimum=0.0, maximum=10.0, load_default=flowpath.DEFAULT_AXIAL_GAP)
     rotor_loss_fraction = Quantity(
@@ -63,6 +67,26 @@ def _list(description: str, unit: str, integer: bool = False, null_entries: bool
     if null_entries:
         field.metadata["x-null-entries"] = True
     return field
+
+
+_SPAN_WORDS = {
+    "station_alpha": ("Absolute flow angle from axial", "deg"),
+    "station_beta": ("Relative flow angle from axial (null where no rotor is next to the station)", "deg"),
+    "station_mach": ("Absolute Mach number", "-"),
+    "station_relative_mach": ("Relative Mach number (null where no rotor is next to the station)", "-"),
+    "station_axial_mach": ("Axial Mach number", "-"),
+    "row_de_haller": ("Outlet over inlet speed in the row's frame", "-"),
+    "row_diffusion_factor": ("Compressor: diffusion factor (NASA SP-36 radius-change form, the solidity of the "
+                             "same chord and blade count sigma_m r_m / r)", "-"),
+}
+
+
+def _span_list(name: str, end: str):
+    words, unit = _SPAN_WORDS[name]
+    where = "at every station" if name.startswith("station_") else "of every row"
+    return _list(f"{words} {where} at the {end}: each station a free vortex about its mean radius "
+                 f"(r V_theta and V_x uniform along the span). [{unit}]", unit,
+                 null_entries=name in ("station_beta", "station_relative_mach"))
 
 
 _STATION = "at every station, 1 to 2n+1 in flow order"
@@ -144,6 +168,12 @@ MachineOutput = Schema.from_dict(
         "flowpath_x": _list("Flowpath outline: axial positions, each row's leading and trailing edge. [m]", "m"),
         "flowpath_hub_radius": _list("Flowpath outline: hub radius at each point of flowpath_x. [m]", "m"),
         "flowpath_tip_radius": _list("Flowpath outline: tip radius at each point of flowpath_x. [m]", "m"),
+        "stage_rotor_tip_relative_mach": _list("Relative Mach number at each rotor's inlet tip (free vortex). [-]",
+                                               "-"),
+        **{f"stage_reaction_{end}": _list(f"Enthalpy reaction of each stage along the {end} line (free vortex). [-]",
+                                          "-") for end in machine_span.SPAN_ENDS},
+        **{f"{name}_{end}": _span_list(name, end) for name in (*machine_span.STATION_OUTPUTS, *machine_span.ROW_OUTPUTS)
+           for end in machine_span.SPAN_ENDS},
     },
     name="MachineOutput",
 )

@@ -50,18 +50,33 @@ class Problem(Exception):
         self.detail = detail
         self.type = type_
         self.errors = list(errors or [])
+        self.not_listed = 0  # errors counted but not in ``errors``
 
 
 def invalid_input(errors, detail: str | None = None) -> Problem:
-    """422 naming every offending field by JSON Pointer."""
-    errors = sorted(set(errors), key=lambda item: (_pointer_sort_key(item[0]), item[1]))
-    return Problem(
+    """422 naming every offending field by JSON Pointer.
+
+    An entry ``(None, count)`` stands for ``count`` errors that were counted but not spelled out
+    (see :func:`unlisted`): they add to the count and to ``errors_not_listed``.
+    """
+    errors = list(errors)
+    not_listed = sum(error[1] for error in errors if error[0] is None)
+    errors = sorted({error for error in errors if error[0] is not None},
+                    key=lambda item: (_pointer_sort_key(item[0]), item[1]))
+    problem = Problem(
         422,
         "Invalid input",
-        detail or f"{len(errors)} input value(s) are missing, unknown or out of range.",
+        detail or f"{len(errors) + not_listed} input value(s) are missing, unknown or out of range.",
         INVALID_INPUT,
         errors,
     )
+    problem.not_listed = not_listed
+    return problem
+
+
+def unlisted(count: int) -> tuple[None, int]:
+    """An entry of an error list for ``count`` errors beyond those listed (see :func:`invalid_input`)."""
+    return (None, count)
 
 
 def _pointer_sort_key(pointer: str):
@@ -83,8 +98,8 @@ def problem_response(problem: Problem, extra_headers=None, identifier: str | Non
         # An entry may name a query parameter too: (pointer, detail, parameter).
         body["errors"] = [{"pointer": _utf8(pointer), "detail": _utf8(detail),
                            **({"parameter": _utf8(rest[0])} if rest else {})} for pointer, detail, *rest in listed]
-        if len(problem.errors) > len(listed):
-            body["errors_not_listed"] = len(problem.errors) - len(listed)
+        if len(problem.errors) + problem.not_listed > len(listed):
+            body["errors_not_listed"] = len(problem.errors) - len(listed) + problem.not_listed
     if has_request_context():
         body["request_id"] = request_id()
     elif identifier is not None:

@@ -207,10 +207,15 @@ def _add_calculation(spec: APISpec, plugin, calculation: Calculation) -> None:
             "401": {"description": "An API key is required and was not given.", **problem, "headers": {
                 "WWW-Authenticate": {"description": "The scheme to authenticate with.",
                                      "schema": {"type": "string", "const": f'Bearer realm="{REALM}"'}}}},
-            "403": {"description": "The API key is not valid.", **problem},
-            "413": {"description": "The body or the number of cases is over the limit.", **problem},
+            "403": {"description": "The API key is not valid (every key sent must be).", **problem},
+            "408": {"description": "The request did not arrive within the receive timeout "
+                                   "(MEANLINE_RECEIVE_TIMEOUT).", **problem},
+            "413": {"description": "The body, the number of cases, or the memory the cases would take "
+                                   "(MEANLINE_MAX_MEMORY; the detail says how many cases fit) is over the limit.",
+                    **problem},
             **drawing,
-            "415": {"description": "The body is neither JSON nor CSV (Content-Type).", **problem},
+            "415": {"description": "The body is neither JSON nor CSV (Content-Type), or is encoded "
+                                   "(Content-Encoding).", **problem},
             "422": {"description": "Invalid input (every offending field named by JSON Pointer), or one "
                                    "case that is physically impossible.", **problem},
             "503": {"description": "The server stopped the request: over the time limit (MEANLINE_TIMEOUT), "

@@ -11,6 +11,7 @@ from service.api.common import (
     integer_output,
     output,
     positive,
+    speed,
 )
 from service.api.fields import Quantity
 from service.core import gas, split
@@ -24,8 +25,8 @@ class SplitInput(StageSplitInputs):
     max_loading_coefficient = positive(
         "Largest stage loading coefficient (work / blade_speed^2) allowed; the fewest stages that keep every "
         "stage within it are found. [-]", "-")
-    blade_speed = positive("Mean blade speed, for the stage loading coefficients. [m s^-1]", "m s^-1")
-    mass_flow = positive("Mass flow, for the power. [kg s^-1]", "kg s^-1")
+    blade_speed = speed("Mean blade speed, for the stage loading coefficients. [m s^-1]")
+    mass_flow = Quantity("Mass flow, for the power; at least 1e-6 kg/s. [kg s^-1]", "kg s^-1", minimum=1e-6)
 
 
 def _per_stage(description: str, unit: str):

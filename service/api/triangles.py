@@ -10,39 +10,52 @@ from service.api.common import (
     InletStateInputs,
     angle,
     integer_output,
+    length,
     machine_field,
     output,
-    positive,
+    ratio,
+    speed,
 )
-from service.api.fields import Quantity
-from service.core import diffusion, gas, stage, triangles, zweifel
+from service.api.fields import Option, Quantity
+from service.core import diffusion, gas, span, stage, triangles, zweifel
 
 
 class TrianglesInput(GasInputs, InletStateInputs):
     machine = machine_field(required=True)
-    flow_coefficient = positive("Flow coefficient: axial velocity over blade speed. [-]", "-")
-    loading_coefficient = positive(
+    flow_coefficient = ratio("Flow coefficient: axial velocity over blade speed. [-]")
+    loading_coefficient = ratio(
         "Stage loading coefficient: specific work over blade speed squared, positive for both "
-        "machines. [-]", "-")
+        "machines. [-]")
     reaction = Quantity("Reaction: the rotor's share of the stage's static enthalpy change. [-]", "-",
                         minimum=-2.0, maximum=3.0)
-    blade_speed = positive("Blade speed at the mean radius. [m s^-1]", "m s^-1")
-    axial_velocity = positive("Axial velocity, the same at every station. [m s^-1]", "m s^-1")
+    blade_speed = speed("Blade speed at the mean radius. [m s^-1]")
+    axial_velocity = speed("Axial velocity, the same at every station. [m s^-1]")
     alpha1 = angle("Absolute flow angle at station 1 (compressor rotor inlet).")
     alpha2 = angle("Absolute flow angle at station 2 (compressor rotor exit; turbine stator exit).")
     alpha3 = angle("Absolute flow angle at station 3 (turbine rotor exit).")
-    axial_chord = positive("Axial chord of both turbine rows, for their Zweifel blade counts. [m]", "m")
-    blade_height = positive("Blade height of both turbine rows; with aspect_ratio, replaces axial_chord. [m]", "m")
-    aspect_ratio = positive("Blade height over axial chord of both turbine rows. [-]", "-")
-    mean_radius = positive("Mean radius of the stage, for blade counts. [m]", "m")
-    zweifel_coefficient = positive("Target Zweifel coefficient of both turbine rows (default 0.8). [-]", "-",
-                                   load_default=zweifel.OPTIMUM_ZWEIFEL_COEFFICIENT)
-    rotor_solidity = positive("Solidity (chord over pitch) of the compressor rotor, for its diffusion factor. [-]",
-                              "-")
-    stator_solidity = positive("Solidity of the compressor stator, for its diffusion factor. [-]", "-")
-    chord = positive("True chord of both compressor rows, with their blade counts and the mean radius. [m]", "m")
+    axial_chord = length("Axial chord of both turbine rows, for their Zweifel blade counts. [m]")
+    blade_height = length("Blade height of both turbine rows; with aspect_ratio, replaces axial_chord. [m]")
+    aspect_ratio = ratio("Blade height over axial chord of both turbine rows. [-]")
+    mean_radius = length("Mean radius of the stage, for blade counts. [m]")
+    zweifel_coefficient = ratio("Target Zweifel coefficient of both turbine rows (default 0.8). [-]",
+                                load_default=zweifel.OPTIMUM_ZWEIFEL_COEFFICIENT)
+    rotor_solidity = ratio("Solidity (chord over pitch) of the compressor rotor, for its diffusion factor. [-]")
+    stator_solidity = ratio("Solidity of the compressor stator, for its diffusion factor. [-]")
+    chord = length("True chord of both compressor rows, with their blade counts and the mean radius. [m]")
     rotor_blade_count = Quantity("Number of compressor rotor blades. [-]", "-", minimum=1, integer=True)
     stator_blade_count = Quantity("Number of compressor stator blades. [-]", "-", minimum=1, integer=True)
+    hub_radius = length("Hub radius of the annulus; with tip_radius, the stage's hub and tip values are answered "
+                        "and the mean line is taken at (hub_radius + tip_radius) / 2. [m]")
+    tip_radius = length("Tip radius of the annulus, above hub_radius. [m]")
+    hub_to_tip_ratio = Quantity("Hub radius over tip radius; with mean_radius, the stage's hub and tip values are "
+                                "answered. [-]", "-", minimum=0.0, maximum=1.0, exclusive_minimum=True,
+                                exclusive_maximum=True)
+    vortex = Option(
+        "Vortex law that carries the mean-line swirl to the hub and the tip, with the axial velocity from simple "
+        "radial equilibrium: `free` (r Vtheta constant, uniform work and axial velocity), `forced` (Vtheta "
+        "proportional to r), `exponential` (Vtheta = a -/+ b/r before/after the rotor), `constant_reaction` "
+        "(Vtheta = a r -/+ b/r). The mean-line triangles hold at the mean radius.",
+        span.NAMED_VORTEX_LAWS, load_default="free")
 
 
 def _station_outputs() -> dict:
@@ -81,6 +94,41 @@ def _row_outputs() -> dict:
     return docs
 
 
+def _at_end(docs: dict, end: str) -> dict:
+    """The mean-line outputs ``docs`` as hub or tip outputs: the name with the suffix, the place in the text."""
+    out = {}
+    for name, doc in docs.items():
+        text, unit = doc.metadata["description"].rsplit(" [", 1), doc.metadata["x-unit"]
+        out[f"{name}_{end}"] = output(f"{text[0]} At the {end} radius (vortex law and simple radial "
+                                      f"equilibrium). [{text[1]}", unit)
+    return out
+
+
+def _span_outputs() -> dict:
+    docs = {
+        **_station_outputs(),
+        **{f"M_axial{k}": output(f"Axial Mach number at station {k}. [-]", "-") for k in (1, 2, 3)},
+        "p1": output("Static pressure at station 1 (the inlet total pressure is uniform). [Pa]", "Pa"),
+        "rho1": output("Static density at station 1. [kg m^-3]", "kg m^-3"),
+        "blade_speed": output("Blade speed. [m s^-1]", "m s^-1"),
+        "work": output("Specific work, Euler's equation, positive for both machines. [J kg^-1]", "J kg^-1"),
+        "loading_coefficient": output("Loading coefficient: work over blade speed squared. [-]", "-"),
+        "total_temperature_change": output("Total temperature rise (compressor) or drop (turbine): work / cp. [K]",
+                                           "K"),
+        "reaction": output("Reaction: rotor over stage static enthalpy change. [-]", "-"),
+        "de_haller_rotor": output("Rotor outlet over inlet relative speed. [-]", "-"),
+        "de_haller_stator": output("Stator outlet over inlet absolute speed. [-]", "-"),
+    }
+    for row in ("rotor", "stator"):
+        frame = "absolute" if row == "stator" else "relative"
+        docs[f"{row}_diffusion_factor"] = output(
+            f"Compressor {row}: Lieblein diffusion factor ({frame} velocities). [-]", "-")
+        docs[f"{row}_solidity"] = output(
+            f"Compressor {row}: solidity, the mean-radius solidity times mean over local radius (the same chord "
+            "and blade count along the span). [-]", "-")
+    return {**_at_end(docs, "hub"), **_at_end(docs, "tip")}
+
+
 TrianglesOutput = Schema.from_dict(
     {
         "flow_coefficient": output("Flow coefficient: axial velocity over blade speed. [-]", "-"),
@@ -99,6 +147,12 @@ TrianglesOutput = Schema.from_dict(
         "p1": output("Static pressure at station 1. [Pa]", "Pa"),
         "rho1": output("Static density at station 1. [kg m^-3]", "kg m^-3"),
         **_row_outputs(),
+        "hub_radius": output("Hub radius of the annulus. [m]", "m"),
+        "tip_radius": output("Tip radius of the annulus. [m]", "m"),
+        "mean_radius": output("Mean radius of the annulus, (hub_radius + tip_radius) / 2, where the mean-line "
+                              "triangles hold. [m]", "m"),
+        "hub_to_tip_ratio": output("Hub radius over tip radius. [-]", "-"),
+        **_span_outputs(),
     },
     name="TrianglesOutput",
 )
@@ -123,19 +177,34 @@ def _compute(mode: Mode, options: dict, inputs: dict):
         result = triangles.evaluate_stage_from_angles(
             machine, inputs["blade_speed"], inputs["axial_velocity"], inputs[first], inputs[second], **state,
         )
+    if mode.includes("HubTip"):
+        hub_radius, tip_radius = inputs["hub_radius"], inputs["tip_radius"]
+        mean_radius = span.radius_ratios(hub_radius, tip_radius)["mean_radius"]
+    elif mode.includes("MeanHubToTip"):
+        mean_radius = inputs["mean_radius"]
+        hub_radius, tip_radius = span.radii_from_mean(mean_radius, inputs["hub_to_tip_ratio"])
+    else:
+        mean_radius = inputs.get("mean_radius")
+        hub_radius = tip_radius = None
+    solidities = {}
     if mode.includes("ZweifelChord") or mode.includes("ZweifelAspectRatio"):
         chord = inputs.get("axial_chord")
         if chord is None:
             chord = zweifel.axial_chord_from_aspect_ratio(inputs["blade_height"], inputs["aspect_ratio"])
-        result = stage.with_zweifel_rows(result, chord, inputs["mean_radius"], inputs["zweifel_coefficient"])
+        result = stage.with_zweifel_rows(result, chord, mean_radius, inputs["zweifel_coefficient"])
     elif mode.includes("Solidities"):
-        result = stage.with_diffusion_rows(result, inputs["rotor_solidity"], inputs["stator_solidity"])
+        solidities = {"rotor_solidity": inputs["rotor_solidity"], "stator_solidity": inputs["stator_solidity"]}
     elif mode.includes("BladeCounts"):
-        rotor, stator = (
-            diffusion.solidity_from_blade_count(inputs["chord"], inputs["mean_radius"], inputs[f"{row}_blade_count"])
+        solidities = {
+            f"{row}_solidity": diffusion.solidity_from_blade_count(inputs["chord"], mean_radius,
+                                                                   inputs[f"{row}_blade_count"])
             for row in ("rotor", "stator")
-        )
-        result = stage.with_diffusion_rows(result, rotor, stator)
+        }
+    if solidities:
+        result = stage.with_diffusion_rows(result, solidities["rotor_solidity"], solidities["stator_solidity"])
+    if hub_radius is not None:
+        result = span.with_span(result, machine, hub_radius, tip_radius, options.get("vortex", "free"),
+                                **state, **solidities)
     return result
 
 
@@ -167,6 +236,25 @@ ROWS = (
          when={"machine": ("compressor",)}),
 )
 
+#: The row modes where the annulus gives the mean radius: the same fields but ``mean_radius``.
+ROWS_IN_ANNULUS = (
+    ROWS[0],
+    Mode("ZweifelChord", "axial_chord (turbine Zweifel blade counts)", required=("axial_chord",),
+         optional=("zweifel_coefficient",), when={"machine": ("turbine",)}),
+    Mode("ZweifelAspectRatio", "blade_height and aspect_ratio (turbine Zweifel blade counts)",
+         required=("blade_height", "aspect_ratio"), optional=("zweifel_coefficient",),
+         when={"machine": ("turbine",)}),
+    ROWS[3],
+    Mode("BladeCounts", "chord, rotor_blade_count and stator_blade_count (compressor diffusion factors)",
+         required=("chord", "rotor_blade_count", "stator_blade_count"), when={"machine": ("compressor",)}),
+)
+SPAN = (
+    Mode("HubTip", "hub_radius and tip_radius (hub and tip values too; optionally the vortex law)",
+         required=("hub_radius", "tip_radius"), optional=("vortex",)),
+    Mode("MeanHubToTip", "mean_radius and hub_to_tip_ratio (hub and tip values too; optionally the vortex law)",
+         required=("mean_radius", "hub_to_tip_ratio"), optional=("vortex",)),
+)
+
 CALCULATION = Calculation(
     name="triangles",
     summary="Velocity triangles of a repeating compressor or turbine stage",
@@ -180,12 +268,16 @@ CALCULATION = Calculation(
         "rotor exit. With row geometry the rows are judged too: a turbine's axial chord (or blade "
         "height and aspect ratio) and mean radius give each row's Zweifel blade count; a "
         "compressor's solidities (or chord, mean radius and blade counts) give each row's diffusion "
-        "factor. Send `Accept: image/svg+xml` with one case for a drawing of the rotor's velocity "
-        "triangles."
+        "factor. With the annulus (hub_radius and tip_radius, or mean_radius and hub_to_tip_ratio) the "
+        "same quantities are answered at the hub and the tip too (suffixes `_hub`, `_tip`), from a vortex law "
+        "and simple radial equilibrium, with the rules that bite there (hub reaction, rotor-tip relative Mach "
+        "number, hub and tip de Haller numbers and diffusion factors, hub-to-tip ratio, axial Mach number, "
+        "turbine exit swirl and Mach number); the mean-line values are unchanged. Send `Accept: "
+        "image/svg+xml` with one case for a drawing of the rotor's velocity triangles."
     ),
     schema=TrianglesInput,
     outputs=TrianglesOutput,
-    modes=combine_modes(FLOW, ROWS),
+    modes=combine_modes(FLOW, ROWS) + combine_modes(FLOW, ROWS_IN_ANNULUS, SPAN),
     compute=_compute,
     requires=(("total_pressure", "total_temperature"),),
     render_svg=_render_svg,

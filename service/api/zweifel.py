@@ -5,7 +5,17 @@ from __future__ import annotations
 from marshmallow import Schema
 
 from service.api.calculation import Calculation, Mode, combine_modes
-from service.api.common import GasInputs, angle, integer_output, output, positive
+from service.api.common import (
+    PRESSURE_LIMITS,
+    TEMPERATURE_LIMITS,
+    GasInputs,
+    angle,
+    integer_output,
+    length,
+    output,
+    positive,
+    ratio,
+)
 from service.api.fields import Option, Quantity
 from service.core import gas, zweifel
 
@@ -23,26 +33,27 @@ class ZweifelInput(GasInputs):
                         required=True)
     outlet_angle = angle("Outlet flow angle in the row's own frame (absolute for a stator, relative for a rotor).",
                          required=True)
-    axial_chord = positive("Axial chord of the row. [m]", "m")
-    blade_height = positive("Blade height (span) at the mean radius; with aspect_ratio, replaces axial_chord. [m]",
-                            "m")
-    aspect_ratio = positive("Blade height over axial chord. [-]", "-")
-    mean_radius = positive("Mean radius of the row. [m]", "m")
-    zweifel_coefficient = positive("Target Zweifel coefficient for sizing (default 0.8). [-]", "-",
-                                   load_default=zweifel.OPTIMUM_ZWEIFEL_COEFFICIENT)
+    axial_chord = length("Axial chord of the row. [m]")
+    blade_height = length("Blade height (span) at the mean radius; with aspect_ratio, replaces axial_chord. [m]")
+    aspect_ratio = ratio("Blade height over axial chord. [-]")
+    mean_radius = length("Mean radius of the row. [m]")
+    zweifel_coefficient = ratio("Target Zweifel coefficient for sizing (default 0.8). [-]",
+                                load_default=zweifel.OPTIMUM_ZWEIFEL_COEFFICIENT)
     rounding = Option("How the blade count is rounded: `up` (achieved coefficient at or below the target), "
                       "`nearest`, or `even_up` (the next even count).", zweifel.ROUNDINGS, load_default="up")
     blade_count = Quantity("Number of blades in the row, for analysis. [-]", "-", minimum=1, integer=True)
-    pitch = positive("Blade pitch at the mean radius, for analysis. [m]", "m")
+    pitch = length("Blade pitch at the mean radius, for analysis. [m]")
     definition = Option("Definition of the coefficient: `incompressible` (the usual one: ideal force from the "
                         "outlet dynamic head) or `compressible`. " + COMPRESSIBLE_NOTE, zweifel.DEFINITIONS,
                         load_default="incompressible")
     outlet_mach = positive("Outlet Mach number in the row's frame (compressible definition). [-]", "-")
-    total_pressure = positive("Inlet total pressure in the row's frame, relative for a rotor (compressible "
-                              "definition, with outlet_pressure). [Pa]", "Pa")
-    outlet_pressure = positive("Outlet static pressure (compressible definition, with total_pressure). [Pa]", "Pa")
-    total_temperature = positive("Inlet total temperature in the row's frame. Accepted for completeness: the "
-                                 "compressible coefficient does not depend on it. [K]", "K")
+    total_pressure = Quantity("Inlet total pressure in the row's frame, relative for a rotor (compressible "
+                              "definition, with outlet_pressure); at least 1 Pa. [Pa]", "Pa", **PRESSURE_LIMITS)
+    outlet_pressure = Quantity("Outlet static pressure (compressible definition, with total_pressure); at least "
+                               "1 Pa. [Pa]", "Pa", **PRESSURE_LIMITS)
+    total_temperature = Quantity("Inlet total temperature in the row's frame. Accepted for completeness: the "
+                                 "compressible coefficient does not depend on it; at least 1 K. [K]", "K",
+                                 **TEMPERATURE_LIMITS)
 
 
 ZweifelOutput = Schema.from_dict(

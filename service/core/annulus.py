@@ -175,3 +175,56 @@ def hub_to_tip_ratio_for_flow(held, radius, flow_ratio):
                                    tolerances={"xrtol": RATIO_RTOL})
     ratio[active] = np.where(result.success, result.x, np.nan)
     return ratio
+
+
+def hub_to_tip_ratio_near(held, radius, flow_ratio, guess):
+    """The hub-to-tip ratio whose annulus passes the mass flow, searched outwards from a guess.
+
+    A station next to one already solved (the other side of the same rotor) has an annulus close to
+    that one's: its root is bracketed from the neighbour's ratio outwards
+    (:func:`scipy.optimize.elementwise.bracket_root`) and refined as in
+    :func:`hub_to_tip_ratio_for_flow`, which takes over, with its scan from short blades to long, for
+    the problems where that finds no bracket (no guess, a non-finite flow ratio on the way).
+
+    Parameters
+    ----------
+    held : str
+        ``hub`` or ``tip``.
+    radius : array_like
+        The held radius of each problem, shape ``(P,)``. [m]
+    flow_ratio : callable
+        As in :func:`hub_to_tip_ratio_for_flow`. [-]
+    guess : array_like
+        A hub-to-tip ratio near the root (NaN for none), shape ``(P,)``. [-]
+
+    Returns
+    -------
+    numpy.ndarray
+        The hub-to-tip ratio, shape ``(P,)``; NaN where no annulus passes the mass flow. [-]
+    """
+    radius, guess = broadcast_cases(radius, guess)
+    ratio = np.full(radius.shape[0], np.nan)
+    lowest, highest = _SCAN[-1], _SCAN[0]
+    start = np.flatnonzero(np.isfinite(guess) & (guess > lowest) & (guess < highest))
+    if start.size:
+        from scipy.optimize import elementwise
+
+        def residual(x, which):
+            with np.errstate(all="ignore"):
+                return flow_ratio(annulus_from_hub_to_tip_ratio(held, radius[which], x), which) - 1.0
+
+        step = 0.01
+        left = np.clip(guess[start] - step, lowest, highest - 2 * step)
+        bracket = elementwise.bracket_root(residual, left, left + 2 * step, xmin=lowest, xmax=highest,
+                                           args=(start,))
+        found = start[bracket.success]
+        if found.size:
+            low, high = (np.asarray(edge)[bracket.success] for edge in bracket.bracket)
+            result = elementwise.find_root(residual, (low, high), args=(found,),
+                                           tolerances={"xrtol": RATIO_RTOL})
+            ratio[found] = np.where(result.success, result.x, np.nan)
+    rest = np.flatnonzero(np.isnan(ratio))
+    if rest.size:
+        sub = radius[rest]
+        ratio[rest] = hub_to_tip_ratio_for_flow(held, sub, lambda ring, which: flow_ratio(ring, rest[which]))
+    return ratio

@@ -54,8 +54,10 @@ from __future__ import annotations
 
 import numpy as np
 
+from service.core.angles import cos_tan
 from service.core.cases import NumberedReason, broadcast_cases, masked_results
 from service.core.checks import RuleCheck, de_haller_check, deceleration_check, solidity_checks
+from service.core.triangles import angular_velocity
 
 ROWS = ("rotor", "stator")
 SPAN_POSITIONS = ("hub", "mean", "tip")
@@ -117,24 +119,6 @@ def _turning(inlet_swirl, outlet_swirl, inlet_radius, outlet_radius, shaft_speed
     return np.abs(change)
 
 
-def angular_velocity(shaft_speed):
-    """Angular velocity of a shaft.
-
-    .. math:: \\Omega = 2 \\pi N / 60
-
-    Parameters
-    ----------
-    shaft_speed : array_like
-        Shaft speed. [rev min^-1]
-
-    Returns
-    -------
-    numpy.ndarray
-        Angular velocity. [rad s^-1]
-    """
-    return np.asarray(shaft_speed, dtype=float) * (2.0 * np.pi / 60.0)
-
-
 def row_velocities(axial_velocity, inlet_angle, outlet_angle, outlet_axial_velocity=None):
     """Speeds and tangential velocities of a row from its axial velocities and flow angles.
 
@@ -157,14 +141,17 @@ def row_velocities(axial_velocity, inlet_angle, outlet_angle, outlet_axial_veloc
     if outlet_axial_velocity is None:
         outlet_axial_velocity = axial_velocity
     vx1, vx2, a1, a2 = broadcast_cases(axial_velocity, outlet_axial_velocity, inlet_angle, outlet_angle)
-    swirl1 = vx1 * np.tan(np.radians(a1))
-    swirl2 = vx2 * np.tan(np.radians(a2))
-    return {
-        "inlet_velocity": np.hypot(vx1, swirl1),
-        "outlet_velocity": np.hypot(vx2, swirl2),
-        "inlet_swirl": swirl1,
-        "outlet_swirl": swirl2,
-    }
+    cos1, tan1 = cos_tan(a1)
+    cos2, tan2 = cos_tan(a2)
+    # Vx / cos(angle) rather than hypot(Vx, Vtheta): one rounding, and no overflow of an
+    # intermediate square or sum before the speed itself exceeds the float range.
+    with np.errstate(divide="ignore", invalid="ignore"):
+        return {
+            "inlet_velocity": vx1 / cos1,
+            "outlet_velocity": vx2 / cos2,
+            "inlet_swirl": vx1 * tan1,
+            "outlet_swirl": vx2 * tan2,
+        }
 
 
 def diffusion_factor(inlet_velocity, outlet_velocity, inlet_swirl, outlet_swirl, solidity,
@@ -212,7 +199,8 @@ def diffusion_factor(inlet_velocity, outlet_velocity, inlet_swirl, outlet_swirl,
     """
     v1, v2, sigma = broadcast_cases(inlet_velocity, outlet_velocity, solidity)
     turning = _turning(inlet_swirl, outlet_swirl, inlet_radius, outlet_radius, shaft_speed)
-    return 1.0 - v2 / v1 + turning / (2.0 * sigma * v1)
+    # Each term as a ratio to V1 first: 2 sigma V1 overflows at speeds whose ratios do not.
+    return 1.0 - v2 / v1 + (turning / v1) / (2.0 * sigma)
 
 
 def minimum_diffusion_factor(inlet_velocity, outlet_velocity):
@@ -277,7 +265,8 @@ def solidity_for_diffusion_factor(inlet_velocity, outlet_velocity, inlet_swirl, 
     margin = target - (1.0 - v2 / v1)
     reachable = (margin > 0) & (turning > _NO_TURNING * v1)
     with np.errstate(divide="ignore", invalid="ignore"):
-        return np.where(reachable, turning / (2.0 * v1 * margin), np.nan)
+        # turning / V1 first: 2 V1 margin overflows at speeds whose ratio does not.
+        return np.where(reachable, (turning / v1) / (2.0 * margin), np.nan)
 
 
 def blade_count_for_solidity(chord, mean_radius, solidity):
@@ -300,7 +289,9 @@ def blade_count_for_solidity(chord, mean_radius, solidity):
         round-off does not add a blade. [-]
     """
     chord, radius, sigma = broadcast_cases(chord, mean_radius, solidity)
-    exact = 2.0 * np.pi * radius * sigma / chord
+    with np.errstate(over="ignore"):
+        # The length ratio first: 2 pi r sigma overflows before the count does.
+        exact = (radius / chord) * (2.0 * np.pi * sigma)
     return np.maximum(np.ceil(exact * (1.0 - _COUNT_SLACK)), 1.0)
 
 
@@ -322,7 +313,9 @@ def solidity_from_blade_count(chord, mean_radius, blade_count):
         ``N c / (2 pi r_m)``. [-]
     """
     chord, radius, count = broadcast_cases(chord, mean_radius, blade_count)
-    return count * chord / (2.0 * np.pi * radius)
+    with np.errstate(over="ignore"):
+        # The length ratio first: N c overflows before the solidity does.
+        return (chord / radius) * (count / (2.0 * np.pi))
 
 
 def diffusion_factor_check(diffusion_factor, row="rotor", span_position="mean"):
@@ -385,8 +378,9 @@ def no_turning_reason(smallest):
     -------
     str
     """
-    return ("the row does not turn the flow (r2 Vtheta2 = r1 Vtheta1): its diffusion factor is "
-            f"{smallest:.3f} (1 - V2/V1) at every solidity, so no solidity gives the target")
+    return ("the row does not turn the flow (its change of r V_theta is below 1e-9 of the inlet speed times the "
+            f"mean radius): its diffusion factor is {smallest:.3f} (1 - V2/V1) at every solidity, so no solidity "
+            "gives the target")
 
 
 def _numbered(reason, number, mask):
@@ -626,7 +620,7 @@ def evaluate_diffusion_sizing(row, axial_velocity, inlet_angle, outlet_angle, ta
         if chord is not None:
             count = blade_count_for_solidity(chord_, radius, sigma)
             values["blade_count"] = count
-            values["pitch"] = 2.0 * np.pi * radius / count
+            values["pitch"] = radius / count * (2.0 * np.pi)
             values["diffusion_factor_achieved"] = diffusion_factor(
                 v1, v2, flow["inlet_swirl"], flow["outlet_swirl"],
                 solidity_from_blade_count(chord_, radius, count), inlet_radius, outlet_radius, shaft_speed)

@@ -83,7 +83,11 @@ def static_temperature(total_temperature, speed, cp):
     numpy.ndarray
         Static temperature; at or below zero means the speed is unreachable. [K]
     """
-    return np.asarray(total_temperature, dtype=float) - np.square(speed) / (2.0 * np.asarray(cp))
+    speed = np.asarray(speed, dtype=float)
+    # V (V / 2cp) rather than V^2 / 2cp: the square overflows at speeds whose dynamic
+    # temperature is still a number.
+    with np.errstate(over="ignore"):
+        return np.asarray(total_temperature, dtype=float) - speed * (speed / (2.0 * np.asarray(cp)))
 
 
 def total_temperature(static_temperature, speed, cp):
@@ -105,7 +109,9 @@ def total_temperature(static_temperature, speed, cp):
     numpy.ndarray
         Stagnation temperature in that frame. [K]
     """
-    return np.asarray(static_temperature, dtype=float) + np.square(speed) / (2.0 * np.asarray(cp))
+    speed = np.asarray(speed, dtype=float)
+    with np.errstate(over="ignore"):
+        return np.asarray(static_temperature, dtype=float) + speed * (speed / (2.0 * np.asarray(cp)))
 
 
 def isentropic_pressure_ratio(temperature_ratio, gamma):
@@ -148,9 +154,12 @@ def speed_of_sound(static_temperature, cp, gamma):
     numpy.ndarray
         Speed of sound; NaN where the temperature is not positive. [m s^-1]
     """
-    radicand = np.asarray(gamma) * gas_constant(cp, gamma) * np.asarray(static_temperature)
+    temperature = np.asarray(static_temperature, dtype=float)
+    # sqrt(gamma R) sqrt(T): the product gamma R T overflows for T above about 1e305 K, where the
+    # speed of sound itself is still about 1e155 m/s.
     with np.errstate(invalid="ignore"):
-        return np.sqrt(np.where(radicand > 0, radicand, np.nan))
+        return np.sqrt(np.asarray(gamma) * gas_constant(cp, gamma)) * np.sqrt(
+            np.where(temperature > 0, temperature, np.nan))
 
 
 def total_to_static_temperature_ratio(mach, gamma):
@@ -230,7 +239,7 @@ def static_state(total_temperature, total_pressure, speed, cp, gamma):
         pressure = np.asarray(total_pressure) * isentropic_pressure_ratio(
             temperature / np.asarray(total_temperature), gamma
         )
-    density = pressure / (gas_constant(cp, gamma) * temperature)
+    density = pressure / gas_constant(cp, gamma) / temperature
     sound = speed_of_sound(temperature, cp, gamma)
     return {
         "temperature": temperature,

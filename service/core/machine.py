@@ -68,7 +68,8 @@ from __future__ import annotations
 
 import numpy as np
 
-from service.core import annulus, blade_rows, flowpath, gas, split, triangles, zweifel
+from service.core import annulus, blade_rows, flowpath, gas, machine_span, split, triangles, zweifel
+from service.core.angles import cos_tan
 from service.core.cases import CaseResults, reason_for
 
 MAX_STAGES = split.MAX_STAGES
@@ -154,24 +155,13 @@ def station_total_states(machine, stage_inlet_total_temperature, stage_outlet_to
     return temperature, pressure
 
 
-def blade_speed(mean_radius, shaft_speed):
-    """Blade speed at a radius.
+#: Blade speed at a radius from the shaft speed (:func:`service.core.triangles.blade_speed`).
+blade_speed = triangles.blade_speed
 
-    .. math:: U = 2 \\pi r N / 60
 
-    Parameters
-    ----------
-    mean_radius : array_like
-        Radius. [m]
-    shaft_speed : array_like
-        Shaft speed. [rev min^-1]
-
-    Returns
-    -------
-    numpy.ndarray
-        Blade speed. [m s^-1]
-    """
-    return 2.0 * np.pi * np.asarray(mean_radius, dtype=float) * np.asarray(shaft_speed, dtype=float) / 60.0
+def _tan(angle):
+    """``tan`` of a flow angle [deg], accurate to its last bit before 90 deg (:func:`service.core.angles.cos_tan`)."""
+    return cos_tan(angle)[1]
 
 
 def _low_swirl(u, flow_coefficient, work, reaction, fixed_angle):
@@ -181,11 +171,11 @@ def _low_swirl(u, flow_coefficient, work, reaction, fixed_angle):
         swirl = u * (1.0 - reaction) - 0.5 * work / u
         if fixed_angle is not None:
             # NaN marks the stages whose inlet swirl is not fixed.
-            swirl = np.where(np.isnan(fixed_angle), swirl, flow_coefficient * u * np.tan(np.radians(fixed_angle)))
+            swirl = np.where(np.isnan(fixed_angle), swirl, flow_coefficient * u * _tan(fixed_angle))
     return swirl
 
 
-def _solved_radius(held, radius, p, t0, p0, needed, velocities, given=None):
+def _solved_radius(held, radius, p, t0, p0, needed, velocities, given=None, guess=None):
     """Mean radius, (m, n), of one station of every stage with the hub or tip radius held.
 
     The station's velocities depend on the blade speed at its own radius, so its annulus and its blade
@@ -208,11 +198,14 @@ def _solved_radius(held, radius, p, t0, p0, needed, velocities, given=None):
         the entries of ``needed`` and ``given`` of the problems solved.
     given : dict of numpy.ndarray, optional
         Per-stage values that may be NaN (e.g. a swirl angle fixed at some stages only).
+    guess : numpy.ndarray, optional
+        A hub-to-tip ratio near the station's, (m, n): the search starts there
+        (:func:`service.core.annulus.hub_to_tip_ratio_near`). [-]
 
     Returns
     -------
-    numpy.ndarray
-        The station's mean radius; NaN where no annulus passes the mass flow. [m]
+    radius, hub_to_tip_ratio : numpy.ndarray
+        The station's mean radius [m] and hub-to-tip ratio [-]; NaN where no annulus passes the mass flow.
     """
     m, n = t0.shape
 
@@ -239,10 +232,12 @@ def _solved_radius(held, radius, p, t0, p0, needed, velocities, given=None):
         return np.where(vx / state["speed_of_sound"] < 1.0, ratio, np.nan)
 
     ratio = np.full(m * n, np.nan)
-    if solved.size:
+    if solved.size and guess is None:
         ratio[solved] = annulus.hub_to_tip_ratio_for_flow(held, sub["radius"], flow_ratio)
+    elif solved.size:
+        ratio[solved] = annulus.hub_to_tip_ratio_near(held, sub["radius"], flow_ratio, guess.ravel()[solved])
     ring = annulus.annulus_from_hub_to_tip_ratio(held, every["radius"], ratio)
-    return ring["mean_radius"].reshape(m, n)
+    return ring["mean_radius"].reshape(m, n), ratio.reshape(m, n)
 
 
 def enthalpy_reaction(machine, station_static_temperature):
@@ -362,9 +357,9 @@ def _layout(machine, held, n, p, sp):
     if held == "mean":
         stage_radius = np.broadcast_to(radius[:, None], (m, n)).astype(float)
     else:
-        stage_radius = _solved_radius(held, radius, p, t0[:, design], p0[:, design],
-                                      {"phi": phi, "work": work, "reaction": reaction}, _design_velocities,
-                                      {"fixed": fixed})
+        stage_radius, stage_ratio = _solved_radius(held, radius, p, t0[:, design], p0[:, design],
+                                                   {"phi": phi, "work": work, "reaction": reaction},
+                                                   _design_velocities, {"fixed": fixed})
         for i in range(n):
             failures.append((
                 f"stage {i + 1}: no annulus with the {held} radius held passes the mass flow at station "
@@ -377,7 +372,7 @@ def _layout(machine, held, n, p, sp):
         psi = work / np.square(u)
     if machine == "compressor" and p["inlet_swirl"] is not None:
         reaction = reaction.copy()
-        reaction[:, 0] = 1.0 - 0.5 * psi[:, 0] - phi[:, 0] * np.tan(np.radians(p["inlet_swirl"]))
+        reaction[:, 0] = 1.0 - 0.5 * psi[:, 0] - phi[:, 0] * _tan(p["inlet_swirl"])
     design_swirl = _low_swirl(u, phi, work, reaction, None)
 
     # The rotor's other station: its own radius and blade speed, its swirl from Euler's work equation.
@@ -385,8 +380,9 @@ def _layout(machine, held, n, p, sp):
     if held == "mean":
         other_radius = stage_radius
     else:
-        other_radius = _solved_radius(held, radius, p, t0[:, other], p0[:, other],
-                                      {"vx": vx, "work": work, "moment": moment}, _euler_velocities)
+        other_radius, _ = _solved_radius(held, radius, p, t0[:, other], p0[:, other],
+                                         {"vx": vx, "work": work, "moment": moment}, _euler_velocities,
+                                         guess=stage_ratio)
         for i in range(n):
             failures.append((
                 f"stage {i + 1}: no annulus with the {held} radius held passes the mass flow at station "
@@ -402,14 +398,14 @@ def _layout(machine, held, n, p, sp):
     for target, (a, b) in ((vx_st, (vx, vx)), (swirl_st, (design_swirl, other_swirl)), (u_st, (u, u_other))):
         target[:, design], target[:, other] = a, b
     if machine == "compressor":
-        outlet = np.degrees(np.arctan2(design_swirl[:, 0], vx[:, 0])) if p["outlet_swirl"] is None \
-            else p["outlet_swirl"]
+        # The outlet angle: as given, or the machine's inlet angle (tan alpha1 = V_theta1 / V_x1).
+        outlet_tan = design_swirl[:, 0] / vx[:, 0] if p["outlet_swirl"] is None else _tan(p["outlet_swirl"])
         vx_st[:, -1] = vx[:, -1]
-        swirl_st[:, -1] = vx[:, -1] * np.tan(np.radians(outlet))
+        swirl_st[:, -1] = vx[:, -1] * outlet_tan
     else:
         vx_st[:, 0] = vx[:, 0]
         swirl_st[:, 0] = design_swirl[:, 0] if p["inlet_swirl"] is None else \
-            vx[:, 0] * np.tan(np.radians(p["inlet_swirl"]))
+            vx[:, 0] * _tan(p["inlet_swirl"])
     speed_st = np.hypot(vx_st, swirl_st)
     relative_swirl = swirl_st - u_st
     relative = np.hypot(vx_st, relative_swirl)
@@ -447,6 +443,10 @@ def _layout(machine, held, n, p, sp):
         zweifel_coefficient=p["zweifel_coefficient"] if machine == "turbine" else None,
         target_diffusion_factor=p["target_diffusion_factor"], solidity=p["solidity"], shaft_speed=p["shaft_speed"])
     failures += row_failures
+    rotor_frame = np.ones(s, dtype=bool)
+    rotor_frame[-1 if machine == "compressor" else 0] = False
+    span, span_failures = machine_span.spanwise(machine, stations, rows, n, p["shaft_speed"], cp, gamma, rotor_frame)
+    failures += span_failures
     layout = flowpath.axial_layout(rows["row_axial_chord"], p["axial_gap"])
     stations["station_axial_position"] = layout["station_position"]
     line = flowpath.outline(layout["leading_edge"], layout["trailing_edge"], ring["hub_radius"], ring["tip_radius"])
@@ -462,7 +462,7 @@ def _layout(machine, held, n, p, sp):
     overall = {"axial_length": layout["axial_length"]}
     outline = {"flowpath_x": line["x"], "flowpath_hub_radius": line["hub_radius"],
                "flowpath_tip_radius": line["tip_radius"]}
-    return {**overall, **stages, **stations, **rows, **outline}, failures
+    return {**overall, **stages, **stations, **rows, **outline, **span}, failures
 
 
 def _cases(values, per_stage, weights):
@@ -502,7 +502,9 @@ def _input_failures(p, machine):
     ]
     for name in ("inlet_swirl", "outlet_swirl"):
         if p[name] is not None:
-            failures.append((f"{name} must be between -90 and 90 deg", bad(name, -90.0, 89.999999)))
+            with np.errstate(invalid="ignore"):
+                outside = ~(np.abs(p[name]) < 90.0)
+            failures.append((f"{name} must be between -90 and 90 deg, both excluded", outside))
     if machine == "turbine":
         failures.append(("zweifel_coefficient must be positive", bad("zweifel_coefficient")))
     elif p["target_diffusion_factor"] is not None:
@@ -742,7 +744,8 @@ def evaluate_machine_design(
 
 #: Station outputs of the rotor frame: none at the station no rotor is next to.
 ROTOR_FRAME_OUTPUTS = ("station_blade_speed", "station_relative_tangential_velocity", "station_relative_velocity",
-                       "station_beta", "station_relative_mach")
+                       "station_beta", "station_relative_mach", "station_beta_hub", "station_beta_tip",
+                       "station_relative_mach_hub", "station_relative_mach_tip")
 
 
 def _without_rotor(machine, values):
@@ -774,4 +777,5 @@ def _checks(machine, values):
         checks["stage_pressure_ratio"] = split.compressor_stage_pressure_ratio_check(values["stage_pressure_ratio"])
     checks["stage_loading_coefficient"] = split.stage_loading_check(machine, values["stage_loading_coefficient"])
     checks.update(blade_rows.row_checks(machine, values))
+    checks.update(machine_span.span_checks(machine, values))
     return checks

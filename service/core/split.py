@@ -215,10 +215,16 @@ def isentropic_efficiency(machine, pressure_ratio, total_temperature_ratio, gamm
     _check_option("machine", machine, MACHINES)
     log_ratio = np.log(np.asarray(pressure_ratio, dtype=float))
     change = np.asarray(total_temperature_ratio, dtype=float) - 1.0
-    k = _exponent(gamma)
-    if machine == "compressor":
-        return np.expm1(k * log_ratio) / change
-    return change / np.expm1(-k * log_ratio)
+    return _isentropic_efficiency(machine, log_ratio, change, _exponent(gamma))
+
+
+def _isentropic_efficiency(machine, log_ratio, tau_minus_one, k):
+    """:func:`isentropic_efficiency` from ``ln Pi`` and ``tau - 1`` themselves: near a pressure ratio
+    of one, ``Pi`` and ``tau`` rounded to floats have lost most digits of ``Pi - 1`` and ``tau - 1``."""
+    with np.errstate(divide="ignore", invalid="ignore"):
+        if machine == "compressor":
+            return np.expm1(k * log_ratio) / tau_minus_one
+        return tau_minus_one / np.expm1(-k * log_ratio)
 
 
 def polytropic_efficiency(machine, pressure_ratio, total_temperature_ratio, gamma):
@@ -261,16 +267,32 @@ def polytropic_efficiency(machine, pressure_ratio, total_temperature_ratio, gamm
     return -log_tau / (k * log_ratio)
 
 
-def _pressure_ratio_polytropic(machine, tau, efficiency, k):
+def _log_pressure_ratio_polytropic(machine, tau_minus_one, efficiency, k):
+    """``ln Pi`` of a stage from ``tau - 1`` (polytropic efficiency)."""
     if machine == "compressor":
-        return np.power(tau, efficiency / k)
-    return np.power(tau, -1.0 / (k * efficiency))
+        return efficiency / k * np.log1p(tau_minus_one)
+    return -np.log1p(tau_minus_one) / (k * efficiency)
 
 
-def _pressure_ratio_isentropic(machine, tau, efficiency, k):
+def _log_pressure_ratio_isentropic(machine, tau_minus_one, efficiency, k):
+    """``ln Pi`` of a stage from ``tau - 1`` (isentropic efficiency)."""
     if machine == "compressor":
-        return np.power(1.0 + efficiency * (tau - 1.0), 1.0 / k)
-    return np.power(1.0 + (tau - 1.0) / efficiency, -1.0 / k)
+        return np.log1p(efficiency * tau_minus_one) / k
+    return -np.log1p(tau_minus_one / efficiency) / k
+
+
+def _tau_minus_one_polytropic(machine, log_ratio, efficiency, k):
+    """``tau - 1`` of a compression or expansion of ``ln Pi`` (polytropic efficiency)."""
+    if machine == "compressor":
+        return np.expm1(k / efficiency * log_ratio)
+    return np.expm1(-k * efficiency * log_ratio)
+
+
+def _tau_minus_one_isentropic(machine, log_ratio, efficiency, k):
+    """``tau - 1`` of a compression or expansion of ``ln Pi`` (isentropic efficiency)."""
+    if machine == "compressor":
+        return np.expm1(k * log_ratio) / efficiency
+    return efficiency * np.expm1(-k * log_ratio)
 
 
 def weight_counts(weights):
@@ -319,12 +341,14 @@ def _work_shares(rule, stage_count, weights):
 
 
 def _share_temperatures(machine, shares, total_change):
-    """Stage temperature ratios when stage i takes a share of ``total_change`` (= dT0 / T0_in)."""
+    """Stage ``tau - 1`` when stage i takes a share of ``total_change`` (= dT0 / T0_in).
+
+    ``tau_i - 1 = +-x s_i / (1 +- x sum_{j<i} s_j)``: formed from the share itself, not as the
+    difference of two temperature ratios, so a small change keeps its digits.
+    """
     sign = 1.0 if machine == "compressor" else -1.0
-    after = np.cumsum(shares, axis=1)
-    outlet = 1.0 + sign * total_change[:, None] * after
-    inlet = 1.0 + sign * total_change[:, None] * (after - shares)
-    return outlet / inlet
+    before = np.cumsum(shares, axis=1) - shares
+    return sign * total_change[:, None] * shares / (1.0 + sign * total_change[:, None] * before)
 
 
 def _total_change_isentropic(machine, pressure_ratio, shares, efficiency, k):
@@ -357,8 +381,8 @@ def _total_change_isentropic(machine, pressure_ratio, shares, efficiency, k):
                 log_stage = np.log1p(eta * w * x / (1.0 + x * c)) / kk
             else:
                 remaining = 1.0 - x * c
-                term = np.where(remaining > 0, 1.0 - w * x / (eta * remaining), 0.0)
-                log_stage = -np.log(np.maximum(term, _TINY)) / kk
+                drop = np.where(remaining > 0, w * x / (eta * remaining), 1.0)
+                log_stage = np.where(drop < 1.0, -np.log1p(-drop), -np.log(_TINY)) / kk
         return np.where(w > 0, log_stage, 0.0).sum(axis=-1) - log_ratio[case]
 
     # Imported here, not at module level: scipy costs every worker ~48 MB at start.
@@ -372,7 +396,11 @@ def _total_change_isentropic(machine, pressure_ratio, shares, efficiency, k):
 
 
 def _split(machine, rule, efficiency_model, pressure_ratio, stage_count, efficiency, gamma, weights):
-    """Stage pressure ratios and total temperature ratios, (cases, width), NaN where undefined."""
+    """Stage pressure ratios and total temperature ratios, (cases, width), NaN where undefined.
+
+    Returns ``(ratio, tau, log_ratio, tau_minus_one)``: the last two are exact where the first two,
+    rounded to floats near one, have lost the digits of ``Pi - 1`` and ``tau - 1``.
+    """
     _check_option("machine", machine, MACHINES)
     _check_option("rule", rule, SPLIT_RULES)
     _check_option("efficiency_model", efficiency_model, EFFICIENCY_MODELS)
@@ -384,27 +412,28 @@ def _split(machine, rule, efficiency_model, pressure_ratio, stage_count, efficie
     k = _exponent(gamma)
     shares, defined = _work_shares(rule, stage_count, weights)
     with np.errstate(invalid="ignore", divide="ignore", over="ignore"):
+        eta, kk = efficiency[:, None], k[:, None]
         if rule == "equal_pressure_ratio":
-            ratio = np.where(shares > 0, (pressure_ratio ** (1.0 / stage_count))[:, None], np.nan)
+            log_ratio = np.where(shares > 0, (np.log(pressure_ratio) / stage_count)[:, None], np.nan)
             if efficiency_model == "polytropic":
-                tau = total_temperature_ratio_polytropic(machine, ratio, efficiency[:, None], gamma[:, None])
+                tau_m1 = _tau_minus_one_polytropic(machine, log_ratio, eta, kk)
             else:
-                tau = total_temperature_ratio_isentropic(machine, ratio, efficiency[:, None], gamma[:, None])
-            return ratio, tau
-        if efficiency_model == "polytropic":
-            overall = total_temperature_ratio_polytropic(machine, pressure_ratio, efficiency, gamma)
-            tau = _share_temperatures(machine, shares, np.abs(overall - 1.0))
-            ratio = _pressure_ratio_polytropic(machine, tau, efficiency[:, None], k[:, None])
+                tau_m1 = _tau_minus_one_isentropic(machine, log_ratio, eta, kk)
+        elif efficiency_model == "polytropic":
+            overall = _tau_minus_one_polytropic(machine, np.log(pressure_ratio), efficiency, k)
+            tau_m1 = _share_temperatures(machine, shares, np.abs(overall))
+            log_ratio = _log_pressure_ratio_polytropic(machine, tau_m1, eta, kk)
         else:
             total_change = np.full(pressure_ratio.shape, np.nan)
             if defined.any():
                 total_change[defined] = _total_change_isentropic(
                     machine, pressure_ratio[defined], shares[defined], efficiency[defined], k[defined]
                 )
-            tau = _share_temperatures(machine, shares, total_change)
-            ratio = _pressure_ratio_isentropic(machine, tau, efficiency[:, None], k[:, None])
+            tau_m1 = _share_temperatures(machine, shares, total_change)
+            log_ratio = _log_pressure_ratio_isentropic(machine, tau_m1, eta, kk)
+        ratio = np.exp(log_ratio)
     undefined = (shares <= 0) | ~defined[:, None]
-    return np.where(undefined, np.nan, ratio), np.where(undefined, np.nan, tau)
+    return tuple(np.where(undefined, np.nan, a) for a in (ratio, 1.0 + tau_m1, log_ratio, tau_m1))
 
 
 def stage_pressure_ratios_polytropic(machine, rule, pressure_ratio, stage_count, polytropic_efficiency,
@@ -535,9 +564,9 @@ def _fewest_stages(machine, rule, efficiency_model, pressure_ratio, efficiency, 
 
     def meets(active, count):
         rows = None if weights is None else weights[active]
-        ratio, tau = _split(machine, rule, efficiency_model, pressure_ratio[active], count,
-                            efficiency[active], gamma[active], rows)
-        return np.max(worst_stage(active, ratio, tau), axis=1) <= limit[active] * (1.0 + LIMIT_RTOL)
+        ratio, tau, _, tau_m1 = _split(machine, rule, efficiency_model, pressure_ratio[active], count,
+                                       efficiency[active], gamma[active], rows)
+        return np.max(worst_stage(active, ratio, tau, tau_m1), axis=1) <= limit[active] * (1.0 + LIMIT_RTOL)
 
     return fewest_count(np.maximum(lowest, 1), highest, max_stages, meets)
 
@@ -624,17 +653,16 @@ def stage_count_for_loading(machine, rule, efficiency_model, pressure_ratio, eff
     arrays, weights = _cases_and_weights(weights, pressure_ratio, efficiency, total_temperature, cp, gamma,
                                          blade_speed, max_loading_coefficient)
     pressure_ratio, efficiency, total_temperature, cp, gamma, blade_speed, limit = arrays
-    if efficiency_model == "polytropic":
-        single = total_temperature_ratio_polytropic(machine, pressure_ratio, efficiency, gamma)
-    else:
-        single = total_temperature_ratio_isentropic(machine, pressure_ratio, efficiency, gamma)
+    _check_option("machine", machine, MACHINES)
+    to_tau = _tau_minus_one_polytropic if efficiency_model == "polytropic" else _tau_minus_one_isentropic
     with np.errstate(invalid="ignore", divide="ignore", over="ignore"):
-        bound = cp * total_temperature * np.abs(single - 1.0) / (limit * blade_speed**2)
+        single = to_tau(machine, np.log(pressure_ratio), efficiency, _exponent(gamma))
+        bound = cp * total_temperature * np.abs(single) / (limit * blade_speed**2)
     lowest = _lower_bound(bound, max_stages)
 
-    def worst_stage(active, ratio, tau):
+    def worst_stage(active, ratio, tau, tau_m1):
         inlet_t = _stage_march(machine, ratio, tau, total_temperature[active], np.ones(active.size))[0]
-        return cp[active, None] * inlet_t * np.abs(tau - 1.0) / blade_speed[active, None] ** 2
+        return cp[active, None] * inlet_t * np.abs(tau_m1) / blade_speed[active, None] ** 2
 
     return _fewest_stages(machine, rule, efficiency_model, pressure_ratio, efficiency, gamma, weights,
                           lowest, limit, worst_stage, max_stages)
@@ -682,7 +710,7 @@ def stage_count_for_stage_pressure_ratio(machine, rule, efficiency_model, pressu
         bound = np.log(pressure_ratio) / np.log(limit)
     lowest = _lower_bound(bound, max_stages)
     return _fewest_stages(machine, rule, efficiency_model, pressure_ratio, efficiency, gamma, weights,
-                          lowest, limit, lambda active, ratio, tau: ratio, max_stages)
+                          lowest, limit, lambda active, ratio, tau, tau_m1: ratio, max_stages)
 
 
 def compressor_stage_pressure_ratio_check(stage_pressure_ratio) -> RuleCheck:
@@ -871,9 +899,9 @@ def evaluate_stage_split(
             reason = f"no stage count up to {max_stages} keeps every stage's {limit_text}"
         failures.append((reason, good & (stage_count == 0)))
 
-    ratio, tau = _split(machine, rule, efficiency_model, sub["pressure_ratio"], np.maximum(count, 1),
-                        efficiency, sub["gamma"], sub_weights)
-    values = _stage_values(machine, ratio, tau, sub, count, efficiency_name, n, index)
+    stages = _split(machine, rule, efficiency_model, sub["pressure_ratio"], np.maximum(count, 1),
+                    efficiency, sub["gamma"], sub_weights)
+    values = _stage_values(machine, stages, sub, count, efficiency_name, n, index)
     if rule == "weights" and count_name == "stages":
         counts, _ = weight_counts(weights)
         failures.append(("the number of weights does not match stages", good & (counts != stage_count)))
@@ -946,11 +974,13 @@ def _input_failures(inputs, efficiency_name, count_name, weights, max_stages):
     return failures
 
 
-def _stage_values(machine, ratio, tau, sub, count, efficiency_name, n, index):
+def _stage_values(machine, stages, sub, count, efficiency_name, n, index):
     """Per-stage and overall outputs of the cases in ``index``, scattered to all ``n`` cases."""
+    ratio, tau, log_ratio, tau_m1 = stages
     t_in, p_in, cp, gamma = sub["total_temperature"], sub["total_pressure"], sub["cp"], sub["gamma"]
+    k = _exponent(gamma)
     inlet_t, outlet_t, inlet_p, outlet_p = _stage_march(machine, ratio, tau, t_in, p_in)
-    change = inlet_t * np.abs(tau - 1.0)
+    change = inlet_t * np.abs(tau_m1)
     with np.errstate(invalid="ignore", divide="ignore"):
         stage = {
             "stage_pressure_ratio": ratio,
@@ -960,22 +990,27 @@ def _stage_values(machine, ratio, tau, sub, count, efficiency_name, n, index):
             "stage_outlet_total_pressure": outlet_p,
             "stage_total_temperature_change": change,
             "stage_work": cp[:, None] * change,
-            "stage_isentropic_efficiency": isentropic_efficiency(machine, ratio, tau, gamma[:, None]),
+            "stage_isentropic_efficiency": _isentropic_efficiency(machine, log_ratio, tau_m1, k[:, None]),
         }
         if "blade_speed" in sub:
             stage["stage_loading_coefficient"] = stage["stage_work"] / sub["blade_speed"][:, None] ** 2
         last = np.maximum(count, 1) - 1
         outlet_temperature = outlet_t[np.arange(len(index)), last] if len(index) else np.zeros(0)
-        overall_tau = outlet_temperature / t_in
+        # ln of the overall temperature ratio as the sum of the stages': no difference of
+        # temperatures that are nearly equal.
+        log_tau = np.nansum(np.log1p(tau_m1), axis=1)
+        overall_tau_m1 = np.expm1(log_tau)
         pr = sub["pressure_ratio"]
+        log_pr = np.log(pr)
         overall = {
             "outlet_total_temperature": outlet_temperature,
             "outlet_total_pressure": p_in * pr if machine == "compressor" else p_in / pr,
-            "total_temperature_change": np.abs(outlet_temperature - t_in),
-            "work": cp * np.abs(outlet_temperature - t_in),
-            "isentropic_efficiency": isentropic_efficiency(machine, pr, overall_tau, gamma),
+            "total_temperature_change": t_in * np.abs(overall_tau_m1),
+            "work": cp * (t_in * np.abs(overall_tau_m1)),
+            "isentropic_efficiency": _isentropic_efficiency(machine, log_pr, overall_tau_m1, k),
             "polytropic_efficiency": (sub[efficiency_name] if efficiency_name == "polytropic_efficiency"
-                                      else polytropic_efficiency(machine, pr, overall_tau, gamma)),
+                                      else (k * log_pr / log_tau if machine == "compressor"
+                                            else -log_tau / (k * log_pr))),
         }
         if "mass_flow" in sub:
             overall["power"] = sub["mass_flow"] * overall["work"]

@@ -8,6 +8,8 @@ diffusion factors for compressor rows (:mod:`service.core.diffusion`).
 
 from __future__ import annotations
 
+import numpy as np
+
 from service.core import diffusion, zweifel
 from service.core.cases import CaseResults
 
@@ -50,9 +52,19 @@ def with_zweifel_rows(stage: CaseResults, axial_chord, mean_radius,
     1. Zweifel, O. (1945), "The spacing of turbo-machine blading, especially with large angular
        deflection", Brown Boveri Review 32(12).
     """
+    # Each row's swirls and outlet speed in its own frame (turbine: stator 1 -> 2, rotor 2 -> 3 relative).
+    frames = {"stator": ("V", "Vtheta", 1, 2), "rotor": ("W", "Wtheta", 2, 3)}
+    v = stage.values
     for row, inlet, outlet in _row_flows("turbine", stage.values):
+        speed, swirl, k1, k2 = frames[row]
+        # 2 cos^2(a2) |tan a1 - tan a2| = 2 Vx |Vtheta1 - Vtheta2| / V2^2, from the velocities rather than
+        # from the angles rounded to degrees (which lose digits of the cosine a few ulps short of 90 deg).
+        with np.errstate(divide="ignore", invalid="ignore", over="ignore"):
+            vx = v["axial_velocity"]
+            loading = 2.0 * np.square(vx / v[f"{speed}{k2}"]) * (np.abs(v[f"{swirl}{k1}"] - v[f"{swirl}{k2}"]) / vx)
         rows = zweifel.evaluate_zweifel_sizing(inlet, outlet, axial_chord, mean_radius,
-                                               zweifel_coefficient=zweifel_coefficient, rounding=rounding)
+                                               zweifel_coefficient=zweifel_coefficient, rounding=rounding,
+                                               loading_per_pitch_ratio=loading)
         stage = stage.merged(rows, row)
     return stage
 
@@ -81,13 +93,22 @@ def with_diffusion_rows(stage: CaseResults, rotor_solidity, stator_solidity) -> 
        losses and limiting blade loadings in axial-flow-compressor blade elements", NACA RM E53D01.
     """
     solidities = {"rotor": rotor_solidity, "stator": stator_solidity}
+    # Each row's speeds and swirls in its own frame (compressor: rotor 1 -> 2 relative, stator 2 -> 3).
+    frames = {"rotor": ("W", "Wtheta", 1, 2), "stator": ("V", "Vtheta", 2, 3)}
     for row, inlet, outlet in _row_flows("compressor", stage.values):
         rows = diffusion.evaluate_diffusion_analysis(row, stage.values["axial_velocity"], inlet, outlet,
                                                      solidity=solidities[row])
+        # The factor from the triangles' own velocities rather than from their angles in degrees: an
+        # angle a few ulps short of 90 deg, rounded to degrees, would lose digits of its cosine.
+        speed, swirl, k1, k2 = frames[row]
+        v = stage.values
+        with np.errstate(divide="ignore", invalid="ignore", over="ignore"):
+            factor = np.where(rows.failed(), np.nan, diffusion.diffusion_factor(
+                v[f"{speed}{k1}"], v[f"{speed}{k2}"], v[f"{swirl}{k1}"], v[f"{swirl}{k2}"], solidities[row]))
         kept = CaseResults(
-            values={name: rows.values[name] for name in ("diffusion_factor", "solidity")},
+            values={"diffusion_factor": factor, "solidity": rows.values["solidity"]},
             failures=rows.failures,
-            checks={"diffusion_factor": rows.checks["diffusion_factor"]},
+            checks={"diffusion_factor": diffusion.diffusion_factor_check(factor, row)},
         )
         stage = stage.merged(kept, row)
     return stage

@@ -38,6 +38,7 @@ from __future__ import annotations
 import numpy as np
 
 from service.core import gas
+from service.core.angles import cos_tan, tangent_difference
 from service.core.cases import broadcast_cases, masked_results
 from service.core.checks import de_haller_check, deceleration_check
 
@@ -51,6 +52,44 @@ STATOR_STATIONS = {"compressor": (2, 3), "turbine": (1, 2)}
 def _check_machine(machine):
     if machine not in MACHINES:
         raise ValueError(f"machine must be one of {MACHINES}, not {machine!r}")
+
+
+def angular_velocity(shaft_speed):
+    """Angular velocity of a shaft.
+
+    .. math:: \\Omega = 2 \\pi N / 60
+
+    Parameters
+    ----------
+    shaft_speed : array_like
+        Shaft speed. [rev min^-1]
+
+    Returns
+    -------
+    numpy.ndarray
+        Angular velocity. [rad s^-1]
+    """
+    return np.asarray(shaft_speed, dtype=float) * (2.0 * np.pi / 60.0)
+
+
+def blade_speed(radius, shaft_speed):
+    """Blade speed at a radius.
+
+    .. math:: U = \\Omega r = 2 \\pi r N / 60
+
+    Parameters
+    ----------
+    radius : array_like
+        Radius. [m]
+    shaft_speed : array_like
+        Shaft speed. [rev min^-1]
+
+    Returns
+    -------
+    numpy.ndarray
+        Blade speed. [m s^-1]
+    """
+    return np.asarray(radius, dtype=float) * angular_velocity(shaft_speed)
 
 
 def rotor_swirl_from_duty(machine, loading_coefficient, reaction, blade_speed):
@@ -106,10 +145,44 @@ def rotor_swirl_from_angles(machine, axial_velocity, first_angle, second_angle):
     """
     _check_machine(machine)
     vx, first, second = broadcast_cases(axial_velocity, first_angle, second_angle)
-    return vx * np.tan(np.radians(first)), vx * np.tan(np.radians(second))
+    return vx * cos_tan(first)[1], vx * cos_tan(second)[1]
 
 
-def stage_triangles(machine, blade_speed, axial_velocity, rotor_inlet_swirl, rotor_outlet_swirl):
+def loading_from_angles(machine, flow_coefficient, first_angle, second_angle):
+    """Stage loading coefficient of a repeating stage from the rotor's two absolute angles.
+
+    .. math::
+
+        \\psi = \\pm \\phi (\\tan\\alpha_b - \\tan\\alpha_a)
+             = \\pm \\phi \\frac{\\sin(\\alpha_b - \\alpha_a)}{\\cos\\alpha_a \\cos\\alpha_b}
+
+    (``+`` compressor, ``-`` turbine; ``a``, ``b`` the rotor inlet and outlet), from
+    :func:`service.core.angles.tangent_difference`: the loading of two nearly equal angles keeps
+    its digits, where the difference of two large tangents would cancel.
+
+    Parameters
+    ----------
+    machine : str
+        ``compressor`` or ``turbine``.
+    flow_coefficient : array_like
+        Axial velocity over blade speed. [-]
+    first_angle, second_angle : array_like
+        Absolute flow angles at the rotor inlet and outlet. [deg]
+
+    Returns
+    -------
+    numpy.ndarray
+        ``Delta h0 / U^2``, positive where the rotor works in the machine's sense. [-]
+    """
+    _check_machine(machine)
+    phi, first, second = broadcast_cases(flow_coefficient, first_angle, second_angle)
+    sign = 1.0 if machine == "compressor" else -1.0
+    with np.errstate(divide="ignore", invalid="ignore", over="ignore"):
+        return sign * phi * tangent_difference(first, second)
+
+
+def stage_triangles(machine, blade_speed, axial_velocity, rotor_inlet_swirl, rotor_outlet_swirl, *,
+                    loading_coefficient=None, reaction=None):
     """Velocity triangles and duty of a repeating stage from the rotor's swirl.
 
     Parameters
@@ -122,6 +195,13 @@ def stage_triangles(machine, blade_speed, axial_velocity, rotor_inlet_swirl, rot
         Axial velocity, constant through the stage. [m s^-1]
     rotor_inlet_swirl, rotor_outlet_swirl : array_like
         Absolute tangential velocity at the rotor inlet and outlet. [m s^-1]
+    loading_coefficient : array_like, optional
+        The stage loading where the caller knows it exactly (from the duty, or
+        :func:`loading_from_angles`); otherwise it follows from the difference of the two
+        swirls, which cancels when the loading is small against ``1 - R``. [-]
+    reaction : array_like, optional
+        The reaction where the caller knows it exactly (from the duty); otherwise
+        ``1 - (Vtheta_in + Vtheta_out) / 2U``, right to rounding of its terms. [-]
 
     Returns
     -------
@@ -155,13 +235,19 @@ def stage_triangles(machine, blade_speed, axial_velocity, rotor_inlet_swirl, rot
         out[f"Wtheta{k}"] = relative_swirl
         out[f"W{k}"] = np.hypot(vx, relative_swirl)
 
-    sign = 1.0 if machine == "compressor" else -1.0
-    work = sign * u * (swirl_out - swirl_in)
+    if loading_coefficient is None:
+        sign = 1.0 if machine == "compressor" else -1.0
+        loading_coefficient = sign * (swirl_out - swirl_in) / u
+    else:
+        loading_coefficient, u = broadcast_cases(loading_coefficient, u)
+    with np.errstate(over="ignore"):
+        work = loading_coefficient * u * u
     stator_in, stator_out = STATOR_STATIONS[machine]
     out.update(
         flow_coefficient=vx / u,
-        loading_coefficient=work / np.square(u),
-        reaction=1.0 - (swirl_in + swirl_out) / (2.0 * u),
+        loading_coefficient=loading_coefficient,
+        reaction=(1.0 - (swirl_in + swirl_out) / (2.0 * u) if reaction is None
+                  else broadcast_cases(reaction, u)[0]),
         blade_speed=u,
         axial_velocity=vx,
         work=work,
@@ -221,8 +307,10 @@ def stage_states(machine, triangles, total_temperature, total_pressure, cp, gamm
     return out
 
 
-def _evaluate(machine, blade_speed, axial_velocity, swirl, total_temperature, total_pressure, cp, gamma):
-    values = stage_triangles(machine, blade_speed, axial_velocity, *swirl)
+def _evaluate(machine, blade_speed, axial_velocity, swirl, total_temperature, total_pressure, cp, gamma, loading,
+              reaction=None):
+    values = stage_triangles(machine, blade_speed, axial_velocity, *swirl, loading_coefficient=loading,
+                             reaction=reaction)
     failures = []
     if machine == "compressor":
         failures.append(("the rotor does no work on the flow (alpha2 <= alpha1): not a compressor stage",
@@ -284,7 +372,8 @@ def evaluate_stage_from_duty(
     """
     swirl = rotor_swirl_from_duty(machine, loading_coefficient, reaction, blade_speed)
     axial_velocity = np.asarray(flow_coefficient, dtype=float) * blade_speed
-    return _evaluate(machine, blade_speed, axial_velocity, swirl, total_temperature, total_pressure, cp, gamma)
+    return _evaluate(machine, blade_speed, axial_velocity, swirl, total_temperature, total_pressure, cp, gamma,
+                     loading_coefficient, reaction)
 
 
 def evaluate_stage_from_angles(
@@ -318,4 +407,8 @@ def evaluate_stage_from_angles(
         in the machine's sense.
     """
     swirl = rotor_swirl_from_angles(machine, axial_velocity, first_angle, second_angle)
-    return _evaluate(machine, blade_speed, axial_velocity, swirl, total_temperature, total_pressure, cp, gamma)
+    with np.errstate(divide="ignore", invalid="ignore"):
+        phi = np.asarray(axial_velocity, dtype=float) / blade_speed
+    loading = loading_from_angles(machine, phi, first_angle, second_angle)
+    return _evaluate(machine, blade_speed, axial_velocity, swirl, total_temperature, total_pressure, cp, gamma,
+                     loading)

@@ -101,6 +101,7 @@ from __future__ import annotations
 
 import numpy as np
 
+from service.core.angles import cos_tan, tangent_difference
 from service.core.cases import broadcast_cases, masked_results
 from service.core.checks import COMMON_PRACTICE, RuleCheck
 
@@ -137,12 +138,19 @@ def _valid_angles(inlet_angle, outlet_angle):
 
 
 def _loading_per_pitch_ratio(inlet_angle, outlet_angle):
-    """``2 cos^2(alpha2) |tan alpha1 - tan alpha2|``, NaN for angles at or beyond 90 deg."""
+    """``2 cos^2(alpha2) |tan alpha1 - tan alpha2|``, NaN for angles at or beyond 90 deg.
+
+    The difference of the tangents from :func:`service.core.angles.tangent_difference` (no
+    cancellation of two large, nearly equal tangents) and the cosine from the complement of the
+    angle (:func:`service.core.angles.cos_tan`: an angle within 1e-12 deg of 90 keeps it).
+    """
     inlet, outlet = broadcast_cases(inlet_angle, outlet_angle)
     valid = _valid_angles(inlet, outlet)
-    a1 = np.radians(np.where(valid, inlet, 0.0))
-    a2 = np.radians(np.where(valid, outlet, 0.0))
-    loading = 2.0 * np.square(np.cos(a2)) * np.abs(np.tan(a1) - np.tan(a2))
+    a1 = np.where(valid, inlet, 0.0)
+    a2 = np.where(valid, outlet, 0.0)
+    cos2 = cos_tan(a2)[0]
+    with np.errstate(over="ignore"):
+        loading = 2.0 * cos2 * (cos2 * np.abs(tangent_difference(a2, a1)))
     return np.where(valid, loading, np.nan)
 
 
@@ -235,12 +243,24 @@ def compressibility_factor(outlet_mach, gamma=1.4):
        impact pressure, ``(p0 - p)/q = 1 + M^2/4 + ...``.
     """
     mach, gamma = broadcast_cases(outlet_mach, gamma)
-    x = 0.5 * (gamma - 1.0) * np.square(mach)
-    # expm1/log1p keep the low-Mach limit accurate where p0/p - 1 is a small difference.
-    drop = np.expm1(gamma / (gamma - 1.0) * np.log1p(x))
-    positive = mach > 0
-    factor = 0.5 * gamma * np.square(mach) / np.where(positive, drop, 1.0)
-    return np.where(positive, factor, np.where(mach == 0, 1.0, np.nan))
+    c = gamma / (gamma - 1.0)
+    with np.errstate(divide="ignore", invalid="ignore", over="ignore", under="ignore"):
+        # ln x, x = (gamma - 1) M^2 / 2, from ln M: M^2 leaves the float range (under- or
+        # overflows) at Mach numbers whose factor is still a number.
+        log_x = np.log(0.5 * (gamma - 1.0)) + 2.0 * np.log(mach)
+        x = np.exp(log_x)
+        log_drop_base = np.logaddexp(0.0, log_x)  # ln(1 + x), accurate for tiny and huge x
+        power = c * log_drop_base  # ln(p0 / p)
+        # Small and moderate x: f = c x / expm1(c ln(1 + x)); expm1 keeps the low-Mach limit.
+        direct = c * x / np.expm1(power)
+        # Large x: f = exp(ln c + ln x - ln(expm1(power))), ln(expm1(y)) = y + ln(1 - e^-y).
+        logarithmic = np.exp(np.log(c) + log_x - power - np.log1p(-np.exp(-power)))
+        factor = np.where(log_x > 0.0, logarithmic, direct)
+        # Below M = 1e-100 the factor is 1 to within M^2/4 < 1e-200 (and x underflows).
+        factor = np.where(mach < 1e-100, 1.0, factor)
+    # A factor below the smallest normal number has lost its precision: not a number to report.
+    factor = np.where(factor >= np.finfo(float).tiny, factor, np.nan)
+    return np.where(mach > 0, factor, np.where(mach == 0, 1.0, np.nan))
 
 
 def outlet_mach_from_pressure(inlet_total_pressure, outlet_pressure, gamma=1.4):
@@ -272,8 +292,16 @@ def outlet_mach_from_pressure(inlet_total_pressure, outlet_pressure, gamma=1.4):
     """
     p01, p2, gamma = broadcast_cases(inlet_total_pressure, outlet_pressure, gamma)
     valid = (p2 > 0) & (p2 <= p01)
-    ratio = np.where(valid, p01 / np.where(valid, p2, 1.0), 1.0)
-    mach = np.sqrt(2.0 / (gamma - 1.0) * np.expm1((gamma - 1.0) / gamma * np.log(ratio)))
+    safe_p01 = np.where(valid, p01, 1.0)
+    safe_p2 = np.where(valid, p2, 1.0)
+    with np.errstate(divide="ignore", invalid="ignore"):
+        # ln(p01 / p2): from the exact difference p2 - p01 (Sterbenz) through log1p where the
+        # pressures are within a factor of two, so p2 = p01 (1 - 1e-15) keeps its digits; from the
+        # two logarithms otherwise, so that the ratio itself never overflows.
+        near = -np.log1p((safe_p2 - safe_p01) / safe_p01)
+        far = np.log(safe_p01) - np.log(safe_p2)
+        log_ratio = np.where(safe_p2 >= 0.5 * safe_p01, near, far)
+        mach = np.sqrt(2.0 / (gamma - 1.0) * np.expm1((gamma - 1.0) / gamma * log_ratio))
     return np.where(valid, mach, np.nan)
 
 
@@ -451,7 +479,9 @@ def pitch_for_blade_count(mean_radius, blade_count):
     """
     radius, count = broadcast_cases(mean_radius, blade_count)
     valid = (radius > 0) & (count >= 1) & (count == np.floor(count)) & np.isfinite(radius)
-    return np.where(valid, 2.0 * np.pi * radius / np.where(valid, count, 1.0), np.nan)
+    with np.errstate(over="ignore"):
+        # r / N first: 2 pi r overflows for radii whose pitch is still a number.
+        return np.where(valid, radius / np.where(valid, count, 1.0) * (2.0 * np.pi), np.nan)
 
 
 def _snap_to_integer(x):
@@ -492,7 +522,8 @@ def blade_count_for_pitch(mean_radius, pitch, rounding="up"):
     radius, pitch = broadcast_cases(mean_radius, pitch)
     valid = (radius > 0) & (pitch > 0) & np.isfinite(radius) & np.isfinite(pitch)
     with np.errstate(over="ignore"):
-        exact = 2.0 * np.pi * np.where(valid, radius, 0.0) / np.where(valid, pitch, 1.0)
+        # r / s first: 2 pi r overflows for radii whose count is still a number.
+        exact = np.where(valid, radius, 0.0) / np.where(valid, pitch, 1.0) * (2.0 * np.pi)
     exact = _snap_to_integer(exact)
     if rounding == "up":
         count = np.ceil(exact)
@@ -567,12 +598,15 @@ def _loading_and_failures(inlet_angle, outlet_angle, definition, outlet_mach, in
         ]
         outlet_mach = outlet_mach_from_pressure(p01, p2, gamma_b)
     mach, gamma_b = broadcast_cases(outlet_mach, gamma)
+    with np.errstate(invalid="ignore", divide="ignore"):
+        factor = compressibility_factor(mach, gamma_b)
     failures += [
         ("outlet Mach number must be positive", ~(mach > 0)),
         ("gamma must be above 1", ~(gamma_b > 1)),
+        ("the outlet Mach number is so high that the compressibility factor (outlet dynamic head over the "
+         "pressure drop) is below the smallest normal floating-point number", (mach > 0) & ~np.isfinite(factor)),
     ]
-    with np.errstate(invalid="ignore", divide="ignore"):
-        loading = loading * compressibility_factor(mach, gamma_b)
+    loading = loading * factor
     extra["outlet_mach"] = mach
     return loading, failures, extra
 
@@ -584,7 +618,7 @@ def _finish(values, failures, judged, inputs):
 def evaluate_zweifel_sizing(
     inlet_angle, outlet_angle, axial_chord, mean_radius,
     zweifel_coefficient=OPTIMUM_ZWEIFEL_COEFFICIENT, rounding="up", definition="incompressible",
-    outlet_mach=None, inlet_total_pressure=None, outlet_pressure=None, gamma=1.4,
+    outlet_mach=None, inlet_total_pressure=None, outlet_pressure=None, gamma=1.4, *, loading_per_pitch_ratio=None,
 ):
     """Pitch and whole blade count of a row for a target Zweifel coefficient.
 
@@ -618,6 +652,10 @@ def evaluate_zweifel_sizing(
         Outlet static pressure. [Pa]
     gamma : array_like
         Ratio of specific heats (compressible only). [-]
+    loading_per_pitch_ratio : array_like, optional
+        The incompressible ``2 cos^2(alpha2) |tan alpha1 - tan alpha2|`` where the caller has it
+        from velocities, ``2 Vx |V_theta1 - V_theta2| / V2^2``, more precisely than from angles
+        rounded to degrees (a few ulps short of 90 deg); the angles still decide the failures. [-]
 
     Returns
     -------
@@ -638,6 +676,10 @@ def evaluate_zweifel_sizing(
     loading, failures, extra = _loading_and_failures(
         inlet_angle, outlet_angle, definition, outlet_mach, inlet_total_pressure, outlet_pressure, gamma
     )
+    if loading_per_pitch_ratio is not None:
+        if definition != "incompressible":
+            raise ValueError("loading_per_pitch_ratio applies only to definition='incompressible'")
+        loading = np.where(np.isnan(loading), np.nan, loading_per_pitch_ratio)
     chord, radius, target = broadcast_cases(axial_chord, mean_radius, zweifel_coefficient)
     failures += [
         (NO_TURNING_REASON, loading == 0),
@@ -647,7 +689,9 @@ def evaluate_zweifel_sizing(
     ]
     with np.errstate(invalid="ignore", divide="ignore", over="ignore"):
         ratio = _pitch_ratio(loading, target)
-        count = blade_count_for_pitch(radius, ratio * chord, rounding)
+        # The count depends on r / s = (r / cx) / (s / cx) only: in ratios to the chord, the pitch of a
+        # lightly loaded row (s / cx near the float maximum) does not overflow before the count.
+        count = blade_count_for_pitch(radius / chord, ratio, rounding)
         pitch = pitch_for_blade_count(radius, count)
         achieved = loading * pitch / chord
     failures.append(

@@ -50,7 +50,7 @@ EXAMPLES = {
                 "axial_velocity": 150.0, "alpha1": 30.0, "alpha2": 55.0, "alpha3": -10.0,
                 "axial_chord": 0.04, "blade_height": 0.06, "aspect_ratio": 1.5, "mean_radius": 0.42,
                 "rotor_solidity": 1.3, "stator_solidity": 1.1, "chord": 0.05, "rotor_blade_count": 40,
-                "stator_blade_count": 50},
+                "stator_blade_count": 50, "hub_radius": 0.36, "tip_radius": 0.48, "hub_to_tip_ratio": 0.75},
         # At phi 0.5, psi 0.4, R 0.5 and U 300 m/s, V1 = 150 / cos(atan 0.6) = 174.9 m/s, so
         # V1^2 / (2 cp) = 15.2 K with cp 1005 J/(kg K): a total temperature of 10 K leaves a
         # negative static temperature at station 1 (derived here from T = T0 - V^2 / (2 cp)).

@@ -137,9 +137,30 @@ def _ids(root, prefix):
 def test_the_flowpath_drawing_is_svg_with_every_row(client, case, rows):
     root = _svg(client, "/v1/machine-design", case)
     assert root.tag == f"{SVG_NS}svg"
-    assert _ids(root, "row-") == sorted(f"row-{j}" for j in range(1, rows + 1))
+    ids = _ids(root, "row-")
+    assert [i for i in ids if i.count("-") == 1] == sorted(f"row-{j}" for j in range(1, rows + 1))
     text = " ".join(t.text or "" for t in root.iter(f"{SVG_NS}text"))
     assert "axial position x [m]" in text and "radius r [m]" in text
+    # Issue 15: the rows whose hub or tip checks warn or fail are marked, each with its worst status.
+    answer = _post(client, "/v1/machine-design", case)
+    expected = set()
+    rotor_first = case["machine"] == "compressor"
+    for name, kind in (("rotor_diffusion_factor_tip", "rotor"), ("stator_diffusion_factor_hub", "stator"),
+                       ("rotor_de_haller_hub", "rotor"), ("stator_de_haller_hub", "stator"),
+                       ("stage_reaction_hub", "rotor"), ("stage_rotor_tip_relative_mach", "rotor")):
+        for i, status in enumerate(answer["checks"].get(name, {}).get("status") or []):
+            if status in ("warn", "fail"):
+                expected.add(2 * i + (1 if (kind == "rotor") != rotor_first else 0) + 1)
+    assert {int(i.split("-")[1]) for i in ids if i.count("-") == 2} == expected
+
+
+def test_the_flowpath_drawing_marks_a_failing_hub():
+    # A low mean reaction on long blades: the free-vortex hub reaction is negative (fails) in some stage.
+    client = create_app().test_client()
+    case = {**COMPRESSOR, "reaction": 0.3, "mass_flow": 60.0}
+    answer = _post(client, "/v1/machine-design", case)
+    assert "fail" in answer["checks"]["stage_reaction_hub"]["status"]
+    assert any(i.endswith("-fail") for i in _ids(_svg(client, "/v1/machine-design", case), "row-"))
 
 
 @pytest.mark.parametrize(("machine", "stations"), [("compressor", (1, 2)), ("turbine", (2, 3))])

@@ -10,7 +10,9 @@ repetitions with the spread (lowest .. highest) of the repetitions:
 - the same batch sent as rows over the columns time;
 - the in-process time of 1,000,000 cases over 100,000 cases (cost growth, 10 is linear);
 - the worker's peak resident memory during the 100,000-case columns batch over the request
-  body size.
+  body size;
+- with ``--memory``, the worker's peak memory per case of every calculation and request shape
+  (tests/benchmarks/memory.py), the figures behind ``service/api/memory.py``.
 
 Each repetition pairs the two measurements of a ratio back to back, so that a slow moment of
 a shared machine affects both. Exit status 1 if a median misses its target, 2 on an error.
@@ -208,6 +210,9 @@ def main(argv=None) -> int:
     parser.add_argument("--only", choices=[w.name for w in WORKLOADS], action="append",
                         help="measure only this calculation (repeatable)")
     parser.add_argument("--time-limit", type=int, default=900, help="stop with status 2 after this many seconds")
+    parser.add_argument("--memory", action="store_true",
+                        help="then the worker's peak memory per case of every calculation and shape "
+                             "(python -m tests.benchmarks.memory; about a minute)")
     args = parser.parse_args(argv)
 
     def out_of_time(signum, frame):
@@ -256,6 +261,11 @@ def main(argv=None) -> int:
     missed = [f for f in figures if not f.met]
     print(f"{len(figures) - len(missed)} of {len(figures)} figures within target "
           f"({time.monotonic() - started:.0f} s; load average {os.getloadavg()[0]:.1f} at the end)")
+    if args.memory:
+        from tests.benchmarks import memory
+
+        print("worker peak memory per case (VmHWM over VmRSS before the request):", flush=True)
+        memory.main([])
     return 1 if missed else 0
 
 

@@ -289,6 +289,9 @@ def _check_computed(response, shape: str) -> None:
             assert _check_problem(response, 422)["type"] == PHYSICALLY_IMPOSSIBLE
             return
         assert response.status_code == 200, body
+        # No finite wrong number, and no missing one: every single output of a 200 is a number.
+        missing = [name for name, value in body.items() if name != "checks" and value is None]
+        assert missing == [], (missing, body)
         return
     assert response.status_code == 200, body
     failed = {error["index"] for error in body["errors"]}
@@ -311,6 +314,8 @@ def _pointers(problem: dict) -> list[str]:
 
 
 def _applicable(case, calculation) -> bool:
+    if "each_numeric_field" in case:
+        return bool(_extreme_parameters(case, calculation))
     try:
         build_query(case, calculation) if "get" in case else build_request(case, calculation)
     except NotApplicable:
@@ -321,7 +326,8 @@ def _applicable(case, calculation) -> bool:
 def _parameters():
     """Every corpus case with every calculation whose valid cases have the fields it selects."""
     return [pytest.param(case, calculation, id=f"{case['id']}-{calculation.name}")
-            for case in CORPUS["cases"] for calculation in CALCULATIONS if _applicable(case, calculation)]
+            for case in CORPUS["cases"] if "each_numeric_field" not in case
+            for calculation in CALCULATIONS if _applicable(case, calculation)]
 
 
 @pytest.fixture
@@ -410,3 +416,91 @@ def test_a_case_built_from_the_schema_is_schema_valid(calculation):
     """The fallback base for a calculation without a hand-written one is accepted as input."""
     response = APP.test_client().post(calculation.path, json=_schema_case(calculation))
     assert response.status_code == 200 or _strict_json(response.get_data())["type"] == PHYSICALLY_IMPOSSIBLE
+
+
+# -- the extreme magnitudes of every numeric field (corpus cases with each_numeric_field) ----------------
+
+
+def _numeric_fields(calculation) -> dict:
+    return {name: field for name, field in calculation._case_schema.fields.items()
+            if isinstance(field, Quantity | QuantityList)}
+
+
+def _extreme_tokens(case: dict, field) -> list[str]:
+    """The case's extreme JSON numbers and, with bounds, each bound of the field and the floats either side."""
+    spec = case["each_numeric_field"]
+    tokens = list(spec["values"])
+    number = field.item if isinstance(field, QuantityList) else field
+    if spec.get("bounds"):
+        for bound in (number.minimum, number.maximum):
+            if bound is not None:
+                bound = float(bound)
+                tokens += [repr(bound), repr(float(np.nextafter(bound, -np.inf))),
+                           repr(float(np.nextafter(bound, np.inf)))]
+    return list(dict.fromkeys(tokens))
+
+
+def _extreme_parameters(case: dict, calculation) -> list[tuple[str, str, str]]:
+    """(field, token, shape) of every numeric field of the calculation that some valid case gives."""
+    spec = case["each_numeric_field"]
+    given = {name for base in valid_cases(calculation) for name in base}
+    out = []
+    for name, field in _numeric_fields(calculation).items():
+        if name not in given:
+            continue
+        for token in _extreme_tokens(case, field):
+            for shape, tokens in spec["shapes"].items():
+                if tokens == "all" or token in tokens:
+                    out.append((name, token, shape))
+    return out
+
+
+def _extreme_request(calculation, name: str, token: str, shape: str) -> tuple[bytes, dict, str]:
+    """Body, the valid case it breaks, and the JSON Pointer of the value set to ``token``."""
+    base = next(case for case in valid_cases(calculation) if name in case)
+    field = calculation._case_schema.fields[name]
+    placeholder = "@@extreme@@"
+    edited, suffix = dict(base), ""
+    if isinstance(field, QuantityList) and isinstance(base[name], list):
+        edited[name] = [placeholder, *base[name][1:]]
+        suffix = "/0"
+    else:
+        edited[name] = placeholder
+    document = edited if shape == "single" else {"cases": [base, edited]}
+    prefix = "" if shape == "single" else "/cases/1"
+    return _dumps_with_raw(document, {placeholder: token}).encode(), base, f"{prefix}/{name}{suffix}"
+
+
+def _extreme_cases():
+    return [pytest.param(calculation, name, token, shape, id=f"{calculation.name}-{name}-{token}-{shape}")
+            for case in CORPUS["cases"] if "each_numeric_field" in case
+            for calculation in CALCULATIONS for name, token, shape in _extreme_parameters(case, calculation)]
+
+
+@pytest.mark.parametrize(("calculation", "name", "token", "shape"), _extreme_cases())
+def test_extreme_magnitudes_of_every_numeric_field(calculation, name, token, shape, no_hang, caplog):
+    """Each numeric field at the extremes of the float range and at its documented bounds: refused at
+    that field if outside its range, else computed (a 200 of numbers, a per-case error in a batch,
+    or the physically-impossible 422 for one case). Never a 500 or a null in a 200."""
+    data, base, pointer = _extreme_request(calculation, name, token, shape)
+    response = APP.test_client().post(calculation.path, data=data, headers={"Content-Type": "application/json"})
+    text = response.get_data(as_text=True)
+    assert response.status_code < 500, text[:500]
+    assert not [r for r in caplog.records if r.levelname in ("ERROR", "CRITICAL")]
+    field = calculation._case_schema.fields[name]
+    number = field.item if isinstance(field, QuantityList) else field
+    if number._out_of_range(np.asarray(float(token))):
+        problem = _check_problem(response, 422)
+        assert problem["type"] == INVALID_INPUT
+        assert set(_pointers(problem)) == {pointer}, problem
+    else:
+        _check_computed(response, shape)
+        if shape == "rows":  # the unchanged valid case beside it is computed as ever
+            assert 0 not in {error["index"] for error in _strict_json(response.get_data())["errors"]}
+
+
+@pytest.mark.parametrize("calculation", CALCULATIONS, ids=lambda c: c.name)
+def test_every_numeric_field_is_given_by_a_valid_case(calculation):
+    """So that the extreme magnitudes reach every numeric field of every endpoint."""
+    given = {name for base in valid_cases(calculation) for name in base}
+    assert set(_numeric_fields(calculation)) - given == set()

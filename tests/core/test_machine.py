@@ -514,6 +514,18 @@ def test_hub_to_tip_ratio_for_flow_finds_the_shortest_blade_that_passes_it():
     assert_allclose(ratio, np.sqrt(1 - 0.05 / (np.pi * np.array([0.3, 0.2]) ** 2)), rtol=1e-10)
 
 
+def test_hub_to_tip_ratio_near_a_guess_is_the_closed_form_and_falls_back_without_one():
+    # The same closed-form annulus (A = pi r_t^2 (1 - x^2), derived here) from a guess near the root, far from
+    # it, and with no guess (NaN: the scan from short blades takes over); a flow no annulus passes gives NaN.
+    tip = np.array([0.3, 0.2, 0.25, 0.25])
+    expected = np.sqrt(1 - 0.05 / (np.pi * tip ** 2))
+    expected[3] = np.nan
+    needed = np.array([0.05, 0.05, 0.05, 1.0])
+    ratio = annulus.hub_to_tip_ratio_near("tip", tip, lambda ring, which: ring["area"] / needed[which],
+                                          np.array([0.8, 0.1, np.nan, 0.5]))
+    assert_allclose(ratio, expected, rtol=1e-10)
+
+
 def test_flowpath_row_mean_and_layout():
     assert_allclose(flowpath.row_mean([1.0, 3.0, 7.0]), [2.0, 5.0])
     layout = flowpath.axial_layout(np.array([0.02, 0.03, 0.04]), 0.5)
@@ -561,3 +573,39 @@ def test_every_closed_layout_conserves_mass_and_work(base, held, stages, phi, re
     rothalpy = base["cp"] * v["station_static_temperature"][0] + v["station_relative_velocity"][0] ** 2 / 2 - u ** 2 / 2
     assert_allclose(rothalpy[outlet], rothalpy[inlet], rtol=1e-9)
     assert np.all(v["station_axial_mach"] < 1) and np.all(v["station_hub_radius"] > 0)
+
+
+@settings(max_examples=40, deadline=None)
+@given(
+    base=st.sampled_from([COMPRESSOR, TURBINE]),
+    held=st.sampled_from(HELD),
+    stages=st.integers(1, 5),
+    length=st.sampled_from([1e-3, 0.37, 1.0, 25.0, 1e3]),
+    temperature=st.sampled_from([1e-2, 0.5, 1.0, 3.0, 1e2]),
+    pressure=st.sampled_from([1e-6, 1e-2, 1.0, 40.0, 1e6]),
+)
+def test_dimensionless_answers_do_not_depend_on_the_scale(base, held, stages, length, temperature, pressure):
+    # Issue 13: dimensionless outputs are invariant under the scalings the physics has (derived here).
+    # Lengths x L; total temperature x tau, so every velocity (V^2 ~ cp T) and the blade speed scale with
+    # sqrt(tau): shaft speed x sqrt(tau) / L; total pressure x P, so density scales as P / tau and the mass
+    # flow rho V A as P L^2 / sqrt(tau). Angles, Mach numbers, ratios, coefficients and blade counts stay.
+    scaled = {name: value * length for name, value in held.items()}
+    result = design(base, stages=stages, **held)
+    other = design(base, stages=stages, **scaled, total_temperature=base["total_temperature"] * temperature,
+                   total_pressure=base["total_pressure"] * pressure,
+                   shaft_speed=base["shaft_speed"] * np.sqrt(temperature) / length,
+                   mass_flow=base["mass_flow"] * pressure * length ** 2 / np.sqrt(temperature))
+    assert reasons(other) == reasons(result)
+    v, w = result.values, other.values
+    assert_array_equal(w["stage_count"], v["stage_count"])
+    for name in ("station_alpha", "station_beta", "station_mach", "station_relative_mach", "station_axial_mach",
+                 "station_hub_to_tip_ratio", "stage_pressure_ratio", "stage_loading_coefficient",
+                 "stage_flow_coefficient", "stage_reaction", "stage_kinematic_reaction", "row_solidity",
+                 "row_de_haller", "isentropic_efficiency", "row_stagger"):
+        assert_allclose(w[name], v[name], rtol=1e-9, atol=1e-9, err_msg=name)
+    judged = "row_diffusion_factor" if base["machine"] == "compressor" else "row_zweifel_coefficient"
+    assert_allclose(w[judged], v[judged], rtol=1e-9, atol=1e-12)
+    assert_array_equal(w["row_blade_count"], v["row_blade_count"])
+    assert_allclose(w["station_mean_radius"], v["station_mean_radius"] * length, rtol=1e-9)
+    assert_allclose(w["station_static_temperature"], v["station_static_temperature"] * temperature, rtol=1e-9)
+    assert_allclose(w["station_static_pressure"], v["station_static_pressure"] * pressure, rtol=1e-9)

@@ -6,6 +6,7 @@ validators (gunicorn.config.Config), which is the program that consumes them.
 """
 
 import importlib
+import logging
 import os
 import pathlib
 import runpy
@@ -69,7 +70,7 @@ def test_defaults(load_conf):
     assert conf.bind == "127.0.0.1:8080"
     assert conf.DEFAULT_PORT == 8080
     assert conf.workers == 6  # one per usable CPU
-    assert conf.worker_class == "sync"
+    assert conf.worker_class == "service.worker.PacedSyncWorker"  # sync, with bounded waits on clients
     assert conf.threads == 1
     assert conf.timeout == 30
     assert conf.graceful_timeout == 30  # follows the request time limit
@@ -171,7 +172,7 @@ def test_gunicorn_accepts_every_setting(load_conf):
     assert required <= taken.keys()
     assert config.address == [("0.0.0.0", 8080)]
     assert config.workers == 3
-    assert config.worker_class_str == "sync"
+    assert config.worker_class_str == "service.worker.PacedSyncWorker"
     # gunicorn's own bounds: 0 < limit_request_line <= 8190, limit_request_fields <= 32768
     assert 0 < config.limit_request_line <= 8190
     assert 0 < config.limit_request_fields <= 32768
@@ -208,6 +209,8 @@ def test_available_cpus_honours_the_cgroup_quota(monkeypatch, tmp_path, files, a
 
 
 def test_on_starting_removes_only_stale_metric_files(monkeypatch, tmp_path):
+    monkeypatch.setattr(conf_module, "_read_api_keys", lambda server: None)  # tested below
+    monkeypatch.setattr(conf_module, "_derive_max_memory", lambda server: None)
     directory = tmp_path / "prometheus"
     directory.mkdir()
     (directory / "counter_1234.db").write_bytes(b"stale")
@@ -217,7 +220,42 @@ def test_on_starting_removes_only_stale_metric_files(monkeypatch, tmp_path):
     assert sorted(path.name for path in directory.iterdir()) == ["notes.txt"]
 
 
+class _FakeServer:
+    """What the hooks use of gunicorn's arbiter: its logger."""
+
+    def __init__(self):
+        self.log = logging.getLogger("test.arbiter")
+
+
+def test_the_master_reads_the_api_keys_at_start_and_on_reload(monkeypatch, tmp_path, caplog):
+    from service.api import keys
+
+    monkeypatch.setattr(keys, "_server_digests", None)
+    monkeypatch.setattr(conf_module, "_derive_max_memory", lambda server: None)
+    monkeypatch.delenv("PROMETHEUS_MULTIPROC_DIR", raising=False)
+    monkeypatch.delenv("MEANLINE_API_KEYS", raising=False)
+    path = tmp_path / "api-keys"
+    path.write_text("first-key-0123456789\n")
+    monkeypatch.setenv("MEANLINE_API_KEYS_FILE", str(path))
+    conf_module.on_starting(_FakeServer())
+    first = keys.server_digests()
+    assert len(first) == 1
+    path.write_text("second-key-0123456789\nthird-key-0123456789\n")
+    conf_module.on_reload(_FakeServer())
+    assert len(keys.server_digests()) == 2
+    path.write_text("")
+    with caplog.at_level(logging.ERROR):
+        conf_module.on_reload(_FakeServer())
+    assert len(keys.server_digests()) == 2 and "API KEYS NOT RELOADED" in caplog.text
+    # At start, a bad key source stops the server rather than leave it open.
+    monkeypatch.setattr(keys, "_server_digests", None)
+    with pytest.raises(SystemExit):
+        conf_module.on_starting(_FakeServer())
+
+
 def test_on_starting_creates_the_directory(monkeypatch, tmp_path):
+    monkeypatch.setattr(conf_module, "_read_api_keys", lambda server: None)  # tested below
+    monkeypatch.setattr(conf_module, "_derive_max_memory", lambda server: None)
     directory = tmp_path / "missing" / "prometheus"
     monkeypatch.setenv("PROMETHEUS_MULTIPROC_DIR", str(directory))
     conf_module.on_starting(server=None)
@@ -315,4 +353,4 @@ def test_gunicorn_starts_with_the_deploy_file(tmp_path):
         server.send_signal(signal.SIGTERM)
         output = server.communicate(timeout=30)[0].decode()
     assert server.returncode == 0, output
-    assert "Using worker: sync" in output
+    assert "Using worker: service.worker.PacedSyncWorker" in output

@@ -51,8 +51,8 @@ class Outcome:
 
 
 def request_mix() -> list[Call]:
-    """Single cases, a batch of 10 rows and a sweep of 50 columns of every calculation with a valid
-    case in tests/corpus/valid_cases.json, and one invalid request each (expected 422)."""
+    """Single cases, a batch of 10 rows and (where the calculation takes columns) a sweep of 50 columns
+    of every valid case in tests/corpus/valid_cases.json, and one invalid request each (expected 422)."""
     from service.api.registry import CALCULATIONS
 
     calls = []
@@ -60,7 +60,10 @@ def request_mix() -> list[Call]:
         for case in VALID_CASES.get(calculation.name, []):
             number = next(name for name, value in case.items() if isinstance(value, float))
             sweep = [case[number] * (0.95 + 0.1 * k / 49) for k in range(50)]
-            for document in (case, {"cases": [case] * 10}, {"columns": {**case, number: sweep}}):
+            documents = [case, {"cases": [case] * 10}]
+            if calculation.columns:  # the stage split and the machine design take no columns
+                documents.append({"columns": {**case, number: sweep}})
+            for document in documents:
                 calls.append(Call(calculation.path, json.dumps(document).encode(), 200))
         calls.append(Call(calculation.path, b"{}", 422))
     return calls

@@ -59,7 +59,9 @@ def test_no_key_is_401_with_www_authenticate(keyed, path):
     {"Authorization": f"Bearer {WRONG}"},
     {"X-API-Key": KEY_ONE + KEY_TWO},
     {"X-API-Key": KEY_ONE[:-1]},
-], ids=["header", "bearer", "two-keys-joined", "prefix"])
+    {"X-API-Key": WRONG, "Authorization": f"Bearer {KEY_ONE}"},
+    {"X-API-Key": KEY_ONE, "Authorization": f"Bearer {WRONG}"},
+], ids=["header", "bearer", "two-keys-joined", "prefix", "wrong-header-right-bearer", "right-header-wrong-bearer"])
 def test_a_wrong_key_is_403(keyed, path, headers):
     response = keyed.post(path, json=BODY, headers=headers)
     assert response.status_code == 403
@@ -73,8 +75,8 @@ def test_a_wrong_key_is_403(keyed, path, headers):
     {"X-API-Key": f"  {KEY_TWO} "},
     {"Authorization": f"Bearer {KEY_TWO}"},
     {"Authorization": f"bearer {KEY_ONE}"},  # the scheme is case-insensitive (RFC 9110, 11.1)
-    {"X-API-Key": WRONG, "Authorization": f"Bearer {KEY_ONE}"},
-], ids=["header", "header-padded", "bearer", "bearer-lower-case", "one-of-two-right"])
+    {"X-API-Key": KEY_TWO, "Authorization": f"Bearer {KEY_ONE}"},
+], ids=["header", "header-padded", "bearer", "bearer-lower-case", "both-right"])
 def test_a_right_key_reaches_the_calculation(keyed, path, headers):
     response = keyed.post(path, json=BODY, headers=headers)
     # Past access control, the body is judged: 422 for this one, not 401 or 403.
@@ -302,3 +304,50 @@ def test_security_headers_on_every_response(clean_environment):
         if response.status_code >= 400:
             assert response.headers["Cache-Control"] == "no-store", kind
             assert response.mimetype == "application/problem+json", kind
+
+
+# -- keys read by the server's master (service/api/keys.py) ----------------------------------------
+
+
+@pytest.fixture
+def server_keys(monkeypatch):
+    """The module state a gunicorn master sets, reset after the test."""
+    from service.api import keys
+
+    monkeypatch.setattr(keys, "_server_digests", None)
+    return keys
+
+
+def test_an_app_under_the_server_takes_the_master_s_keys_not_the_file_s(server_keys, clean_environment, tmp_path):
+    path = tmp_path / "api-keys"
+    path.write_text(KEY_ONE + "\n")
+    clean_environment.setenv("MEANLINE_API_KEYS_FILE", str(path))
+    assert server_keys.read_for_server() == 1
+    path.write_text(KEY_TWO + "\n")  # changed, but not reloaded: a new worker keeps to the master's keys
+    client = create_app().test_client()
+    assert client.post(CALCULATIONS[0].path, json=BODY, headers={"X-API-Key": KEY_ONE}).status_code == 422
+    assert client.post(CALCULATIONS[0].path, json=BODY, headers={"X-API-Key": KEY_TWO}).status_code == 403
+    # An app given its own key source keeps it.
+    own = create_app({"API_KEYS": [KEY_TWO]}).test_client()
+    assert own.post(CALCULATIONS[0].path, json=BODY, headers={"X-API-Key": KEY_TWO}).status_code == 422
+
+
+def test_a_reload_takes_new_keys_and_keeps_the_last_good_ones_over_a_bad_file(
+        server_keys, clean_environment, tmp_path, caplog):
+    path = tmp_path / "api-keys"
+    path.write_text(KEY_ONE + "\n")
+    clean_environment.setenv("MEANLINE_API_KEYS_FILE", str(path))
+    server_keys.read_for_server()
+    path.write_text(KEY_TWO + "\n")
+    assert server_keys.reload_for_server() is True
+    assert server_keys.server_digests() == (hashlib.sha256(KEY_TWO.encode()).digest(),)
+    for bad in ("", "# emptied\n", None):
+        if bad is None:
+            path.unlink()
+        else:
+            path.write_text(bad)
+        caplog.clear()
+        with caplog.at_level(logging.ERROR):
+            assert server_keys.reload_for_server() is False
+        assert server_keys.server_digests() == (hashlib.sha256(KEY_TWO.encode()).digest(),)
+        assert "API KEYS NOT RELOADED" in caplog.text and KEY_TWO not in caplog.text
