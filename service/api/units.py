@@ -16,6 +16,7 @@ import functools
 import math
 import re
 
+import numpy as np
 from marshmallow import ValidationError, missing
 
 #: The ``x-unit`` spellings of the schemas, as pint reads them.
@@ -153,6 +154,9 @@ def us_factor(unit: str) -> float:
     return float(registry().Quantity(1.0, PINT_UNITS[unit]).to(US_UNITS[unit][0]).magnitude)
 
 
+OVERFLOW = "a result does not fit a double in US customary units (overflow): check the magnitudes of the inputs"
+
+
 def _scaled(value, factor: float):
     if value is None:
         return None
@@ -163,20 +167,64 @@ def _scaled(value, factor: float):
     return value * factor
 
 
+def _overflowed(value) -> bool:
+    """Whether a converted value (a number, a list, a column) holds an infinity."""
+    if value is None or isinstance(value, str):
+        return False
+    if isinstance(value, list):
+        return any(_overflowed(item) for item in value)
+    return bool(np.isinf(np.asarray(value, dtype=float)).any())
+
+
+def _failed_case(case: dict) -> dict:
+    """A case's answer as a failed case's: null outputs, checks without value or status."""
+    return {name: ({check: {**entry, "value": None, "status": None} for check, entry in value.items()}
+                   if name == "checks" else None) for name, value in case.items()}
+
+
 def answer_in_us(calculation, body: dict) -> dict:
     """An answer (any shape, not streamed) with every output in its US customary unit. Check
-    values stay as they are: every rule of thumb judges a dimensionless number."""
+    values stay as they are: every rule of thumb judges a dimensionless number. A case whose
+    conversion overflows fails as a case (a batch) or as the request (one case), as any output
+    that is not finite does."""
     factors = {name: us_factor(field.metadata["x-unit"]) for name, field in calculation.outputs().fields.items()}
     factors = {name: factor for name, factor in factors.items() if factor != 1.0}
 
     def convert(case: dict) -> dict:
-        return {name: _scaled(value, factors[name]) if name in factors else value for name, value in case.items()}
+        with np.errstate(over="ignore"):
+            return {name: _scaled(value, factors[name]) if name in factors else value for name, value in case.items()}
 
     if "results" in body:
-        return {**body, "results": [convert(case) if case is not None else None for case in body["results"]]}
+        results, errors = [], list(body.get("errors", []))
+        for index, case in enumerate(body["results"]):
+            converted = convert(case) if case is not None else None
+            if converted is not None and any(_overflowed(v) for k, v in converted.items() if k != "checks"):
+                converted = _failed_case(case)
+                errors.append({"index": index, "detail": OVERFLOW})
+            results.append(converted)
+        return {**body, "results": results, "errors": sorted(errors, key=lambda e: e["index"])}
     if "columns" in body:
-        return {**body, "columns": convert(body["columns"])}
-    return convert(body)
+        columns = convert(body["columns"])
+        size = max((len(v) for k, v in columns.items() if k != "checks"), default=0)
+        failed = sorted({i for k, v in columns.items() if k != "checks" for i in range(size) if _overflowed(v[i])})
+        if failed:
+            for name, value in list(columns.items()):
+                if name == "checks":
+                    continue
+                value = value.tolist() if hasattr(value, "tolist") else list(value)
+                columns[name] = [None if i in failed else v for i, v in enumerate(value)]
+            for entry in columns.get("checks", {}).values():
+                for key in ("value", "status"):
+                    values = entry[key].tolist() if hasattr(entry[key], "tolist") else list(entry[key])
+                    entry[key] = [None if i in failed else v for i, v in enumerate(values)]
+        errors = list(body.get("errors", [])) + [{"index": i, "detail": OVERFLOW} for i in failed]
+        return {**body, "columns": columns, "errors": sorted(errors, key=lambda e: e["index"])}
+    converted = convert(body)
+    if any(_overflowed(v) for k, v in converted.items() if k != "checks"):
+        from service.api.problems import PHYSICALLY_IMPOSSIBLE, Problem
+
+        raise Problem(422, "Physically impossible case", OVERFLOW, PHYSICALLY_IMPOSSIBLE)
+    return converted
 
 
 def system(value=missing, pointer: str = "/units", parameter: str | None = None) -> str:

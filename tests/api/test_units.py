@@ -204,3 +204,20 @@ def test_a_null_unit_system_is_a_422(client):
     problem = strict_json(client.post("/v1/triangles", json={"cases": [EXAMPLES["triangles"].good], "units": None})
                           .get_data(as_text=True))
     assert problem["status"] == 422 and [e["pointer"] for e in problem["errors"]] == ["/units"]
+
+
+def test_an_overflow_in_us_units_fails_the_case_not_the_batch(client):
+    # 1.5e308 K is finite in SI and 2.7e308 degR is not: that case fails as any overflow does.
+    good = EXAMPLES["triangles"].good
+    huge = {**good, "total_temperature": 1.5e308}
+    si = client.post("/v1/triangles", json={"cases": [good, huge]})
+    if si.status_code != 200 or strict_json(si.get_data(as_text=True))["errors"]:
+        pytest.skip("the inputs' bounds, or the SI answer itself, refuse the case already")
+    body = strict_json(client.post("/v1/triangles", json={"cases": [good, huge], "units": "us"}).get_data(as_text=True))
+    assert [e["index"] for e in body["errors"]] == [1]
+    assert body["results"][1]["T01"] is None and body["results"][0]["T01"] > 0
+    single = client.post("/v1/triangles", json={**huge, "units": "us"})
+    assert single.status_code == 422
+    columns = {name: [good[name], huge[name]] for name in good}
+    body = strict_json(client.post("/v1/triangles", json={"columns": columns, "units": "us"}).get_data(as_text=True))
+    assert [e["index"] for e in body["errors"]] == [1] and body["columns"]["T01"][1] is None
