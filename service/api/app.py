@@ -172,10 +172,11 @@ def _calculation_view(calculation: Calculation):
 def _unit_system(payload):
     """The unit system of the answer (the body's ``units`` or the query's ``units``), and the
     request without it."""
+    in_query = _query_system()  # judged where given, also beside the body's
     if isinstance(payload, dict) and "units" in payload:
         payload = dict(payload)
         return units.system(payload.pop("units")), payload
-    return _query_system(), payload
+    return in_query, payload
 
 
 def _query_system() -> str:

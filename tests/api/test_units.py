@@ -221,3 +221,9 @@ def test_an_overflow_in_us_units_fails_the_case_not_the_batch(client):
     columns = {name: [good[name], huge[name]] for name in good}
     body = strict_json(client.post("/v1/triangles", json={"columns": columns, "units": "us"}).get_data(as_text=True))
     assert [e["index"] for e in body["errors"]] == [1] and body["columns"]["T01"][1] is None
+
+
+def test_units_in_the_query_are_judged_beside_the_bodys(client):
+    body = {"cases": [EXAMPLES["triangles"].good], "units": "us"}
+    problem = strict_json(client.post("/v1/triangles?units=", json=body).get_data(as_text=True))
+    assert problem["status"] == 422 and [e.get("parameter") for e in problem["errors"]] == ["units"]
