@@ -61,6 +61,8 @@ def live_server(directory: pathlib.Path, workers: int = 1, environment: dict | N
     port = free_port()
     env = {key: value for key, value in os.environ.items()
            if not key.startswith("MEANLINE_") and key != "PROMETHEUS_MULTIPROC_DIR"}
+    # The service of this checkout (a worktree too), whatever else is installed in the environment.
+    env["PYTHONPATH"] = os.pathsep.join(filter(None, [str(REPO_ROOT), env.get("PYTHONPATH")]))
     env.update(environment or {})
     stdout, stderr = directory / "server.stdout", directory / "server.stderr"
     with open(stdout, "wb") as out, open(stderr, "wb") as err:

@@ -29,6 +29,7 @@ from flask import Flask, Response, current_app, request
 
 from service.api import keys
 from service.api.problems import FORBIDDEN, UNAUTHORIZED, Problem, problem_response
+from service.api.query import query_keys
 
 API_KEY_HEADER = "X-API-Key"
 REALM = "meanline-service"
@@ -81,7 +82,7 @@ def _require_key() -> Response | None:
         return None
     if request.method == "OPTIONS":  # what a route allows is public too; preflights carry no key
         return None
-    presented = presented_keys(request.headers)
+    presented = presented_keys(request.headers) + query_keys()
     if not presented:
         return problem_response(
             Problem(401, "Unauthorized", f"This service requires an API key: send it in the {API_KEY_HEADER} "

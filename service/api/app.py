@@ -14,7 +14,7 @@ from flask import Blueprint, Flask, Response, current_app, request
 from werkzeug.exceptions import RequestEntityTooLarge
 
 from service import __version__
-from service.api import access, jsonparse, jsonwrite, memory, observability
+from service.api import access, csvio, jsonparse, jsonwrite, memory, observability, outputs, query, units
 from service.api.calculation import Calculation, run_calculation, run_drawing
 from service.api.problems import (
     MALFORMED,
@@ -36,6 +36,7 @@ DEFAULTS = {
     "MAX_MEMORY": memory.DEFAULT_MAX_MEMORY,
     "API_KEYS": None,
     "API_KEYS_FILE": None,
+    "API_KEYS_IN_QUERY": False,
 }
 #: Configuration keys read from ``MEANLINE_<KEY>`` environment variables, with their parsers.
 ENVIRONMENT = {
@@ -44,7 +45,14 @@ ENVIRONMENT = {
     "MAX_MEMORY": int,
     "API_KEYS": str,
     "API_KEYS_FILE": str,
+    "API_KEYS_IN_QUERY": lambda raw: _flag(raw),
 }
+
+
+def _flag(raw: str) -> bool:
+    if raw.strip().lower() not in ("0", "1", "true", "false", "yes", "no", ""):
+        raise ValueError("give 1 or 0")
+    return raw.strip().lower() in ("1", "true", "yes")
 
 
 def load_config(config: Mapping | None = None) -> dict:
@@ -85,6 +93,7 @@ def create_app(config: Mapping | None = None) -> Flask:
     # metrics (which so see every answer), then the security headers.
     app.wsgi_app = _answer_when_stopped(app.wsgi_app)
     observability.init_app(app)  # before access: its logging is set up for access's start-up notes
+    app.before_request(query.check_api_key_parameter)  # before access: a refused query key is a 400, not a 401
     access.init_app(app, configured=bool({"API_KEYS", "API_KEYS_FILE"} & set(config or {})))
 
     spec_bytes = orjson.dumps(build_spec(list(CALCULATIONS), __version__))
@@ -92,6 +101,8 @@ def create_app(config: Mapping | None = None) -> Flask:
     for calculation in CALCULATIONS:
         blueprint.add_url_rule(calculation.path, endpoint=calculation.name,
                                view_func=_calculation_view(calculation), methods=["POST"])
+        blueprint.add_url_rule(calculation.path, endpoint=f"{calculation.name}-get",
+                               view_func=_query_view(calculation), methods=["GET"])
     app.register_blueprint(blueprint)
 
     @app.get("/healthz")
@@ -139,14 +150,74 @@ def _calculation_view(calculation: Calculation):
             svg = run_drawing(calculation, read_json(), current_app.config["MAX_CASES"])
             observability.record_cases(1, {})
             return Response(svg, mimetype=SVG)
-        body, size = run_calculation(calculation, read_json(), current_app.config["MAX_CASES"], stream=True,
-                                     max_memory=current_app.config["MAX_MEMORY"])
+        payload = (csvio.rows_payload(calculation, read_csv()) if request.mimetype == csvio.CSV
+                   else read_json())
+        names, payload = outputs.take(payload)
+        system, payload = _unit_system(payload)
+        select = _selection(calculation, names, request.args.getlist(query.OUTPUT))
+        limits = {"max_memory": current_app.config["MAX_MEMORY"], "select": select}
+        if csvio.wants_csv(request) or system == "us":
+            body, size = run_calculation(calculation, payload, current_app.config["MAX_CASES"], **limits)
+            observability.record_cases(size, body)
+            body = units.answer_in_us(calculation, body) if system == "us" else body
+            return csvio.response(calculation, body) if csvio.wants_csv(request) else _json(body)
+        body, size = run_calculation(calculation, payload, current_app.config["MAX_CASES"], stream=True, **limits)
         observability.record_cases(size, body)
         return _json(body)
 
     view.__name__ = f"calculate_{calculation.name.replace('-', '_')}"
     return view
 
+
+def _unit_system(payload):
+    """The unit system of the answer (the body's ``units`` or the query's ``units``), and the
+    request without it."""
+    in_query = _query_system()  # judged where given, also beside the body's
+    if isinstance(payload, dict) and "units" in payload:
+        payload = dict(payload)
+        return units.system(payload.pop("units")), payload
+    return in_query, payload
+
+
+def _query_system() -> str:
+    given = request.args.get("units")
+    return units.system(*([given] if given is not None else []), parameter="units")
+
+
+def _selection(calculation: Calculation, names, parameters: list[str]):
+    """The outputs selected by the body's ``outputs`` and the query's ``output`` (both: all of them,
+    each list judged where it was given)."""
+    body = outputs.parse(calculation, names) if names is not outputs.ABSENT else None
+    if not parameters:
+        return body
+    query_selection = outputs.parse(calculation, [n for p in parameters for n in p.split(",")], query.OUTPUT)
+    if body is None:
+        return query_selection
+    return outputs.Selection(body.items + query_selection.items, body.parameter)
+
+
+def _query_view(calculation: Calculation):
+    """``GET /v1/<name>?field=value&...``: one case from the query (see :mod:`service.api.query`)."""
+
+    def view():
+        try:
+            payload, names = query.case_from_query(calculation, request.args)
+            select = outputs.parse(calculation, names, query.OUTPUT) if names is not None else None
+            system = _query_system()
+            body, size = run_calculation(calculation, payload, current_app.config["MAX_CASES"], select=select)
+            body = units.answer_in_us(calculation, body) if system == "us" else body
+            text = outputs.one_value(calculation, select, body) if select and len(select.items) == 1 else None
+        except Problem as problem:
+            raise query.with_parameters(problem) from None
+        observability.record_cases(size, body)
+        if select is not None and len(select.items) == 1 and not csvio.wants_csv(request):
+            return Response(query.text_of(text), mimetype="text/plain")
+        if csvio.wants_csv(request):
+            return csvio.response(calculation, body)
+        return _json(body)
+
+    view.__name__ = f"query_{calculation.name.replace('-', '_')}"
+    return view
 
 #: Accept headers that ask for JSON (or anything) without any quality weights.
 _PLAIN_ACCEPT = frozenset({"", "*/*", JSON, f"{JSON}, */*", "*/*, application/json"})
@@ -195,6 +266,28 @@ def _too_large(error: RequestEntityTooLarge) -> Response:
 
 def _parse_strictly(body: bytes):
     return json.loads(body.decode("utf-8"), object_pairs_hook=_reject_duplicate_keys, parse_int=_parse_int)
+
+
+def read_csv() -> bytes | bytearray:
+    """The request body of a ``text/csv`` request, read with the rules of :func:`read_json`
+    (no Content-Encoding, the receive timeout, chunked framing, the size limit)."""
+    encoding = request.headers.get("Content-Encoding", "").strip().lower()
+    if encoding not in ("", "identity"):
+        raise Problem(415, "Unsupported Media Type",
+                      f"The service does not decode Content-Encoding {encoding!r}: send the CSV uncompressed.")
+    try:
+        body = _request_body()
+    except ReceiveTimeout:
+        raise Problem(408, "Request Timeout", "The body did not arrive within the receive timeout "
+                      "(MEANLINE_RECEIVE_TIMEOUT). Send it faster, or through a buffering proxy.") from None
+    except _FRAMING_ERRORS as error:
+        raise Problem(400, "Malformed request body",
+                      f"The body could not be read: {type(error).__name__}. Check its chunked framing.",
+                      MALFORMED) from None
+    limit = current_app.config["MAX_BODY_BYTES"]
+    if len(body) > limit or (request.content_length is None and len(body) >= limit):
+        raise _body_too_large()
+    return body
 
 
 def read_json():

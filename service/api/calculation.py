@@ -20,7 +20,7 @@ import numpy as np
 import orjson
 from marshmallow import Schema, ValidationError, missing
 
-from service.api import memory
+from service.api import memory, outputs
 from service.api.fields import CaseSchema, Option, Quantity, QuantityList
 from service.api.problems import MAX_LISTED_ERRORS, PHYSICALLY_IMPOSSIBLE, Problem, invalid_input, unlisted
 from service.api.rowstext import RowsText
@@ -232,8 +232,12 @@ class ErrorsText:
 
 
 def run_calculation(calculation: Calculation, payload: Any, max_cases: int, stream: bool = False,
-                    max_memory: int | None = None):
+                    max_memory: int | None = None, select: outputs.Selection | None = None):
     """Validate, compute and lay out the response body of one request.
+
+    With ``select`` (see :mod:`service.api.outputs`), the answer holds only the selected outputs
+    and checks: every case is computed and judged in full first, so the answer is the full one
+    restricted.
 
     With ``stream``, the ``results`` of a rows answer may be a :class:`RowsText`, and the
     ``errors`` of a columns answer are an :class:`ErrorsText`, which :mod:`service.api.jsonwrite`
@@ -292,7 +296,10 @@ def run_calculation(calculation: Calculation, payload: Any, max_cases: int, stre
         raise invalid_input(errors)
 
     if shape == "single":
-        return _single_body(calculation, outcomes[0]), size
+        body = _single_body(calculation, outcomes[0])
+        return (body if select is None else outputs.restrict_case(calculation, select, body)), size
+    if select is not None:
+        outputs.restrict_outcomes(calculation, select, outcomes)
     if shape == "columns" and stream:
         case_errors = ErrorsText(outcomes)
     else:

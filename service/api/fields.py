@@ -14,6 +14,8 @@ import math
 import numpy as np
 from marshmallow import Schema, ValidationError, fields
 
+from service.api import units
+
 _NUMBER_TYPES = (int, float)
 
 
@@ -155,6 +157,8 @@ class Quantity(_CaseField):
         return not (self.integer and number != round(number))
 
     def _load_one(self, value):
+        if isinstance(value, str):  # a number with its unit, "30 mm"
+            value = units.to_si(value, self.unit, self.name)
         if not _is_number(value):
             raise ValidationError("Not a number." if not self.integer else "Not a whole number.")
         try:
@@ -178,9 +182,9 @@ class Quantity(_CaseField):
 
     def _column_array(self, values: list) -> np.ndarray:
         if not set(map(type, values)) <= set(_NUMBER_TYPES):
-            raise ValidationError(
-                {i: ["Not a number."] for i, v in enumerate(values) if not _is_number(v)}
-            )
+            values, errors = units.column_to_si(values, self.unit, self.name)  # numbers with their units
+            if errors:
+                raise ValidationError(errors)
         try:
             array = np.asarray(values, dtype=float)
         except OverflowError:  # an integer literal beyond the float range somewhere in the column

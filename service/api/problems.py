@@ -60,7 +60,7 @@ def invalid_input(errors, detail: str | None = None) -> Problem:
     (see :func:`unlisted`): they add to the count and to ``errors_not_listed``.
     """
     errors = list(errors)
-    not_listed = sum(count for pointer, count in errors if pointer is None)
+    not_listed = sum(error[1] for error in errors if error[0] is None)
     errors = sorted({error for error in errors if error[0] is not None},
                     key=lambda item: (_pointer_sort_key(item[0]), item[1]))
     problem = Problem(
@@ -95,7 +95,9 @@ def problem_response(problem: Problem, extra_headers=None, identifier: str | Non
     body = {"type": problem.type, "title": problem.title, "status": problem.status, "detail": _utf8(problem.detail)}
     if problem.errors:
         listed = problem.errors[:MAX_LISTED_ERRORS]
-        body["errors"] = [{"pointer": _utf8(pointer), "detail": _utf8(detail)} for pointer, detail in listed]
+        # An entry may name a query parameter too: (pointer, detail, parameter).
+        body["errors"] = [{"pointer": _utf8(pointer), "detail": _utf8(detail),
+                           **({"parameter": _utf8(rest[0])} if rest else {})} for pointer, detail, *rest in listed]
         if len(problem.errors) + problem.not_listed > len(listed):
             body["errors_not_listed"] = len(problem.errors) - len(listed) + problem.not_listed
     if has_request_context():

@@ -5,6 +5,7 @@ from __future__ import annotations
 from apispec import APISpec
 from apispec.ext.marshmallow import MarshmallowPlugin
 
+from service.api import units
 from service.api.access import API_KEY_HEADER, REALM
 from service.api.calculation import Calculation, Mode
 from service.api.fields import Option, Quantity, QuantityList, QuantityPerStage
@@ -55,7 +56,9 @@ def case_field_property(self, field, ret, **kwargs) -> dict:
     else:
         schema = {"type": "array", "items": _number_schema(field.item), "minItems": 1}
     columns = bool(getattr(field.parent, "columns", False))
-    return _one_or_column(schema) if columns else schema
+    schema = _one_or_column(schema) if columns else schema
+    unit = getattr(field, "unit", None) or getattr(getattr(field, "item", None), "unit", None)
+    return {**schema, "x-unit-us": units.us_unit(unit)} if unit else schema
 
 
 def build_spec(calculations: list[Calculation], version: str) -> dict:
@@ -129,20 +132,26 @@ def _add_calculation(spec: APISpec, plugin, calculation: Calculation) -> None:
     spec.components.schema(f"{prefix}Case", component={"oneOf": case_refs})
     if calculation.columns:
         spec.components.schema(f"{prefix}Columns", component={"oneOf": column_refs})
+    selection = _selection_schema(calculation)
     shapes = [
         _ref(f"{prefix}Case"),
         {"type": "object", "title": "Rows", "properties": {
-            "cases": {"type": "array", "items": _ref(f"{prefix}Case"), "minItems": 1}},
+            "cases": {"type": "array", "items": _ref(f"{prefix}Case"), "minItems": 1}, "outputs": selection,
+            "units": UNITS_MEMBER},
          "required": ["cases"], "additionalProperties": False},
     ]
     if calculation.columns:
-        shapes.append({"type": "object", "title": "Columns", "properties": {"columns": _ref(f"{prefix}Columns")},
+        shapes.append({"type": "object", "title": "Columns", "properties": {"columns": _ref(f"{prefix}Columns"),
+                                                                            "outputs": selection,
+                                                                            "units": UNITS_MEMBER},
                        "required": ["columns"], "additionalProperties": False})
     spec.components.schema(f"{prefix}Request", component={"oneOf": shapes})
 
     outputs = {}
     for name, field in calculation.outputs().fields.items():
         prop = plugin.converter.field2property(field)
+        if "x-unit" in prop:  # the unit of answers asked for with units=us
+            prop["x-unit-us"] = units.us_unit(prop["x-unit"])
         if prop.pop("x-per-stage", False):
             item = prop.get("type", "number")
             # Entries that may not apply (a rotor-frame value at a station without a rotor) are null.
@@ -174,20 +183,24 @@ def _add_calculation(spec: APISpec, plugin, calculation: Calculation) -> None:
     spec.components.schema(f"{prefix}Response", component={"oneOf": responses})
 
     problem = {"content": {"application/problem+json": {"schema": _ref("Problem")}}}
-    content = {"application/json": {"schema": _ref(f"{prefix}Response")}}
+    content = {"application/json": {"schema": _ref(f"{prefix}Response")}, "text/csv": CSV_ANSWER}
     drawing = {}
     if calculation.render_svg is not None:
         content["image/svg+xml"] = {"schema": {
             "type": "string", "description": "With `Accept: image/svg+xml` and one case: an SVG drawing of it."}}
         drawing = {"406": {"description": "An SVG drawing was asked for rows or columns (it shows one case).",
                            **problem}}
-    spec.path(path=calculation.path, operations={"post": {
+    spec.path(path=calculation.path, operations={"get": _get_operation(plugin, prefix, calculation), "post": {
         "operationId": calculation.name.replace("-", "_"),
         "tags": [calculation.name],
         "summary": calculation.summary,
         "description": calculation.description + "\n\n" + CAUTION,
         "security": [{"ApiKey": []}, {"BearerKey": []}],
-        "requestBody": {"required": True, "content": {"application/json": {"schema": _ref(f"{prefix}Request")}}},
+        "parameters": [_output_parameter(calculation, "Outputs and checks to answer (as the body's `outputs`)."),
+                       UNITS_PARAMETER],
+        "requestBody": {"required": True, "description": SELECTION_NOTE, "content": {
+            "application/json": {"schema": _ref(f"{prefix}Request")},
+            "text/csv": {"schema": {"type": "string", "description": CSV_REQUEST}}}},
         "responses": {
             "200": {"description": "Results, in the shape of the request.", "content": content},
             "400": {"description": "The body is not valid JSON.", **problem},
@@ -201,8 +214,8 @@ def _add_calculation(spec: APISpec, plugin, calculation: Calculation) -> None:
                                    "(MEANLINE_MAX_MEMORY; the detail says how many cases fit) is over the limit.",
                     **problem},
             **drawing,
-            "415": {"description": "The body is not JSON (Content-Type), or is encoded (Content-Encoding).",
-                    **problem},
+            "415": {"description": "The body is neither JSON nor CSV (Content-Type), or is encoded "
+                                   "(Content-Encoding).", **problem},
             "422": {"description": "Invalid input (every offending field named by JSON Pointer), or one "
                                    "case that is physically impossible.", **problem},
             "503": {"description": "The server stopped the request: over the time limit (MEANLINE_TIMEOUT), "
@@ -217,6 +230,11 @@ def _add_common_components(spec: APISpec) -> None:
     spec.components.security_scheme("ApiKey", {
         "type": "apiKey", "in": "header", "name": API_KEY_HEADER,
         "description": f"An API key in the {API_KEY_HEADER} header. " + keys_note})
+    spec.components.security_scheme("ApiKeyQuery", {
+        "type": "apiKey", "in": "query", "name": "api_key",
+        "description": "The API key as the query parameter api_key, for spreadsheet cells that cannot send a "
+                       "header: accepted only where the operator sets MEANLINE_API_KEYS_IN_QUERY=1, since a key "
+                       "in a URL is seen by proxies, browser histories and logs. " + keys_note})
     spec.components.security_scheme("BearerKey", {
         "type": "http", "scheme": "bearer",
         "description": "The same API key as a bearer token: `Authorization: Bearer <key>`. " + keys_note})
@@ -231,7 +249,10 @@ def _add_common_components(spec: APISpec) -> None:
             "detail": {"type": "string"},
             "errors": {"type": "array", "items": {
                 "type": "object", "required": ["pointer", "detail"],
-                "properties": {"pointer": {"type": "string", "description": "JSON Pointer into the request body."},
+                "properties": {"pointer": {"type": "string", "description": "JSON Pointer into the request body "
+                                                                            "(for the GET form: into the one-case "
+                                                                            "body that the query stands for)."},
+                               "parameter": {"type": "string", "description": "The GET form's query parameter."},
                                "detail": {"type": "string"}}}},
             "errors_not_listed": {"type": "integer", "description": "Further errors not listed."},
             "request_id": {"type": "string", "description": (
@@ -289,3 +310,89 @@ def _add_service_paths(spec: APISpec) -> None:
         "operationId": "openapi", "summary": "This OpenAPI document.", "tags": ["service"],
         "responses": {"200": {"description": "The OpenAPI 3.1 document.",
                               "content": {"application/json": {"schema": {"type": "object"}}}}}}})
+
+
+SELECTION_NOTE = (
+    "One case, rows or columns. Beside the case's fields, the `cases` or the `columns`, `outputs` (a list of "
+    "output names, `checks.NAME`, `checks.NAME.status` or `checks.NAME.value`) restricts the answer to those "
+    "outputs and checks, and `units: \"us\"` answers in US customary units. Any input quantity may be a string "
+    "with its unit (`\"30 mm\"`, `\"14.696 psi\"`), converted to the field's `x-unit`.")
+UNITS_DESCRIPTION = (
+    "`si` (the default) or `us`: every output in US customary units, the unit of each given as `x-unit-us` in "
+    "this document (ft, ft s^-1, degR, lbf in^-2, lb s^-1, Btu lb^-1, hp, ...); check values are dimensionless "
+    "and stay as they are.")
+UNITS_MEMBER = {"type": "string", "enum": ["si", "us"], "description": UNITS_DESCRIPTION}
+UNITS_PARAMETER = {"name": "units", "in": "query", "required": False, "description": UNITS_DESCRIPTION,
+                   "schema": {"type": "string", "enum": ["si", "us"]}}
+CSV_REQUEST = (
+    "Rows as CSV (RFC 4180): a header line of field names, then one case a line; an empty cell leaves the field "
+    "out; a list is one quoted cell of comma-separated numbers. Problems point at `/cases/i/field`: case i is "
+    "line i + 2 of the file.")
+CSV_ANSWER = {"schema": {"type": "string", "description": (
+    "With `Accept: text/csv`: a header line, then one line per case: `case`, each output (a list output as "
+    "`NAME.0`, `NAME.1`, ...), each check's status as `checks.NAME.status`, and `error` (why the case failed, "
+    "else empty).")}}
+GET_NOTE = (
+    "The GET form of one case, for spreadsheet cells (WEBSERVICE) and plain URLs: the query holds the fields of "
+    "a one-case body, one parameter each (a list comma-separated, repeated, or both). A value that is a JSON "
+    "number is that number; any other value is a string (an option, or a quantity with its unit: `30 mm`). "
+    "Validated and computed as the one-case body; each problem entry keeps the pointer into that body and names "
+    "the `parameter`. With one `output` name the answer is `text/plain` holding that value (a list as values "
+    "separated by commas); otherwise the JSON answer of one case, or CSV with `Accept: text/csv`. HEAD answers "
+    "the same headers without the body; OPTIONS lists the methods. An API key may be sent as `api_key` only "
+    "where the operator allows it (MEANLINE_API_KEYS_IN_QUERY=1); elsewhere that parameter is refused (400).")
+
+
+def _selection_schema(calculation: Calculation) -> dict:
+    return {"type": "array", "minItems": 1, "description": (
+        "Answer only these outputs and checks: output names, `checks.NAME`, `checks.NAME.status` or "
+        "`checks.NAME.value`."),
+        "items": {"type": "string", "enum": list(calculation.outputs().fields)}}
+
+
+def _output_parameter(calculation: Calculation, description: str) -> dict:
+    # The document lists the output names; the checks (their names depend on the input mode) are
+    # accepted too, as the description says.
+    return {"name": "output", "in": "query", "required": False, "style": "form", "explode": False,
+            "description": description + " Comma-separated or repeated: output names, or checks.NAME, "
+                                         "checks.NAME.status, checks.NAME.value.",
+            "schema": {"type": "array", "minItems": 1,
+                       "items": {"type": "string", "enum": list(calculation.outputs().fields)}}}
+
+
+def _get_operation(plugin, prefix: str, calculation: Calculation) -> dict:
+    """The GET form: one query parameter per input field, from the same schema fields as the body."""
+    problem = {"content": {"application/problem+json": {"schema": _ref("Problem")}}}
+    parameters = []
+    for name, field in calculation._case_schema.fields.items():
+        prop = plugin.converter.field2property(field)
+        parameter = {"name": name, "in": "query", "required": bool(field.required),
+                     "description": prop.get("description", ""), "schema": prop}
+        if prop.get("type") == "array" or "oneOf" in prop:
+            parameter.update(style="form", explode=True)
+        parameters.append(parameter)
+    parameters.append(_output_parameter(calculation, "With one name: a text/plain answer of that one value."))
+    parameters.append(UNITS_PARAMETER)
+    return {
+        "operationId": calculation.name.replace("-", "_") + "_query",
+        "tags": [calculation.name],
+        "summary": calculation.summary + " (one case from the query)",
+        "description": GET_NOTE + "\n\n" + CAUTION,
+        # Not ApiKeyQuery: that scheme is off unless the operator enables it (see its description).
+        "security": [{"ApiKey": []}, {"BearerKey": []}],
+        "parameters": parameters,
+        "responses": {
+            "200": {"description": "The answer of the one case.", "content": {
+                "application/json": {"schema": _ref(f"{prefix}Result")},
+                "text/plain": {"schema": {"type": "string", "description": "With one `output`: its value."}},
+                "text/csv": CSV_ANSWER}},
+            "400": {"description": "An api_key parameter where keys in the query are not allowed.", **problem},
+            "401": {"description": "An API key is required and was not given.", **problem, "headers": {
+                "WWW-Authenticate": {"description": "The scheme to authenticate with.",
+                                     "schema": {"type": "string", "const": f'Bearer realm="{REALM}"'}}}},
+            "403": {"description": "The API key is not valid.", **problem},
+            "422": {"description": "Invalid input (every offending parameter named), or a case that is physically "
+                                   "impossible.", **problem},
+            "503": {"description": "The server stopped the request.", **problem},
+        },
+    }

@@ -184,7 +184,7 @@ def _problem_requests():
     return {
         400: lambda c, h: c.post("/v1/triangles", data=b"{not json", content_type=json_type, headers=h),
         404: lambda c, h: c.get("/v1/no-such-calculation", headers=h),
-        405: lambda c, h: c.get("/v1/triangles", headers=h),
+        405: lambda c, h: c.patch("/v1/triangles", headers=h),
         413: lambda c, h: c.post("/v1/triangles", data=b"[" + b" " * 2048 + b"]", content_type=json_type,
                                  headers=h),
         415: lambda c, h: c.post("/v1/triangles", data=b"{}", content_type="text/plain", headers=h),

@@ -158,7 +158,7 @@ def test_batch_with_an_impossible_case_over_http(server):
 
 def test_errors_over_http_are_problems(server):
     for url, body, expected in ((server + "/v1/nowhere", None, 404),
-                                (server + "/v1/triangles", None, 405),
+                                (server + "/healthz", {}, 405),
                                 (server + "/v1/triangles", {"machine": "pump"}, 422)):
         status, headers, text = _request(url, body)
         assert status == expected, text

@@ -17,6 +17,7 @@ import json
 import math
 import re
 import signal
+import urllib.parse
 from pathlib import Path
 
 import numpy as np
@@ -164,6 +165,25 @@ def _dumps_with_raw(document, raw_tokens: dict[str, str]) -> str:
     return text
 
 
+def build_query(case: dict, calculation) -> tuple[str, dict]:
+    """The GET form's URL (path and query) and valid case (base) of a corpus case with ``get``."""
+    last = NotApplicable(f"{calculation.name} has no valid case")
+    for base in valid_cases(calculation):
+        try:
+            edit, edited = case["get"], dict(base)
+            for selector, value in edit.get("set", {}).items():
+                edited[resolve(selector, calculation, base)] = value
+            for selector in edit.get("delete", []):
+                edited.pop(resolve(selector, calculation, base))
+            pairs = [(name, ",".join(map(str, value)) if isinstance(value, list) else str(value))
+                     for name, value in edited.items()]
+            extra = resolve(edit.get("extra", ""), calculation, base)
+            return f"{calculation.path}?{urllib.parse.urlencode(pairs)}{extra}", base
+        except NotApplicable as reason:
+            last = reason
+    raise last
+
+
 def build_request(case: dict, calculation) -> tuple[bytes, str | None, dict]:
     """The body bytes, Content-Type and valid case (base) of a corpus case for one calculation."""
     for base in valid_cases(calculation):
@@ -297,7 +317,7 @@ def _applicable(case, calculation) -> bool:
     if "each_numeric_field" in case:
         return bool(_extreme_parameters(case, calculation))
     try:
-        build_request(case, calculation)
+        build_query(case, calculation) if "get" in case else build_request(case, calculation)
     except NotApplicable:
         return False
     return True
@@ -326,9 +346,14 @@ def no_hang():
 
 @pytest.mark.parametrize(("case", "calculation"), _parameters())
 def test_bad_input_gets_the_documented_answer(case, calculation, no_hang, caplog):
-    data, content_type, base = build_request(case, calculation)
-    headers = {"Content-Type": content_type} if content_type else {}
-    response = APP.test_client().post(calculation.path, data=data, headers=headers)
+    if "get" in case:
+        url, base = build_query(case, calculation)
+        response = APP.test_client().get(url)
+    else:
+        data, content_type, base = build_request(case, calculation)
+        headers = {"Content-Type": content_type} if content_type else {}
+        query = f"?{case['query']}" if "query" in case else ""
+        response = APP.test_client().post(calculation.path + query, data=data, headers=headers)
 
     text = response.get_data(as_text=True)
     assert response.status_code < 500, text[:500]
@@ -359,6 +384,9 @@ def test_bad_input_gets_the_documented_answer(case, calculation, no_hang, caplog
         assert pointer in pointers, (pointer[:200], [p[:200] for p in pointers])
         if expect.get("only"):
             assert set(pointers) == {pointer}, [p[:200] for p in pointers]
+    if "parameter" in expect:  # the GET form's (or the query's) parameter at fault
+        parameter = resolve(expect["parameter"], calculation, base)
+        assert parameter in [error.get("parameter") for error in problem.get("errors", [])], problem
 
 
 @pytest.mark.parametrize("calculation", CALCULATIONS, ids=lambda c: c.name)
