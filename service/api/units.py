@@ -34,6 +34,7 @@ PINT_UNITS = {
     "kg s^-1": "kilogram / second",
     "kg m^-3": "kilogram / meter ** 3",
     "rev min^-1": "revolution / minute",
+    "Pa s": "pascal * second",
 }
 
 _QUANTITY = re.compile(r"\s*([-+]?(?:[0-9]+\.?[0-9]*|\.[0-9]+)(?:[eE][-+]?[0-9]+)?)\s*(.*?)\s*\Z", re.DOTALL)
@@ -139,6 +140,7 @@ US_UNITS = {
     "kg s^-1": ("pound / second", "lb s^-1"),
     "kg m^-3": ("pound / foot ** 3", "lb ft^-3"),
     "rev min^-1": ("revolution / minute", "rev min^-1"),
+    "Pa s": ("pound_force * second / foot ** 2", "lbf s ft^-2"),
 }
 
 

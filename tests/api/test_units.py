@@ -35,6 +35,7 @@ BTU_IT = 1.055056e3  # Btu_IT -> joule, 1.055 056 E+03 (also in the SP 811 table
     ("32 degF", "K", 273.15, 1e-15),  # T/K = (t/degF + 459.67)/1.8
     ("0 degC", "K", 273.15, 1e-15),
     ("1 Btu/lb/delta_degF", "J kg^-1 K^-1", BTU_PER_LB_DEGF, 1e-6),  # pint's Btu is ISO's 1055.056 J
+    ("1 lbf*s/ft**2", "Pa s", 4.788026e1, 1e-6),  # pound-force second per square foot, 4.788 026 E+01
     ("1 Btu", "J kg^-1", None, None),  # energy is not specific energy: refused (below)
 ])
 def test_conversion_factors_agree_with_nist_sp_811(text, unit, expected, rtol):
@@ -146,6 +147,8 @@ SI_PER_US = {
     "K": (1 / 1.8, 1e-12), "Pa": (LB * 9.80665 / INCH**2, 1e-12), "kg s^-1": (LB, 1e-12),
     "kg m^-3": (LB / FT**3, 1e-12), "rev min^-1": (1.0, 0), "J kg^-1": (BTU_IT / LB, 1e-6),
     "J kg^-1 K^-1": (BTU_PER_LB_DEGF, 1e-6), "W": (7.456999e2, 1e-6),
+    # pound-force second per square foot -> pascal second, 4.788 026 E+01 (SP 811 B.8, from memory).
+    "Pa s": (4.788026e1, 1e-6),
 }
 
 
