@@ -24,8 +24,8 @@ Every scale is a power of two, drawn so that the scaled input ranges over the wh
 multiplying by it is exact, so both cases have exactly the same ratios and any difference is the
 service's. The reference magnitudes include the documented bounds themselves.
 
-The machine design (/v1/machine-design) is left out here: its scalings depend on the radius-change
-work of issue 13 item 1, which is being done separately.
+The machine design's scalings are tested in its core tests (tests/core/test_machine.py, length,
+temperature and pressure scales with every radius held).
 """
 
 from __future__ import annotations
@@ -39,7 +39,7 @@ from hypothesis import HealthCheck, assume, given, settings
 from hypothesis import strategies as st
 
 from service import create_app
-from tests.precise import D, compressibility_factor, cos_deg, power, rel, tan_deg
+from tests.precise import PI, D, compressibility_factor, cos_deg, power, rel, tan_deg
 
 APP = create_app({"API_KEYS": None})
 SETTINGS = settings(max_examples=100, deadline=None, database=None,
@@ -125,6 +125,9 @@ def test_diffusion_factor_is_invariant_under_velocity_and_length_scales(row, a1,
 
     lengths = {"r1": ref_chord * radius_ratio, "r2": ref_chord * radius_ratio * (change or 1.0),
                "pitch": ref_chord * pitch_ratio, "radius": ref_chord * radius_ratio}
+    # A rotor with a radius change needs the shaft speed (issue 19): at the reference, U1 = 1.5 V_x. A blade
+    # speed is a velocity: the shaft speed scales with the velocity scale over the length scale.
+    ref_speed = 1.5 * ref_vx / lengths["r1"] * 60.0 / (2.0 * math.pi)
 
     def case(vx, vx2, chord):
         f = chord / ref_chord  # 1 or the exact power of two
@@ -132,6 +135,8 @@ def test_diffusion_factor_is_invariant_under_velocity_and_length_scales(row, a1,
                 "outlet_angle": a2}
         if change is not None:
             body.update(inlet_radius=lengths["r1"] * f, outlet_radius=lengths["r2"] * f)
+            if row == "rotor":
+                body["shaft_speed"] = ref_speed * (vx / ref_vx) / f
         if mode == "solidity":
             body["solidity"] = pitch_ratio
         elif mode == "pitch":
@@ -155,7 +160,10 @@ def test_diffusion_factor_is_invariant_under_velocity_and_length_scales(row, a1,
             v1, v2 = D(vx) / cos_deg(a1), D(vx2) / cos_deg(a2)
             r1, r2 = D(request.get("inlet_radius", 1.0)), D(request.get("outlet_radius", 1.0))
             w1, w2 = 2 * r1 / (r1 + r2), 2 * r2 / (r1 + r2)
-            turning = abs(w2 * D(vx2) * tan_deg(a2) - w1 * D(vx) * tan_deg(a1))
+            turning = w2 * D(vx2) * tan_deg(a2) - w1 * D(vx) * tan_deg(a1)
+            if "shaft_speed" in request:  # the rotor's blade-speed part of r2 V_theta2 - r1 V_theta1 (issue 19)
+                turning += 2 * D(request["shaft_speed"]) * 2 * PI / 60 * (r2 - r1)
+            turning = abs(turning)
             expected = 1 - v2 / v1 + turning / (2 * D(pitch_ratio) * v1)
         # DF is a sum of terms of the order of one and of V2/V1: to 1e-9 relative, or where the terms
         # cancel to rounding of their size.
@@ -334,6 +342,53 @@ def test_stage_efficiency_of_a_polytropic_split_is_right_near_a_pressure_ratio_o
             expected = (1 - power(stage_ratio, -k * D(eta))) / (1 - power(stage_ratio, -k))
     for value in body["stage_isentropic_efficiency"]:
         assert rel(value, expected) < RTOL
+
+
+# -- /v1/stage-efficiency: velocity scale with temperatures as its square, pressure scale ----------------
+
+#: The scale each unit of an answer carries under velocities x k, temperatures x k^2, pressures x P.
+_UNIT_SCALE = {"m s^-1": lambda k, p: k, "K": lambda k, p: k * k, "J kg^-1": lambda k, p: k * k,
+               "Pa": lambda k, p: p, "kg m^-3": lambda k, p: p / (k * k)}
+
+
+@SETTINGS
+@given(model=st.sampled_from(["lieblein_howell", "soderberg", "kacker_okapuu"]), phi=st.floats(0.3, 0.9),
+       psi=st.floats(0.2, 0.5), reaction=st.floats(0.4, 0.7), k=power_of_two(2.0**-4, 2.0**20, 1.0),
+       pressure=power_of_two(1.0, 1e300, 1e5))
+def test_stage_efficiency_is_invariant_under_velocity_temperature_and_pressure_scales(model, phi, psi, reaction, k,
+                                                                                      pressure):
+    # The loss correlations (issue 14) depend on angles, geometry ratios, Mach numbers and the Reynolds
+    # number, which is given here: scaling the velocities by k and the temperatures by k^2 (Mach numbers
+    # unchanged) and the pressures by P leaves every loss coefficient and efficiency as it is, and the
+    # dimensional outputs carry their units' scales.
+    turbine = model != "lieblein_howell"
+    ref = {"machine": "turbine" if turbine else "compressor", "loss_model": model, "flow_coefficient": phi,
+           "loading_coefficient": psi * (4.0 if turbine else 1.0), "reaction": reaction, "blade_speed": 300.0,
+           "total_temperature": 1100.0 if turbine else 288.0, "total_pressure": 1e5, "rotor_aspect_ratio": 2.0,
+           "stator_aspect_ratio": 1.8}
+    if model == "lieblein_howell":
+        ref.update(rotor_solidity=1.2, stator_solidity=1.1)
+    elif model == "soderberg":
+        ref.update(reynolds_number=2e5, thickness_to_chord=0.2)
+    else:
+        ref.update(stator_nozzle_profile_loss=0.025, stator_impulse_profile_loss=0.07, rotor_nozzle_profile_loss=0.03,
+                   rotor_impulse_profile_loss=0.08, thickness_to_chord=0.2, trailing_edge_thickness_to_throat=0.05,
+                   base_pressure_coefficient=-0.15)
+    scaled = {**ref, "blade_speed": 300.0 * k, "total_temperature": ref["total_temperature"] * k * k,
+              "total_pressure": 1e5 * pressure}
+    status, body = post("/v1/stage-efficiency", scaled)
+    ref_status, ref_body = post("/v1/stage-efficiency", ref, drawn=False)
+    scales = {name: _UNIT_SCALE[field.metadata["x-unit"]](k, pressure)
+              for name, field in _stage_efficiency_outputs().items() if field.metadata.get("x-unit") in _UNIT_SCALE}
+    assert ref_status == 200, ref_body  # the reference duties are ordinary stages
+    assert_alike(status, body, ref_status, ref_body, scales)
+    assert "total_to_total_efficiency" in body and 0 < body["total_to_total_efficiency"] < 1
+
+
+def _stage_efficiency_outputs():
+    from service.api.registry import CALCULATIONS
+
+    return next(c for c in CALCULATIONS if c.name == "stage-efficiency").outputs().fields
 
 
 # -- refusals at the physical bounds (issue 19: subnormal lengths and speeds) --------------------------
