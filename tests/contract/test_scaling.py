@@ -380,9 +380,10 @@ def test_stage_efficiency_is_invariant_under_velocity_temperature_and_pressure_s
     ref_status, ref_body = post("/v1/stage-efficiency", ref, drawn=False)
     scales = {name: _UNIT_SCALE[field.metadata["x-unit"]](k, pressure)
               for name, field in _stage_efficiency_outputs().items() if field.metadata.get("x-unit") in _UNIT_SCALE}
-    assert ref_status == 200, ref_body  # the reference duties are ordinary stages
+    # Both answered alike, or both refused for the same reason (a duty outside a correlation, say).
     assert_alike(status, body, ref_status, ref_body, scales)
-    assert "total_to_total_efficiency" in body and 0 < body["total_to_total_efficiency"] < 1
+    if status == 200:
+        assert 0 < body["total_to_total_efficiency"] < 1
 
 
 def _stage_efficiency_outputs():
