@@ -268,40 +268,15 @@ def _parse_strictly(body: bytes):
     return json.loads(body.decode("utf-8"), object_pairs_hook=_reject_duplicate_keys, parse_int=_parse_int)
 
 
-def read_csv() -> bytes | bytearray:
-    """The request body of a ``text/csv`` request, read with the rules of :func:`read_json`
-    (no Content-Encoding, the receive timeout, chunked framing, the size limit)."""
+def _read_body(kind: str) -> bytes | bytearray:
+    """The request body, with the rules every body shares: no Content-Encoding, the receive timeout,
+    chunked framing and the size limit. ``kind`` names the format in the messages (``JSON``, ``CSV``)."""
     encoding = request.headers.get("Content-Encoding", "").strip().lower()
     if encoding not in ("", "identity"):
+        # Read as it is, a compressed body would fail as malformed (or, decoded, outgrow the body
+        # limit that was checked on its compressed size): say what is wrong instead.
         raise Problem(415, "Unsupported Media Type",
-                      f"The service does not decode Content-Encoding {encoding!r}: send the CSV uncompressed.")
-    try:
-        body = _request_body()
-    except ReceiveTimeout:
-        raise Problem(408, "Request Timeout", "The body did not arrive within the receive timeout "
-                      "(MEANLINE_RECEIVE_TIMEOUT). Send it faster, or through a buffering proxy.") from None
-    except _FRAMING_ERRORS as error:
-        raise Problem(400, "Malformed request body",
-                      f"The body could not be read: {type(error).__name__}. Check its chunked framing.",
-                      MALFORMED) from None
-    limit = current_app.config["MAX_BODY_BYTES"]
-    if len(body) > limit or (request.content_length is None and len(body) >= limit):
-        raise _body_too_large()
-    return body
-
-
-def read_json():
-    """The request body as JSON, with the statuses of the design brief for every way it can fail."""
-    mimetype = request.mimetype or ""
-    if not (mimetype == "application/json" or mimetype.endswith("+json")):
-        raise Problem(415, "Unsupported Media Type",
-                      f"Send the body as application/json, not {mimetype or 'no Content-Type'}.")
-    encoding = request.headers.get("Content-Encoding", "").strip().lower()
-    if encoding not in ("", "identity"):
-        # Read as it is, a compressed body would fail as malformed JSON (or, decoded, outgrow the
-        # body limit that was checked on its compressed size): say what is wrong instead.
-        raise Problem(415, "Unsupported Media Type",
-                      f"The service does not decode Content-Encoding {encoding!r}: send the JSON uncompressed.")
+                      f"The service does not decode Content-Encoding {encoding!r}: send the {kind} uncompressed.")
     try:
         body = _request_body()
     except ReceiveTimeout:
@@ -318,6 +293,21 @@ def read_json():
     limit = current_app.config["MAX_BODY_BYTES"]
     if len(body) > limit or (request.content_length is None and len(body) >= limit):
         raise _body_too_large()
+    return body
+
+
+def read_csv() -> bytes | bytearray:
+    """The request body of a ``text/csv`` request, read with the rules of :func:`read_json`."""
+    return _read_body("CSV")
+
+
+def read_json():
+    """The request body as JSON, with the statuses of the design brief for every way it can fail."""
+    mimetype = request.mimetype or ""
+    if not (mimetype == "application/json" or mimetype.endswith("+json")):
+        raise Problem(415, "Unsupported Media Type",
+                      f"Send the body as application/json, not {mimetype or 'no Content-Type'}.")
+    body = _read_body("JSON")
     try:
         return jsonparse.loads(body, strict=_parse_strictly)
     except UnicodeDecodeError:
