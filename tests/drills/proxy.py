@@ -24,12 +24,11 @@ import shutil
 import subprocess
 import sys
 import tempfile
-import threading
 import time
 from pathlib import Path
 
 from tests.drills.server import REPO_ROOT, Server, free_port, request
-from tests.drills.slow_clients import probe, slow_reader, slow_sender
+from tests.drills.slow_clients import run_clients
 
 CONFIG = Path(REPO_ROOT) / "deploy" / "nginx" / "meanline.conf"
 #: The addresses written in the shipped file, replaced by the drill's.
@@ -106,29 +105,9 @@ def proxy_drill(senders: int = 6, seconds: float = 3.0, client_timeout: int | No
                 reader_cases: int = 60_000, reader_rate: int = 8 << 20) -> dict:
     environment = {"MEANLINE_TIMEOUT": str(master_timeout)}
     with Server(workers=2, environment=environment) as server, Proxy(server.port, client_timeout) as proxy:
-        workers = set(server.worker_pids())
-        stop, probes = threading.Event(), []
-        prober = threading.Thread(target=probe, args=(proxy.port, stop, 0.1, probes))
-        results = [{} for _ in range(senders)]
-        threads = [threading.Thread(target=slow_sender, args=(proxy.port, "headers" if i % 2 == 0 else "body",
-                                                              0.5, seconds, results[i]))
-                   for i in range(senders)]
-        prober.start()
-        for thread in threads:
-            thread.start()
-        for thread in threads:
-            thread.join(seconds + 60)
-        stop.set()
-        prober.join(60)
-        reader = slow_reader(proxy.port, reader_cases, reader_rate)
-        log = server.log_text()
-        replaced = set(server.worker_pids()) != workers
-    latencies = sorted(seconds for _, seconds in probes)
-    return {"senders": results, "probes": len(probes), "probe_failures": sum(s != 200 for s, _ in probes),
-            "probe_max": latencies[-1] if latencies else None,
-            "probe_p50": latencies[len(latencies) // 2] if latencies else None,
-            "reader": reader, "worker_timeouts": log.count("WORKER TIMEOUT"), "workers_replaced": replaced,
-            "service_408s": receive_timeouts(log), "master_timeout": master_timeout}
+        figures = run_clients(server, proxy.port, senders, 0.5, seconds, 0.0, reader_cases, reader_rate)
+    log = figures.pop("log")
+    return {**figures, "service_408s": receive_timeouts(log), "master_timeout": master_timeout}
 
 
 def receive_timeouts(log: str) -> int:

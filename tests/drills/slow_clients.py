@@ -137,35 +137,46 @@ def slow_reader(port: int, cases: int, rate: int) -> dict:
             "seconds": time.monotonic() - started, "complete": complete}
 
 
-def slow_clients_drill(senders: int = 2, receive_timeout: int = 2, seconds: float = 6.0, interval: float = 0.5,
-                       reader_cases: int = 60_000, reader_rate: int = 8 << 20, master_timeout: int = 2) -> dict:
-    environment = {"MEANLINE_RECEIVE_TIMEOUT": str(receive_timeout), "MEANLINE_SEND_TIMEOUT": "60",
-                   "MEANLINE_TIMEOUT": str(master_timeout)}
-    with Server(workers=2, environment=environment) as server:
-        workers = set(server.worker_pids())
-        stop, probes = threading.Event(), []
-        prober = threading.Thread(target=probe, args=(server.port, stop, 0.1, probes))
-        results = [{} for _ in range(senders)]
-        threads = [threading.Thread(target=slow_sender, args=(server.port, "headers" if i % 2 == 0 else "body",
-                                                              interval, seconds + 30, results[i]))
-                   for i in range(senders)]
-        prober.start()
-        for thread in threads:
-            thread.start()
-        for thread in threads:
-            thread.join(seconds + 60)
-        time.sleep(max(0.0, seconds - receive_timeout))
-        stop.set()
-        prober.join(60)
-        reader = slow_reader(server.port, reader_cases, reader_rate)
-        log = server.log_text()
-        replaced = set(server.worker_pids()) != workers
+def run_clients(server: Server, port: int, senders: int, interval: float, limit: float, settle: float,
+                reader_cases: int, reader_rate: int) -> dict:
+    """Slow senders and a probe at ``port`` (the server's, or a proxy's in front of it), then a slow
+    reader; the figures both drills report. ``limit`` bounds each sender; ``settle`` is waited after
+    the senders before the probe stops."""
+    workers = set(server.worker_pids())
+    stop, probes = threading.Event(), []
+    prober = threading.Thread(target=probe, args=(port, stop, 0.1, probes))
+    results = [{} for _ in range(senders)]
+    threads = [threading.Thread(target=slow_sender, args=(port, "headers" if i % 2 == 0 else "body",
+                                                          interval, limit, results[i]))
+               for i in range(senders)]
+    prober.start()
+    for thread in threads:
+        thread.start()
+    for thread in threads:
+        thread.join(limit + 60)
+    time.sleep(settle)
+    stop.set()
+    prober.join(60)
+    reader = slow_reader(port, reader_cases, reader_rate)
+    log = server.log_text()
+    replaced = set(server.worker_pids()) != workers
     latencies = sorted(seconds for _, seconds in probes)
     return {"senders": results, "probes": len(probes), "probe_failures": sum(s != 200 for s, _ in probes),
             "probe_max": latencies[-1] if latencies else None,
             "probe_p50": latencies[len(latencies) // 2] if latencies else None,
             "reader": reader, "worker_timeouts": log.count("WORKER TIMEOUT"), "workers_replaced": replaced,
-            "receive_timeout": receive_timeout, "master_timeout": master_timeout}
+            "log": log}
+
+
+def slow_clients_drill(senders: int = 2, receive_timeout: int = 2, seconds: float = 6.0, interval: float = 0.5,
+                       reader_cases: int = 60_000, reader_rate: int = 8 << 20, master_timeout: int = 2) -> dict:
+    environment = {"MEANLINE_RECEIVE_TIMEOUT": str(receive_timeout), "MEANLINE_SEND_TIMEOUT": "60",
+                   "MEANLINE_TIMEOUT": str(master_timeout)}
+    with Server(workers=2, environment=environment) as server:
+        figures = run_clients(server, server.port, senders, interval, seconds + 30,
+                              max(0.0, seconds - receive_timeout), reader_cases, reader_rate)
+    del figures["log"]
+    return {**figures, "receive_timeout": receive_timeout, "master_timeout": master_timeout}
 
 
 def describe(figures: dict) -> list[str]:
