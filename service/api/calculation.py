@@ -522,21 +522,61 @@ def _columns_groups(calculation: Calculation, payload: dict, max_cases: int, max
         return _join("/columns", f, *rest)
 
     schema = calculation._columns_schema
-    data, errors = _load(schema, columns, pointer, calculation._plans[id(schema)])
-    if extra:
-        return [], size, extra + errors
-    return [_Group(data, frozenset(columns), np.arange(size), pointer,
-                   lambda f, positions: [_join("/columns", f)])], size, errors
+    blocks = None if extra else _list_length_blocks(calculation, columns, lengths)
+    if blocks is None:
+        data, errors = _load(schema, columns, pointer, calculation._plans[id(schema)])
+        if extra:
+            return [], size, extra + errors
+        return [_Group(data, frozenset(columns), np.arange(size), pointer,
+                       lambda f, positions: [_join("/columns", f)])], size, errors
+    # Lists of different lengths (one case's stages each): a group of cases per combination of
+    # lengths, as rows are grouped, each loaded alone; an error is named once, at the whole request's
+    # case index.
+    groups, errors = [], []
+    for positions, part in blocks:
+        def part_pointer(f, rest, positions=positions):
+            if rest and isinstance(rest[0], int) and f in lengths:
+                return _join("/columns", f, int(positions[rest[0]]), *rest[1:])
+            return _join("/columns", f, *rest)
+
+        data, part_errors = _load(schema, part, part_pointer, calculation._plans[id(schema)])
+        errors += [error for error in part_errors if error not in errors]
+        groups.append(_Group(data, frozenset(columns), positions, part_pointer,
+                             lambda f, positions: [_join("/columns", f)]))
+    return groups, size, errors
 
 
 def _column_length(calculation: Calculation, name: str, value) -> int | None:
-    if isinstance(value, np.ndarray):  # a list of numbers, read by the parser as an array
-        return None if isinstance(calculation._case_schema.fields.get(name), QuantityList) else len(value)
-    if not isinstance(value, list):
+    """How many cases a column holds (None: one value for every case), as its field counts them."""
+    field_ = calculation._case_schema.fields.get(name)
+    if field_ is not None:
+        return field_.column_length(value)
+    return len(value) if isinstance(value, list | np.ndarray) else None
+
+
+def _list_length_blocks(calculation: Calculation, columns: dict, lengths: dict) -> list | None:
+    """Columns whose per-case lists differ in length, split into blocks of cases whose lists have
+    the same lengths: ``[(positions, columns of those cases)]``; None where every case's lists have
+    one length (the whole request is one block)."""
+    keys = []
+    for name, value in columns.items():
+        entry_lengths = getattr(calculation._case_schema.fields.get(name), "entry_lengths", None)
+        found = entry_lengths(value) if entry_lengths is not None else None
+        if found is not None and len(set(found)) > 1:
+            keys.append(found)
+    if not keys:
         return None
-    if isinstance(calculation._case_schema.fields.get(name), QuantityList):
-        return len(value) if value and isinstance(value[0], list) else None
-    return len(value)
+    codes, inverse = np.unique(np.array(keys, dtype=np.int64).T, axis=0, return_inverse=True)
+    inverse = inverse.reshape(-1)
+    blocks = []
+    for code in range(len(codes)):
+        positions = np.flatnonzero(inverse == code)
+        picked = positions.tolist()
+        blocks.append((positions, {
+            name: (value[positions] if isinstance(value, np.ndarray) else [value[p] for p in picked])
+            if name in lengths else value
+            for name, value in columns.items()}))
+    return blocks
 
 
 def _rows_groups(calculation: Calculation, payload: dict, max_cases: int, max_memory: int | None = None):
@@ -1042,8 +1082,14 @@ def _columns_body(calculation: Calculation, outcomes: list[_Outcome], size: int)
             target[outcome.index] = array
         for name, check in outcome.checks.items():
             merged = checks.setdefault(name, {k: np.full(size, None, dtype=object) for k in check})
+            if check["value"].ndim != 1:  # each case's list (ragged), as an object per case
+                value, status = _ragged_check(check["value"], check["status"])
+                check = {**check, "value": _objects(value), "status": _objects(status)}
             for key, value in check.items():
-                merged[key][outcome.index] = list(value) if isinstance(value, np.ndarray) else value
+                if isinstance(value, np.ndarray):
+                    merged[key][outcome.index] = value if value.dtype == object else list(value)
+                else:
+                    merged[key][outcome.index] = value
     body = {name: _column_out(calculation, name, array) for name, array in columns.items()}
     body["checks"] = {
         name: {"value": _nan_to_none(merged["value"].tolist()), **_rule_constants(merged),
@@ -1057,9 +1103,51 @@ def _pad(array: np.ndarray, width: int) -> np.ndarray:
     return np.pad(array, [(0, 0), (0, width - array.shape[1])], constant_values=np.nan)
 
 
+def _objects(values: list) -> np.ndarray:
+    """A list of lists as an object array of one list per entry (numpy would make it 2-D)."""
+    return np.fromiter(values, dtype=object, count=len(values))
+
+
+def _list_lengths(finite: np.ndarray) -> np.ndarray:
+    """Per row of a NaN-padded block: the entries up to its last finite one (0 where none is)."""
+    return np.where(finite.any(axis=1), finite.shape[1] - np.argmax(finite[:, ::-1], axis=1), 0)
+
+
+def _ragged(calculation: Calculation, name: str, array: np.ndarray) -> list:
+    """Each case's list of a per-stage (per-station, per-row) output, at its own length: what
+    :func:`_scalar` gives the case in a rows answer, null for a case without a value, converted a
+    block at a time. A NaN inside a list (an entry that does not apply) is kept, which orjson
+    writes as null, as :func:`_scalar` writes None."""
+    finite = np.isfinite(array)
+    length = _list_lengths(finite)
+    if name in calculation._integer_outputs:
+        values = np.where(finite, array, 0.0).astype(np.int64).tolist()
+        inner = np.flatnonzero(finite.sum(axis=1) < length)  # a whole number list with a gap: one by one
+    else:
+        values, inner = array.tolist(), ()
+    lists = [row[:n] if n else None for row, n in zip(values, length.tolist(), strict=True)]
+    for i in inner:
+        lists[i] = _scalar(calculation, name, array[i])
+    return lists
+
+
+def _ragged_check(value: np.ndarray, status: np.ndarray) -> tuple[list, list]:
+    """Each case's values and statuses of a per-stage (per-row) check: its finite entries, None where
+    it has none, as :func:`_check_entry` gives them, converted a block at a time."""
+    finite = np.isfinite(value)
+    length = _list_lengths(finite)
+    values, statuses = value.tolist(), status.tolist()
+    lengths = length.tolist()
+    out_values = [row[:n] if n else None for row, n in zip(values, lengths, strict=True)]
+    out_statuses = [row[:n] if n else None for row, n in zip(statuses, lengths, strict=True)]
+    for i in np.flatnonzero(finite.sum(axis=1) < length):  # a gap inside a list: its finite entries
+        out_values[i], out_statuses[i] = value[i][finite[i]].tolist(), status[i][finite[i]].tolist()
+    return out_values, out_statuses
+
+
 def _column_out(calculation: Calculation, name: str, array: np.ndarray):
     if array.ndim == 2:
-        return [_scalar(calculation, name, row) if np.isfinite(row).any() else None for row in array]
+        return _ragged(calculation, name, array)
     if name in calculation._integer_outputs:
         return _whole_numbers(array)
     return array  # orjson writes numpy arrays directly; NaN becomes null
@@ -1079,8 +1167,8 @@ def _whole_numbers(array: np.ndarray):
 
 def _check_column(check: dict, size: int) -> dict:
     if check["value"].ndim != 1:
-        rows = [_check_entry(check, j) for j in range(size)]
-        return {"value": [r["value"] for r in rows], **_rule_constants(check), "status": [r["status"] for r in rows]}
+        value, status = _ragged_check(check["value"], check["status"])
+        return {"value": value, **_rule_constants(check), "status": status}
     return {"value": check["value"], **_rule_constants(check), "status": check["status"].tolist()}
 
 

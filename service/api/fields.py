@@ -61,6 +61,11 @@ class _CaseField(fields.Field):
             return self._load_column(value)
         return self._load_one(value)
 
+    def column_length(self, value) -> int | None:
+        """How many cases a value of this field in columns holds: a list's length, None for one
+        value that broadcasts to every case."""
+        return len(value) if isinstance(value, list | np.ndarray) else None
+
     def _load_one(self, value):
         raise NotImplementedError
 
@@ -239,8 +244,19 @@ class Option(_CaseField):
 class QuantityList(_CaseField):
     """A list of finite numbers per case, such as one weight per stage.
 
-    In columns, a list of such lists of one common length.
+    In columns, one list for every case, or a list of such lists, one per case. The lists of
+    different cases may differ in length: the request is then computed in groups of cases whose
+    lists have one length (:meth:`entry_lengths`), each loaded here as a ``(cases, k)`` array.
     """
+
+    def column_length(self, value) -> int | None:
+        """A list of lists holds one list per case; one list of numbers is every case's list."""
+        return len(value) if isinstance(value, list) and value and all(isinstance(v, list) for v in value) else None
+
+    def entry_lengths(self, value) -> list[int] | None:
+        """The length of each case's list in a column of lists, or None for a value that is the
+        same for every case."""
+        return None if self.column_length(value) is None else [len(v) for v in value]
 
     def __init__(self, description: str, unit: str, *, minimum: float | None = None,
                  exclusive_minimum: bool = False, **kwargs):
@@ -258,7 +274,10 @@ class QuantityList(_CaseField):
             if empty:  # as one case's empty list is refused (rows are loaded as columns)
                 raise ValidationError(empty)
             lengths = {len(v) if isinstance(v, list) else -1 for v in value}
-            if len(lengths) != 1 or -1 in lengths:
+            if -1 in lengths:
+                raise ValidationError("Must be one list of numbers for every case, or a list of such lists "
+                                      "(one per case).")
+            if len(lengths) != 1:
                 raise ValidationError("Every case's list must have the same length.")
             rows, errors = [], {}
             for i, case_values in enumerate(value):
@@ -269,6 +288,8 @@ class QuantityList(_CaseField):
             if errors:
                 raise ValidationError(errors)
             return np.vstack(rows)
+        if self._loads_columns():  # one list for every case: (1, k), never taken for a column of cases
+            return self.item._load_column(value)[None, :]
         return self.item._load_column(value)
 
 
@@ -285,6 +306,17 @@ class QuantityPerStage(QuantityList):
         super().__init__(description, unit, minimum=minimum, exclusive_minimum=exclusive_minimum, **kwargs)
         self.item = Quantity(description, unit, minimum=minimum, maximum=maximum,
                              exclusive_minimum=exclusive_minimum)
+
+    def column_length(self, value) -> int | None:
+        """In columns a list of numbers holds one value per case, as a list of lists one list per case."""
+        return len(value) if isinstance(value, list | np.ndarray) else None
+
+    def entry_lengths(self, value) -> list[int] | None:
+        """As :meth:`QuantityList.entry_lengths`; a number among the lists (-1) is that case's value for
+        every stage."""
+        if isinstance(value, list) and any(isinstance(v, list) for v in value):
+            return [len(v) if isinstance(v, list) else -1 for v in value]
+        return None
 
     def _deserialize(self, value, attr, data, **kwargs):
         if isinstance(value, np.ndarray):  # numbers the parser read as an array: as a list of floats

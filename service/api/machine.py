@@ -257,12 +257,14 @@ CALCULATION = Calculation(
         "fraction of the axial chord. A station whose static temperature reaches zero, whose hub radius or blade "
         "height is at or below zero, or whose axial Mach number reaches 1 fails the case, naming the station. "
         "Send `Accept: image/svg+xml` with one case for a drawing of the meridional flowpath and its rows. One "
-        "case or rows (no columns: the lists vary in length)."
+        "case, rows or columns; in columns, per-stage inputs may be a list of lists (one per case, of different "
+        "lengths) and every per-stage, per-station and per-row output is a list of lists, one per case at its "
+        "own length (ragged, as rows give it)."
     ),
     schema=MachineInput,
     outputs=MachineOutput,
     modes=combine_modes(RADIUS, COUNT, RULE, ROWS),
     compute=_compute,
-    columns=False,
+    columns=True,
     render_svg=_render_svg,
 )

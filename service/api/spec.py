@@ -27,6 +27,21 @@ DESCRIPTION = (
     + CAUTION
 )
 
+COLUMNS_REQUEST = (
+    "Each field one value, which broadcasts to every case, or a list with one entry per case; all such lists "
+    "have one length, the case count. A field that takes a list in one case (one number per stage, such as "
+    "`flow_coefficient`, `reaction` or `weights`) takes one value or list for every case, or a list of lists, "
+    "one per case; the cases' lists may differ in length (cases of different stage counts), and the cases "
+    "are then computed in groups of one length. `flow_coefficient` and `reaction` as a list of numbers give "
+    "one number per case (for every stage of that case); `weights` as a list of numbers is every case's list."
+)
+COLUMNS_ANSWER = (
+    "Each output a list with one entry per case, in request order. A per-stage, per-station or per-row output "
+    "is a list of lists, one per case, each at that case's own length (ragged, not padded): exactly the list "
+    "a rows answer gives the case; null for a case that failed, which `errors` names by its index. Check "
+    "values and statuses per stage or row are laid out alike."
+)
+
 
 def _number_schema(field: Quantity) -> dict:
     schema = {"type": "integer" if field.integer else "number"}
@@ -50,13 +65,18 @@ def case_field_property(self, field, ret, **kwargs) -> dict:
         schema = _number_schema(field)
     elif isinstance(field, Option):
         schema = {"type": "string", "enum": list(field.choices)}
-    elif isinstance(field, QuantityPerStage):
-        item = _number_schema(field.item)
-        schema = {"oneOf": [item, {"type": "array", "items": item, "minItems": 1}]}
-    else:
-        schema = {"type": "array", "items": _number_schema(field.item), "minItems": 1}
     columns = bool(getattr(field.parent, "columns", False))
-    schema = _one_or_column(schema) if columns else schema
+    if isinstance(field, QuantityPerStage):
+        item = _number_schema(field.item)
+        listed = {"type": "array", "items": item, "minItems": 1}
+        # In columns a list holds one entry per case: a number (every stage) or a list (per stage).
+        schema = {"oneOf": [item, {"type": "array", "items": {"oneOf": [item, listed]}, "minItems": 1}
+                            if columns else listed]}
+    elif isinstance(field, QuantityList):
+        schema = {"type": "array", "items": _number_schema(field.item), "minItems": 1}
+        schema = _one_or_column(schema) if columns else schema
+    else:
+        schema = _one_or_column(schema) if columns else schema
     unit = getattr(field, "unit", None) or getattr(getattr(field, "item", None), "unit", None)
     return {**schema, "x-unit-us": units.us_unit(unit)} if unit else schema
 
@@ -141,7 +161,8 @@ def _add_calculation(spec: APISpec, plugin, calculation: Calculation) -> None:
          "required": ["cases"], "additionalProperties": False},
     ]
     if calculation.columns:
-        shapes.append({"type": "object", "title": "Columns", "properties": {"columns": _ref(f"{prefix}Columns"),
+        shapes.append({"type": "object", "title": "Columns", "description": COLUMNS_REQUEST,
+                       "properties": {"columns": _ref(f"{prefix}Columns"),
                                                                             "outputs": selection,
                                                                             "units": UNITS_MEMBER},
                        "required": ["columns"], "additionalProperties": False})
@@ -177,7 +198,8 @@ def _add_calculation(spec: APISpec, plugin, calculation: Calculation) -> None:
                 "type": "object", "additionalProperties": _ref("CheckColumns")}},
             "additionalProperties": False})
         responses.append(
-            {"type": "object", "title": "Columns", "required": ["columns", "errors"], "additionalProperties": False,
+            {"type": "object", "title": "Columns", "description": COLUMNS_ANSWER,
+             "required": ["columns", "errors"], "additionalProperties": False,
              "properties": {"columns": _ref(f"{prefix}ResultColumns"),
                             "errors": {"type": "array", "items": _ref("CaseError")}}})
     spec.components.schema(f"{prefix}Response", component={"oneOf": responses})

@@ -102,11 +102,13 @@ CALCULATION = Calculation(
         "equal work, equal pressure ratio or weighted work shares; a polytropic efficiency (closed form) or a "
         "stage isentropic efficiency (solved with scipy to a relative tolerance of 1e-12). Per-stage outputs are "
         "lists, front to rear. Compressor stage: T0 ratio = PR^((gamma-1)/(gamma eta_p)); turbine stage: "
-        "T0 ratio = ER^(-eta_p (gamma-1)/gamma). One case or rows (no columns: per-stage lists vary in length)."
+        "T0 ratio = ER^(-eta_p (gamma-1)/gamma). One case, rows or columns; in columns, `weights` may be a list "
+        "of lists (one per case, of different lengths) and per-stage outputs are a list of lists, one per case at "
+        "its own length (ragged, as rows give it)."
     ),
     schema=SplitInput,
     outputs=SplitOutput,
     modes=combine_modes(EFFICIENCY, COUNT, RULE),
     compute=_compute,
-    columns=False,
+    columns=True,
 )

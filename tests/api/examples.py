@@ -195,8 +195,7 @@ def calculation(name: str) -> Calculation:
     return next(c for c in CALCULATIONS if c.name == name)
 
 
-#: Calculations that take the columns request shape (the stage split does not: its per-stage
-#: lists differ in length from case to case).
+#: Calculations that take the columns request shape.
 COLUMN_NAMES = [c.name for c in CALCULATIONS if c.columns]
 
 

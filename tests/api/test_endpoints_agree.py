@@ -68,7 +68,25 @@ def test_stage_split_rows_may_mix_weight_counts_and_report_per_case_failures(cli
     assert body["results"][2]["stage_pressure_ratio"] is None
 
 
-def test_stage_split_refuses_columns_with_a_pointer(client):
-    response = client.post("/v1/stage-split", json={"columns": {"machine": "compressor"}})
+def test_stage_split_columns_of_weight_lists_of_different_lengths_answer_as_the_rows(client):
+    base = {"machine": "turbine", "pressure_ratio": 4.0, "rule": "weights", "stage_isentropic_efficiency": 0.9,
+            "total_temperature": 1400.0, "total_pressure": 1.6e6, "gas": "combustion_products"}
+    weights = [[1, 2, 1], [1, 1], [1, 2], [1]]
+    stages = [3, 2, 3, 1]
+    rows = _post(client, "/v1/stage-split", {"cases": [{**base, "weights": w, "stages": n}
+                                                        for w, n in zip(weights, stages, strict=True)]})
+    columns = _post(client, "/v1/stage-split", {"columns": {**base, "weights": weights, "stages": stages}})
+    mismatch = {"index": 2, "detail": "the number of weights does not match stages"}
+    assert columns["errors"] == rows["errors"] == [mismatch]
+    assert columns["columns"]["stage_count"] == [3, 2, None, 1]
+    for name, values in columns["columns"].items():
+        if name != "checks":
+            assert values == [r[name] for r in rows["results"]], name  # ragged lists, as the rows give them
+
+
+def test_stage_split_columns_with_a_list_where_numbers_are_lists_are_refused_with_a_pointer(client):
+    response = client.post("/v1/stage-split", json={"columns": {
+        "machine": "compressor", "pressure_ratio": [2.0, 3.0], "total_temperature": 288.15, "total_pressure": 1e5,
+        "polytropic_efficiency": 0.9, "rule": "weights", "weights": [[1, 2], [1, -1, 1]]}})
     assert response.status_code == 422
-    assert response.get_json()["errors"][0]["pointer"] == "/columns"
+    assert [e["pointer"] for e in response.get_json()["errors"]] == ["/columns/weights/1/1"]
