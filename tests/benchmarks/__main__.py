@@ -14,6 +14,14 @@ repetitions with the spread (lowest .. highest) of the repetitions:
 - with ``--memory``, the worker's peak memory per case of every calculation and request shape
   (tests/benchmarks/memory.py), the figures behind ``service/api/memory.py``.
 
+For the whole-machine design (workloads.MACHINE_WORKLOADS, cases of different stage counts), in
+batches of 10,000 machines:
+
+- the end-to-end time of the columns batch over HTTP over the in-process time of the same core
+  work (one core call on the whole batch, without HTTP, validation or the service's layout);
+- the designs per second of one worker (the batch is one request, which one worker answers);
+- the worker's peak resident memory during the batch above its memory before it, per case.
+
 Each repetition pairs the two measurements of a ratio back to back, so that a slow moment of
 a shared machine affects both. Exit status 1 if a median misses its target, 2 on an error.
 """
@@ -35,20 +43,22 @@ import orjson
 from werkzeug.test import EnvironBuilder
 
 from tests.benchmarks import harness
-from tests.benchmarks.workloads import WORKLOADS, Workload, failed_cases
+from tests.benchmarks.workloads import MACHINE_WORKLOADS, WORKLOADS, Workload, failed_cases
 from tests.live_server import decode_body
 
 BATCH = 100_000
 LARGE_BATCH = 1_000_000
+MACHINE_BATCH = 10_000
 
 
 @dataclass
 class Figure:
     label: str
-    target: float
+    target: float | None  # None: a figure measured and printed, without a target
     at_least: bool
     ratios: list[float] = field(default_factory=list)
     detail: str = ""
+    digits: int = 2
 
     @property
     def median(self) -> float:
@@ -56,13 +66,18 @@ class Figure:
 
     @property
     def met(self) -> bool:
+        if self.target is None:
+            return True
         return self.median >= self.target if self.at_least else self.median <= self.target
 
     def line(self) -> str:
+        d = self.digits
+        spread = f"({min(self.ratios):.{d}f} .. {max(self.ratios):.{d}f})"
+        if self.target is None:
+            return f"  {self.label:<44} {self.median:6.{d}f}  {spread:<16} {'(measured)':<24} {self.detail}"
         sign = ">=" if self.at_least else "<="
-        spread = f"({min(self.ratios):.2f} .. {max(self.ratios):.2f})"
         verdict = "ok" if self.met else "MISSED"
-        return (f"  {self.label:<44} {self.median:6.2f}  {spread:<16} target {sign} {self.target:<4}  "
+        return (f"  {self.label:<44} {self.median:6.{d}f}  {spread:<16} target {sign} {self.target:<4}  "
                 f"{verdict:<6} {self.detail}")
 
 
@@ -200,6 +215,80 @@ def measure(workload: Workload, args, service, echo, app) -> list[Figure]:
     return [single, columns, rows, growth, memory]
 
 
+def _padded(values: list, width: int) -> np.ndarray:
+    """A ragged answer (a list per case, null for a failed case) as a NaN-padded block."""
+    block = np.full((len(values), width), np.nan)
+    for i, row in enumerate(values):
+        if row:
+            block[i, : len(row)] = np.asarray(row, dtype=float)
+    return block
+
+
+def verify_machines(workload: Workload, port: int, body: bytes) -> None:
+    """Once, untimed: the service's columns answer of whole machines matches the in-process
+    baseline's: the same failed cases, and every output of every other case, each per-stage,
+    per-station and per-row list at the case's own length (the baseline's NaN padding cut)."""
+    status, response = harness.exchange(port, harness.post_request(workload.path, body), keep=True)
+    if status != 200:
+        raise RuntimeError(f"{workload.path} columns: HTTP {status}: {response[:500]!r}")
+    answer = orjson.loads(decode_body(response))
+    expected = orjson.loads(workload.baseline(body))
+    failed = failed_cases(expected)
+    if [e["index"] for e in answer["errors"]] != failed:
+        raise RuntimeError(f"{workload.path}: the failed cases differ from the baseline's")
+    counts = np.asarray(expected["columns"]["stage_count"])
+    if len(np.unique(counts[counts > 0])) < 2:
+        raise RuntimeError(f"{workload.path}: the batch holds one stage count only")
+    ok = np.ones(len(counts), dtype=bool)
+    ok[failed] = False
+    for name, values in expected["columns"].items():
+        if name == "checks":
+            continue
+        want = np.asarray(values, dtype=float)
+        got = answer["columns"][name]
+        if want.ndim == 2:
+            lengths = np.array([len(row) if row else 0 for row in got])
+            finite = np.isfinite(want)
+            last = np.where(finite.any(axis=1), want.shape[1] - np.argmax(finite[:, ::-1], axis=1), 0)
+            if not np.array_equal(lengths[ok], last[ok]):
+                raise RuntimeError(f"{workload.path}: {name}: the lists are not each case's own length")
+            got = _padded(got, want.shape[1])
+        else:
+            got = np.asarray(got, dtype=float)
+        np.testing.assert_array_equal(got[ok], want[ok], err_msg=name)
+
+
+def measure_machines(workload: Workload, args, service) -> list[Figure]:
+    """The whole-machine figures of one workload (see the module docstring)."""
+    columns = Figure(f"columns {MACHINE_BATCH:,} machines over HTTP / in process", 2.0, False)
+    rate = Figure("machine designs per second per worker", None, True, digits=0)
+    memory = Figure("worker peak memory per machine [kB]", None, False, digits=1)
+    body = workload.columns_body(MACHINE_BATCH)
+    service.stop()
+    service.start(args.workers)
+    verify_machines(workload, service.port, body)
+    request = harness.post_request(workload.path, body)
+    http_times, base_times, peaks = [], [], []
+    for _ in range(args.repeat):
+        with harness.PeakMemory(service.workers()) as memory_use:
+            start = time.perf_counter()
+            status, size = harness.exchange(service.port, request)
+            http_times.append(time.perf_counter() - start)
+        if status != 200:
+            raise RuntimeError(f"{workload.path}: HTTP {status}")
+        base_times.append(timed(workload.baseline, body))
+        columns.ratios.append(http_times[-1] / base_times[-1])
+        # One request is answered by one worker: its designs per second.
+        rate.ratios.append(MACHINE_BATCH / http_times[-1])
+        peaks.append(memory_use.peak - memory_use.before)
+        memory.ratios.append(peaks[-1] / MACHINE_BATCH / 1e3)
+    columns.detail = (f"[{statistics.median(http_times):.2f} s vs {statistics.median(base_times):.2f} s; "
+                      f"body {_mb(len(body))}, answer {_mb(size)}]")
+    rate.detail = "[one request of the batch on one worker]"
+    memory.detail = f"[{_mb(statistics.median(peaks))} above the worker's memory before the request]"
+    return [columns, rate, memory]
+
+
 def main(argv=None) -> int:
     parser = argparse.ArgumentParser(prog="python -m tests.benchmarks", description=__doc__.splitlines()[0])
     parser.add_argument("--workers", type=int, default=2, help="gunicorn workers of each server (default 2)")
@@ -207,7 +296,7 @@ def main(argv=None) -> int:
     parser.add_argument("--seconds", type=float, default=1.5, help="length of each throughput run (default 1.5)")
     parser.add_argument("--repeat", type=int, default=5, help="repetitions of each figure (default 5)")
     parser.add_argument("--large-repeat", type=int, default=3, help="repetitions of the 1,000,000 case run")
-    parser.add_argument("--only", choices=[w.name for w in WORKLOADS], action="append",
+    parser.add_argument("--only", choices=[w.name for w in (*WORKLOADS, *MACHINE_WORKLOADS)], action="append",
                         help="measure only this calculation (repeatable)")
     parser.add_argument("--time-limit", type=int, default=900, help="stop with status 2 after this many seconds")
     parser.add_argument("--memory", action="store_true",
@@ -248,6 +337,14 @@ def main(argv=None) -> int:
                 continue
             print(f"{workload.name} ({workload.path})", flush=True)
             for figure in measure(workload, args, service, echo, app):
+                print(figure.line(), flush=True)
+                figures.append(figure)
+        for workload in MACHINE_WORKLOADS:
+            if args.only and workload.name not in args.only:
+                continue
+            print(f"{workload.name} ({workload.path}, {MACHINE_BATCH:,} machines of different stage counts)",
+                  flush=True)
+            for figure in measure_machines(workload, args, service):
                 print(figure.line(), flush=True)
                 figures.append(figure)
     except Exception as error:  # noqa: BLE001 - report any failure as status 2, servers stopped

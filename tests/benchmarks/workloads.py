@@ -17,7 +17,7 @@ from dataclasses import dataclass
 import numpy as np
 import orjson
 
-from service.core import diffusion, gas, triangles, zweifel
+from service.core import diffusion, gas, machine, triangles, zweifel
 from service.core.cases import reason_texts
 from service.core.losses.stage import with_stage_efficiency
 
@@ -48,8 +48,9 @@ def _write(result, extra: dict | None = None) -> bytes:
     """The core's arrays as JSON: values, checks (value and status per case), and each failure
     reason with the cases it is the first reason for (the same information as the service's
     per-case errors, in the most compact layout)."""
-    columns = {**result.values, **(extra or {})}
-    columns["checks"] = {name: {"value": check.value, "status": check.status.tolist()}
+    # orjson writes C-contiguous arrays only (a per-row check is a column slice of the rows' block).
+    columns = {name: np.ascontiguousarray(value) for name, value in {**result.values, **(extra or {})}.items()}
+    columns["checks"] = {name: {"value": np.ascontiguousarray(check.value), "status": check.status.tolist()}
                          for name, check in result.checks.items()}
     failed = np.zeros(np.shape(next(iter(result.values.values())))[:1], dtype=bool)
     errors = {}
@@ -216,3 +217,54 @@ STAGE_EFFICIENCY = Workload(
 )
 
 WORKLOADS = (TRIANGLES, ZWEIFEL, DIFFUSION, STAGE_EFFICIENCY)
+
+
+# -- machine design: a design of experiments over whole compressors ------------------------------
+
+
+def _machine_columns(size: int, rng: np.random.Generator) -> dict:
+    """Whole compressors of one duty (the README's design-of-experiments machine, mean radius held),
+    swept in flow coefficient, reaction, loading limit and pressure ratio: five to nine stages; the
+    highest flow coefficients at the highest pressure ratios choke the last stages' annuli, so the
+    batch also carries per-case failures."""
+    return {
+        "machine": "compressor",
+        "mass_flow": 40.0,
+        "total_temperature": 288.15,
+        "total_pressure": 101325.0,
+        "pressure_ratio": rng.uniform(4.0, 9.0, size).tolist(),
+        "shaft_speed": 9500.0,
+        "polytropic_efficiency": 0.9,
+        "mean_radius": 0.3,
+        "max_loading_coefficient": rng.uniform(0.3, 0.45, size).tolist(),
+        "flow_coefficient": rng.uniform(0.4, 0.8, size).tolist(),
+        "reaction": rng.uniform(0.5, 0.75, size).tolist(),
+        "rotor_aspect_ratio": 2.5,
+        "stator_aspect_ratio": 3.0,
+        "target_diffusion_factor": 0.45,
+    }
+
+
+def _machine_baseline(body: bytes) -> bytes:
+    c = _arrays(body)
+    cp, gamma = gas.gas_properties("air")
+    result = machine.evaluate_machine_design(
+        c["machine"], c["mass_flow"], c["total_temperature"], c["total_pressure"], c["pressure_ratio"],
+        c["shaft_speed"], c["polytropic_efficiency"], c["flow_coefficient"], c["reaction"], c["rotor_aspect_ratio"],
+        c["stator_aspect_ratio"], cp=cp, gamma=gamma, mean_radius=c["mean_radius"],
+        max_loading_coefficient=c["max_loading_coefficient"], target_diffusion_factor=c["target_diffusion_factor"])
+    return _write(result)
+
+
+MACHINE_DESIGN = Workload(
+    name="machine-design",
+    path="/v1/machine-design",
+    single={"machine": "compressor", "mass_flow": 40.0, "total_temperature": 288.15, "total_pressure": 101325.0,
+            "pressure_ratio": 6.0, "shaft_speed": 9500.0, "polytropic_efficiency": 0.9, "mean_radius": 0.3,
+            "max_loading_coefficient": 0.4, "flow_coefficient": 0.55, "reaction": 0.6, "rotor_aspect_ratio": 2.5,
+            "stator_aspect_ratio": 3.0, "target_diffusion_factor": 0.45},
+    columns=_machine_columns,
+    baseline=_machine_baseline,
+)
+#: Whole machines: measured in batches of 10,000 (tests/benchmarks/__main__.py, measure_machines).
+MACHINE_WORKLOADS = (MACHINE_DESIGN,)
