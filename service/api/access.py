@@ -28,7 +28,8 @@ from collections.abc import Iterable
 from flask import Flask, Response, current_app, request
 
 from service.api import keys
-from service.api.problems import FORBIDDEN, UNAUTHORIZED, Problem, problem_response
+from service.api.problem_responses import problem_response
+from service.api.problems import FORBIDDEN, UNAUTHORIZED, Problem
 from service.api.query import query_keys
 
 API_KEY_HEADER = "X-API-Key"

@@ -4,8 +4,8 @@ from __future__ import annotations
 
 from marshmallow import Schema
 
-from service.api.calculation import Calculation, Mode, combine_modes
 from service.api.common import angle, integer_output, length, output, ratio, shaft_speed_field, speed
+from service.api.declarations import Calculation, Mode, combine_modes
 from service.api.fields import CaseSchema, Option, Quantity
 from service.core import diffusion
 

@@ -4,7 +4,6 @@ from __future__ import annotations
 
 from marshmallow import Schema
 
-from service.api.calculation import Calculation, Mode, combine_modes
 from service.api.common import (
     EFFICIENCY_LIMITS,
     RATIO_LIMITS,
@@ -17,6 +16,7 @@ from service.api.common import (
     ratio,
     shaft_speed_field,
 )
+from service.api.declarations import Calculation, Mode, combine_modes
 from service.api.fields import Quantity, QuantityPerStage
 from service.core import flowpath, gas, machine_span, zweifel
 from service.core import machine as design

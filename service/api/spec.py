@@ -7,7 +7,7 @@ from apispec.ext.marshmallow import MarshmallowPlugin
 
 from service.api import units
 from service.api.access import API_KEY_HEADER, REALM
-from service.api.calculation import Calculation, Mode
+from service.api.declarations import Calculation, Mode
 from service.api.fields import Option, Quantity, QuantityList, QuantityPerStage
 from service.core.checks import COMPARISONS, STATUSES
 

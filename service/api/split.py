@@ -4,7 +4,6 @@ from __future__ import annotations
 
 from marshmallow import Schema
 
-from service.api.calculation import Calculation, Mode, combine_modes
 from service.api.common import (
     EFFICIENCY_LIMITS,
     StageSplitInputs,
@@ -13,6 +12,7 @@ from service.api.common import (
     positive,
     speed,
 )
+from service.api.declarations import Calculation, Mode, combine_modes
 from service.api.fields import Quantity
 from service.core import gas, split
 

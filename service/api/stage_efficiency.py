@@ -7,8 +7,8 @@ import copy
 
 from marshmallow import Schema
 
-from service.api.calculation import Calculation, Mode, combine_modes
 from service.api.common import GasInputs, InletStateInputs, machine_field, output, positive
+from service.api.declarations import Calculation, Mode, combine_modes
 from service.api.fields import Option, Quantity
 from service.api.triangles import FLOW, TrianglesInput, TrianglesOutput
 from service.core import gas, triangles

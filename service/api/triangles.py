@@ -4,7 +4,6 @@ from __future__ import annotations
 
 from marshmallow import Schema
 
-from service.api.calculation import Calculation, Mode, combine_modes
 from service.api.common import (
     GasInputs,
     InletStateInputs,
@@ -16,6 +15,7 @@ from service.api.common import (
     ratio,
     speed,
 )
+from service.api.declarations import Calculation, Mode, combine_modes
 from service.api.fields import Option, Quantity
 from service.core import diffusion, gas, span, stage, triangles, zweifel
 

@@ -19,7 +19,7 @@ import math
 import re
 from dataclasses import dataclass, field
 
-from service.api.calculation import Calculation, Mode
+from service.api.declarations import Calculation, Mode
 from service.api.registry import CALCULATIONS
 
 PROBLEM_JSON = "application/problem+json"

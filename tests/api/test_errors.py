@@ -554,8 +554,7 @@ def test_the_work_of_refusing_unknown_keys_does_not_grow_with_their_number(clien
     # Linear in the body, measured by operations rather than time: the pointers built and the
     # errors sorted stay at a response's worth whether a row holds 2,000 or 20,000 unknown keys
     # (before, each key cost a marshmallow message, a pointer, a sort key and a list search).
-    from service.api import calculation as mechanism
-    from service.api import problems
+    from service.api import loading, problems, shapes
 
     counts = {}
 
@@ -565,7 +564,9 @@ def test_the_work_of_refusing_unknown_keys_does_not_grow_with_their_number(clien
             return function(*args, **kwargs)
         return counted
 
-    monkeypatch.setattr(mechanism, "_join", counting("pointers", mechanism._join))
+    pointers = counting("pointers", loading.join_pointer)
+    for module in (loading, shapes):
+        monkeypatch.setattr(module, "join_pointer", pointers)
     monkeypatch.setattr(problems, "_pointer_sort_key", counting("sort keys", problems._pointer_sort_key))
     seen = []
     for count in (2_000, 20_000):

@@ -16,9 +16,11 @@ from hypothesis import strategies as st
 from marshmallow import Schema
 
 from service.api import jsonwrite
-from service.api.calculation import Calculation, Mode, RowsText, run_calculation
+from service.api.calculation import run_calculation
 from service.api.common import integer_output, output, positive
+from service.api.declarations import Calculation, Mode
 from service.api.fields import CaseSchema, Option
+from service.api.rowstext import RowsText
 from service.core.cases import CaseResults
 from service.core.checks import RuleCheck
 

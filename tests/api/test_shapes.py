@@ -19,8 +19,9 @@ from hypothesis import strategies as st
 from marshmallow import Schema
 from marshmallow import fields as ma_fields
 
-from service.api.calculation import Calculation, Mode, run_calculation
+from service.api.calculation import run_calculation
 from service.api.common import integer_output, output, positive
+from service.api.declarations import Calculation, Mode
 from service.api.fields import CaseSchema, Option, Quantity, QuantityList
 from service.core.cases import CaseResults
 from service.core.checks import COMMON_PRACTICE, COMPARISONS, STATUSES, RuleCheck
