@@ -13,7 +13,6 @@ import orjson
 from flask import Blueprint, Flask, Response, current_app, request
 from werkzeug.exceptions import RequestEntityTooLarge
 
-from service.version import __version__
 from service.api import access, csvio, jsonparse, jsonwrite, memory, observability, outputs, query, units
 from service.api.calculation import run_calculation, run_drawing
 from service.api.declarations import Calculation
@@ -26,6 +25,7 @@ from service.api.problems import (
 )
 from service.api.registry import CALCULATIONS
 from service.api.spec import build_spec
+from service.version import __version__
 
 JSON, SVG = "application/json", "image/svg+xml"
 log = logging.getLogger(__name__)

@@ -15,7 +15,7 @@ from service.core.cases import CaseResults, reason_texts
 from service.core.checks import STATUSES
 
 if TYPE_CHECKING:
-    from service.api.declarations import Calculation, Mode
+    from service.api.declarations import Calculation
 
 
 NOT_FINITE = "the result is not a finite number (overflow): check the magnitudes of the inputs"
@@ -57,7 +57,7 @@ def sliced(data: dict, size: int, start: int, stop: int) -> dict:
             for name, value in data.items()}
 
 
-def evaluate(calculation: Calculation, mode: Mode, options: dict, data: dict, size: int) -> CaseResults:
+def evaluate(calculation: Calculation, options: dict, data: dict, size: int) -> CaseResults:
     """The core's results for ``size`` cases, scalars broadcast (as views: no copy per case)."""
     inputs = {}
     for name, value in data.items():
@@ -70,7 +70,7 @@ def evaluate(calculation: Calculation, mode: Mode, options: dict, data: dict, si
         else:
             inputs[name] = value
     with np.errstate(all="ignore"):
-        return calculation.compute(mode, options, inputs)
+        return calculation.compute(options, inputs)
 
 
 def outcome_of(result: CaseResults, index: np.ndarray, integer_outputs=frozenset()) -> Outcome:

@@ -69,9 +69,9 @@ from __future__ import annotations
 import numpy as np
 
 from service.core import annulus, blade_rows, flowpath, gas, machine_span, split, triangles, zweifel
-from service.core.stations import enthalpy_reaction, rotor_stations
 from service.core.angles import cos_tan
 from service.core.cases import CaseResults, reason_for
+from service.core.stations import enthalpy_reaction, rotor_stations
 
 MAX_STAGES = split.MAX_STAGES
 #: The rotor's share of a stage's entropy rise, by default. [-]
@@ -603,6 +603,7 @@ def evaluate_machine_design(
     """
     split._check_option("machine", machine, triangles.MACHINES)
     split._check_option("rule", rule, split.SPLIT_RULES)
+    stages = split.stages_of_weights(weights, stages, max_loading_coefficient, max_stage_pressure_ratio)
     held_name, radius = _exactly_one(mean_radius=mean_radius, hub_radius=hub_radius, tip_radius=tip_radius)
     held = held_name.removesuffix("_radius")
     count_name, count_value = _exactly_one(stages=stages, max_loading_coefficient=max_loading_coefficient,

@@ -33,7 +33,6 @@ import numpy as np
 
 from service.core import diffusion, gas, triangles
 from service.core.checks import COMMON_PRACTICE, RuleCheck, de_haller_check
-from service.core.stations import enthalpy_reaction, rotor_stations
 from service.core.span_checks import (
     axial_mach_check,
     hub_reaction_check,
@@ -42,6 +41,7 @@ from service.core.span_checks import (
     turbine_exit_mach_check,
     turbine_exit_swirl_check,
 )
+from service.core.stations import enthalpy_reaction, rotor_stations
 
 #: The span ends answered beside the mean line.
 SPAN_ENDS = ("hub", "tip")
