@@ -4,10 +4,10 @@ from __future__ import annotations
 
 from marshmallow import Schema
 
-from service.api.calculation import Calculation, Mode, combine_modes
 from service.api.common import (
     EFFICIENCY_LIMITS,
     RATIO_LIMITS,
+    WORK_SPLIT,
     StageSplitInputs,
     angle,
     integer_output,
@@ -16,7 +16,9 @@ from service.api.common import (
     positive,
     ratio,
     shaft_speed_field,
+    stage_count_choice,
 )
+from service.api.declarations import Alternative, Calculation, Choice
 from service.api.fields import Quantity, QuantityPerStage
 from service.core import flowpath, gas, machine_span, zweifel
 from service.core import machine as design
@@ -178,45 +180,31 @@ MachineOutput = Schema.from_dict(
     name="MachineOutput",
 )
 
-RADIUS = (
-    Mode("MeanRadius", "mean_radius", required=("mean_radius",)),
-    Mode("HubRadius", "hub_radius", required=("hub_radius",)),
-    Mode("TipRadius", "tip_radius", required=("tip_radius",)),
-)
-COUNT = (
-    Mode("Stages", "stages", required=("stages",)),
-    Mode("Loading", "max_loading_coefficient", required=("max_loading_coefficient",)),
-    Mode("StagePressureRatio", "max_stage_pressure_ratio", required=("max_stage_pressure_ratio",)),
-    Mode("WeightCount", "one weight per stage (the count of weights is the stage count)", required=(),
-         when={"rule": ("weights",)}),
-)
-RULE = (
-    Mode("Rule", "rule equal_work or equal_pressure_ratio", required=(),
-         when={"rule": ("equal_work", "equal_pressure_ratio")}),
-    Mode("Weights", "rule weights and weights", required=("weights",), when={"rule": ("weights",)}),
-)
-ROWS = (
-    Mode("TurbineRows", "zweifel_coefficient or its default (turbine)", required=(),
-         optional=("zweifel_coefficient",), when={"machine": ("turbine",)}),
-    Mode("DiffusionFactor", "target_diffusion_factor (compressor)", required=("target_diffusion_factor",),
-         optional=("outlet_swirl",), when={"machine": ("compressor",)}),
-    Mode("Solidity", "solidity (compressor)", required=("solidity",), optional=("outlet_swirl",),
-         when={"machine": ("compressor",)}),
-)
+RADIUS = Choice("radius_held", "the radius held constant through the machine", (
+    Alternative("mean_radius", "mean_radius", required=("mean_radius",)),
+    Alternative("hub_radius", "hub_radius", required=("hub_radius",)),
+    Alternative("tip_radius", "tip_radius", required=("tip_radius",)),
+))
+ROWS = Choice("row_sizing", "how the rows are sized", (
+    Alternative("zweifel", "zweifel_coefficient or its default (turbine)", optional=("zweifel_coefficient",),
+                when={"machine": ("turbine",)}),
+    Alternative("diffusion_factor", "target_diffusion_factor (compressor)", required=("target_diffusion_factor",),
+                optional=("outlet_swirl",), when={"machine": ("compressor",)}),
+    Alternative("solidity", "solidity (compressor)", required=("solidity",), optional=("outlet_swirl",),
+                when={"machine": ("compressor",)}),
+))
 
 _OPTIONAL = ("mean_radius", "hub_radius", "tip_radius", "stages", "max_loading_coefficient",
              "max_stage_pressure_ratio", "weights", "inlet_swirl", "outlet_swirl", "target_diffusion_factor",
              "solidity", "axial_gap", "rotor_loss_fraction")
 
 
-def _compute(mode: Mode, options: dict, inputs: dict):
+def _compute(options: dict, inputs: dict):
     machine = options["machine"]
     cp, gamma = gas.gas_properties(options["gas"], inputs.get("cp"), inputs.get("gamma"))
     given = {name: inputs[name] for name in _OPTIONAL if inputs.get(name) is not None}
     if machine == "turbine":
         given["zweifel_coefficient"] = inputs["zweifel_coefficient"]
-    if mode.includes("WeightCount"):
-        given["stages"] = inputs["weights"].shape[-1]
     return design.evaluate_machine_design(
         machine, inputs["mass_flow"], inputs["total_temperature"], inputs["total_pressure"],
         inputs["pressure_ratio"], inputs["shaft_speed"], inputs["polytropic_efficiency"],
@@ -263,7 +251,7 @@ CALCULATION = Calculation(
     ),
     schema=MachineInput,
     outputs=MachineOutput,
-    modes=combine_modes(RADIUS, COUNT, RULE, ROWS),
+    choices=(RADIUS, stage_count_choice(blade_speed=False), WORK_SPLIT, ROWS),
     compute=_compute,
     columns=True,
     render_svg=_render_svg,

@@ -1,0 +1,370 @@
+"""The answer's layout in each request shape, from the outcomes of the core calls.
+
+One case: a dict (422 where the case failed). Rows: a list of such dicts, or for a stream
+:class:`service.api.rowstext.RowsText` / :class:`CaseRows` (the same bytes, written a slice at a
+time). Columns: a dict of arrays, and :class:`ErrorsText` for a streamed ``errors``.
+"""
+
+from __future__ import annotations
+
+import gc
+import math
+from typing import TYPE_CHECKING, Any
+
+import numpy as np
+import orjson
+
+from service.api.outcome import MAX_WHOLE_OUTPUT, NOT_FINITE, Outcome, outcome_of
+from service.api.problems import PHYSICALLY_IMPOSSIBLE, Problem
+from service.core.cases import CaseResults, reason_texts
+from service.core.checks import STATUSES
+
+if TYPE_CHECKING:
+    from service.api.declarations import Calculation
+
+
+class ErrorsText:
+    """The ``errors`` of a batch answer, written as JSON text a slice of cases at a time.
+
+    The same bytes as ``orjson.dumps`` of the list of ``{"index", "detail"}`` of every failed
+    case in index order (see :meth:`Outcome.errors`), without a dict per case: the indices are
+    an array, each detail is written once, and a slice of cases is one join.
+    """
+
+    CASES_PER_PIECE = 4_096
+
+    def __init__(self, outcomes: list[Outcome]):
+        indices, details, texts = [], [], []
+        for outcome in outcomes:
+            failed = np.flatnonzero(outcome.reason)
+            indices.append(outcome.index[failed])
+            details.append(outcome.reason[failed] - 1 + len(texts))
+            texts += outcome.reasons
+        self.index = np.concatenate(indices) if indices else np.zeros(0, dtype=np.intp)
+        self.detail = np.concatenate(details) if details else np.zeros(0, dtype=np.intp)
+        if len(outcomes) > 1:
+            order = np.argsort(self.index, kind="stable")
+            self.index, self.detail = self.index[order], self.detail[order]
+        # Each detail's JSON text (a reason that no case reports has none).
+        self.texts = [orjson.dumps(text) if text is not None else None for text in texts]
+
+    def __len__(self) -> int:
+        return len(self.index)
+
+    def json_pieces(self):
+        if not len(self):
+            yield b"[]"
+            return
+        for start in range(0, len(self), self.CASES_PER_PIECE):
+            stop = min(start + self.CASES_PER_PIECE, len(self))
+            # Each case's texts in one list, the index and the detail filled in by slice.
+            parts = [b'{"index":', b"", b',"detail":', b"", b"},"] * (stop - start)
+            parts[1::5] = orjson.dumps(self.index[start:stop], option=orjson.OPT_SERIALIZE_NUMPY)[1:-1].split(b",")
+            parts[3::5] = map(self.texts.__getitem__, self.detail[start:stop].tolist())
+            parts[-1] = b"}]" if stop == len(self) else b"}"
+            yield (b"[" if start == 0 else b",") + b"".join(parts)
+
+
+class CaseRows:
+    """The ``results`` of a rows answer whose cases hold lists (per-stage outputs and checks),
+    written a slice of cases at a time: the same bytes as ``orjson.dumps`` of the list that
+    :func:`rows_body` makes, without holding a dict of every case at once."""
+
+    ROWS_PER_PIECE = 256
+
+    def __init__(self, calculation: Calculation, outcomes: list[Outcome], size: int):
+        self.calculation, self.outcomes, self.size = calculation, outcomes, size
+        # For each case of the request: its outcome, and its position in that outcome.
+        self.owner = np.zeros(size, dtype=np.intp)
+        self.position = np.zeros(size, dtype=np.intp)
+        for number, outcome in enumerate(outcomes):
+            self.owner[outcome.index] = number
+            self.position[outcome.index] = np.arange(len(outcome.index))
+
+    def __len__(self) -> int:
+        return self.size
+
+    def json_pieces(self):
+        if not self.size:
+            yield b"[]"
+            return
+        for start in range(0, self.size, self.ROWS_PER_PIECE):
+            stop = min(start + self.ROWS_PER_PIECE, self.size)
+            cases = [case_body(self.calculation, self.outcomes[o], p) for o, p in
+                     zip(self.owner[start:stop].tolist(), self.position[start:stop].tolist(), strict=True)]
+            text = orjson.dumps(cases, option=orjson.OPT_SERIALIZE_NUMPY)
+            yield (b"[" if start == 0 else b",") + text[1:-1] + (b"]" if stop == self.size else b"")
+
+
+def _scalar(calculation: Calculation, name: str, value):
+    if isinstance(value, np.ndarray):  # one case's per-stage list, NaN-padded; all NaN where it failed
+        finite = np.flatnonzero(np.isfinite(value))
+        # The padding after the last value is cut; a NaN before it is an entry that does not apply: null.
+        return [_scalar(calculation, name, v) for v in value[: finite[-1] + 1]] if finite.size else None
+    if not np.isfinite(value):
+        return None
+    return int(value) if name in calculation._integer_outputs else float(value)
+
+
+def _check_entry(check: dict, i: int) -> dict:
+    if check["value"].ndim == 1:  # a Python float straight away, rather than through a numpy scalar
+        value = check["value"].item(i)
+        return {"value": value if math.isfinite(value) else None, "limit": check["limit"],
+                "fail_limit": check["fail_limit"], "comparison": check["comparison"], "status": check["status"][i],
+                "basis": check["basis"]}
+    value, status = check["value"][i], check["status"][i]
+    if isinstance(value, np.ndarray):  # one value per stage or row, NaN-padded; all NaN where the case failed
+        finite = np.isfinite(value)
+        value, status = (value[finite].tolist(), status[finite].tolist()) if finite.any() else (None, None)
+    else:
+        value = float(value) if np.isfinite(value) else None
+    return {
+        "value": value,
+        "limit": check["limit"],
+        "fail_limit": check["fail_limit"],
+        "comparison": check["comparison"],
+        "status": status,
+        "basis": check["basis"],
+    }
+
+
+def case_body(calculation: Calculation, outcome: Outcome, i: int) -> dict:
+    body = {}
+    for name, array in outcome.values.items():
+        if array.ndim == 1:  # a Python float straight away, rather than through a numpy scalar
+            value = array.item(i)
+            body[name] = ((int(value) if name in calculation._integer_outputs else value)
+                          if math.isfinite(value) else None)
+        else:
+            body[name] = _scalar(calculation, name, array[i])
+    body["checks"] = {name: _check_entry(check, i) for name, check in outcome.checks.items()}
+    return body
+
+
+def single_body(calculation: Calculation, result: CaseResults) -> dict:
+    """The response to one case, from Python floats taken once out of the core's arrays.
+
+    Raises
+    ------
+    Problem
+        422 if the case is physically impossible, with the first reason that applies.
+    """
+    try:
+        # Every output at once as Python floats: one numpy call rather than two per output.
+        block = np.array(list(result.values.values()), dtype=float)
+    except ValueError:  # outputs of different shapes
+        block = None
+    if block is None or block.shape != (len(result.values), 1):  # per-stage lists: the general layout
+        return _single_body_of(calculation, outcome_of(result, np.zeros(1, dtype=int), calculation._integer_outputs))
+    values = dict(zip(result.values, block[:, 0].tolist(), strict=True))
+    for reason, mask in result.failures:
+        if np.asarray(mask).item(0):
+            raise _impossible(reason_texts(reason, np.asarray(mask))[0][0])
+    if not all(map(math.isfinite, values.values())) or any(
+            abs(values[name]) > MAX_WHOLE_OUTPUT for name in calculation._integer_outputs if name in values):
+        raise _impossible(NOT_FINITE)
+    checks = {}
+    for name, check in result.checks.items():
+        value = np.asarray(check.value, dtype=float)
+        if value.ndim != 1:
+            return _single_body_of(calculation,
+                                   outcome_of(result, np.zeros(1, dtype=int), calculation._integer_outputs))
+        value = value.item(0)
+        checks[name] = {"value": value if math.isfinite(value) else None, "limit": check.limit,
+                        "fail_limit": check.fail_limit, "comparison": check.comparison,
+                        "status": STATUSES[check.status_code.item(0)], "basis": check.basis}
+    integer = calculation._integer_outputs
+    body = {name: int(value) if name in integer else value for name, value in values.items()}
+    body["checks"] = checks
+    return body
+
+
+def _single_body_of(calculation: Calculation, outcome: Outcome) -> dict:
+    if outcome.reason[0]:
+        raise _impossible(outcome.reasons[outcome.reason[0] - 1])
+    return case_body(calculation, outcome, 0)
+
+
+def _impossible(reason: str) -> Problem:
+    return Problem(422, "Physically impossible case", reason, PHYSICALLY_IMPOSSIBLE)
+
+
+def rows_body(calculation: Calculation, outcomes: list[Outcome], size: int) -> list:
+    results: list = [None] * size
+    for outcome in outcomes:
+        names = list(outcome.values)
+        simple = all(a.ndim == 1 for a in outcome.values.values()) and not calculation._integer_outputs
+        if simple:
+            # Fast path: one tolist() per column instead of one numpy scalar per value.
+            columns = [outcome.values[n].tolist() for n in names]
+            check_rows = {name: _check_rows(check) for name, check in outcome.checks.items()}
+            for j, (i, row) in enumerate(zip(outcome.index.tolist(), zip(*columns, strict=True), strict=True)):
+                body = dict(zip(names, row, strict=True))
+                body["checks"] = {name: rows[j] for name, rows in check_rows.items()}
+                results[i] = body
+        else:
+            for j, i in enumerate(outcome.index.tolist()):
+                results[i] = case_body(calculation, outcome, j)
+    return results
+
+
+def _check_rows(check: dict) -> list[dict]:
+    if check["value"].ndim != 1:
+        return [_check_entry(check, j) for j in range(len(check["value"]))]
+    limit, fail_limit, comparison, basis = (check[k] for k in ("limit", "fail_limit", "comparison", "basis"))
+    return [{"value": v, "limit": limit, "fail_limit": fail_limit, "comparison": comparison, "status": s,
+             "basis": basis}
+            for v, s in zip(check["value"].tolist(), check["status"].tolist(), strict=True)]
+
+
+def columns_body(calculation: Calculation, outcomes: list[Outcome], size: int) -> dict:
+    """The ``columns`` of a columns answer, made with the cyclic garbage collector paused: the
+    answer's lists hold numbers, strings and other such lists, no reference cycles, but a batch of
+    whole machines makes millions of them, and a collection every few hundred new ones took about a
+    third of the layout's time."""
+    enabled = gc.isenabled()
+    gc.disable()
+    try:
+        return _columns_body(calculation, outcomes, size)
+    finally:
+        if enabled:
+            gc.enable()
+
+
+def _columns_body(calculation: Calculation, outcomes: list[Outcome], size: int) -> dict:
+    if len(outcomes) == 1 and len(outcomes[0].index) == size:
+        outcome = outcomes[0]
+        columns = {name: _column_out(calculation, name, array) for name, array in outcome.values.items()}
+        columns["checks"] = {name: _check_column(check, size) for name, check in outcome.checks.items()}
+        return columns
+    columns: dict[str, Any] = {}
+    checks: dict[str, dict] = {}
+    for outcome in outcomes:
+        for name, array in outcome.values.items():
+            target = columns.get(name)
+            if target is None:
+                target = columns[name] = np.full((size,) + array.shape[1:], np.nan)
+            if target.shape[1:] != array.shape[1:]:  # per-stage lists of different lengths
+                width = max(target.shape[1], array.shape[1])
+                target = columns[name] = _pad(target, width)
+                array = _pad(array, width)
+            target[outcome.index] = array
+        for name, check in outcome.checks.items():
+            _merge_check(checks, name, check, outcome.index, size)
+    body = {name: _column_out(calculation, name, array) for name, array in columns.items()}
+    body["checks"] = {
+        name: {"value": _nan_to_none(merged["value"].tolist()), **_rule_constants(merged),
+               "status": merged["status"].tolist()}
+        for name, merged in checks.items()
+    }
+    return body
+
+
+def _merge_check(checks: dict, name: str, check: dict, index: np.ndarray, size: int) -> None:
+    """One outcome's entries of a check put in place among the whole request's cases."""
+    merged = checks.get(name)
+    if merged is None:
+        merged = checks[name] = {k: np.full(size, None, dtype=object) for k in check}
+    if check["value"].ndim != 1:  # each case's list (ragged), as an object per case
+        value, status = _ragged_check(check["value"], check["status"])
+        check = {**check, "value": _objects(value), "status": _objects(status)}
+    for key, value in check.items():
+        if isinstance(value, np.ndarray):
+            merged[key][index] = value if value.dtype == object else list(value)
+        else:
+            merged[key][index] = value
+
+
+def _objects(values: list) -> np.ndarray:
+    """A list of lists as an object array of one list per entry (numpy would make it 2-D)."""
+    return np.fromiter(values, dtype=object, count=len(values))
+
+
+def _list_lengths(finite: np.ndarray) -> np.ndarray:
+    """Per row of a NaN-padded block: the entries up to its last finite one (0 where none is)."""
+    return np.where(finite.any(axis=1), finite.shape[1] - np.argmax(finite[:, ::-1], axis=1), 0)
+
+
+def _ragged(calculation: Calculation, name: str, array: np.ndarray) -> list:
+    """Each case's list of a per-stage (per-station, per-row) output at its own length: what
+    :func:`_scalar` gives the case in a rows answer, null for a case without a value, converted a
+    block of one length (one stage count) at a time. A NaN inside a list (an entry that does not
+    apply) is kept, which orjson writes as null, as it writes the None of :func:`_scalar`."""
+    finite = np.isfinite(array)
+    length = _list_lengths(finite)
+    integer = name in calculation._integer_outputs
+    lists: list = [None] * len(array)
+    for n in np.unique(length).tolist():
+        if n == 0:
+            continue
+        cases = np.flatnonzero(length == n)
+        block = array[cases, :n]
+        if integer:
+            block = np.where(finite[cases, :n], block, 0.0).astype(np.int64)
+        for i, values in zip(cases.tolist(), block.tolist(), strict=True):
+            lists[i] = values
+    if integer:  # a whole number list with a gap inside: one by one, as rows give it
+        for i in np.flatnonzero(finite.sum(axis=1) < length).tolist():
+            lists[i] = _scalar(calculation, name, array[i])
+    return lists
+
+
+def _ragged_check(value: np.ndarray, status: np.ndarray) -> tuple[list, list]:
+    """Each case's values and statuses of a per-stage (per-row) check: its finite entries, None where
+    it has none, as :func:`_check_entry` gives them, converted a block at a time."""
+    finite = np.isfinite(value)
+    lengths = _list_lengths(finite).tolist()
+    out_values = [row[:n] if n else None for row, n in zip(value.tolist(), lengths, strict=True)]
+    out_statuses = [row[:n] if n else None for row, n in zip(status.tolist(), lengths, strict=True)]
+    for i in np.flatnonzero(finite.sum(axis=1) < np.asarray(lengths)):  # a gap inside: its finite entries
+        out_values[i], out_statuses[i] = value[i][finite[i]].tolist(), status[i][finite[i]].tolist()
+    return out_values, out_statuses
+
+
+def _pad(array: np.ndarray, width: int) -> np.ndarray:
+    return np.pad(array, [(0, 0), (0, width - array.shape[1])], constant_values=np.nan)
+
+
+def _column_out(calculation: Calculation, name: str, array: np.ndarray):
+    if array.ndim == 2:
+        return _ragged(calculation, name, array)
+    if name in calculation._integer_outputs:
+        return _whole_numbers(array)
+    return array  # orjson writes numpy arrays directly; NaN becomes null
+
+
+def _whole_numbers(array: np.ndarray):
+    """``[int(v) if finite else None for v in array]``, converted by numpy rather than one by one."""
+    finite = np.isfinite(array)
+    if not (np.abs(array[finite]) < 2.0**63).all():
+        return [int(v) if math.isfinite(v) else None for v in array.tolist()]
+    if finite.all():
+        return array.astype(np.int64)  # orjson writes it as the same whole numbers
+    whole = np.full(len(array), None, dtype=object)
+    whole[finite] = array[finite].astype(np.int64).astype(object)
+    return whole.tolist()
+
+
+def _check_column(check: dict, size: int) -> dict:
+    if check["value"].ndim != 1:
+        value, status = _ragged_check(check["value"], check["status"])
+        return {"value": value, **_rule_constants(check), "status": status}
+    return {"value": check["value"], **_rule_constants(check), "status": check["status"].tolist()}
+
+
+def _rule_constants(check: dict) -> dict:
+    """The rule's limit, comparison and basis: one value when the whole batch shares it (as a
+    scalar in request columns broadcasts), otherwise one per case."""
+    constants = {}
+    for key in ("limit", "fail_limit", "comparison", "basis"):
+        value = check[key]
+        if isinstance(value, np.ndarray):
+            # None is a value here too (a rule without a fail_limit), not a missing one.
+            distinct = set(value.tolist())
+            value = distinct.pop() if len(distinct) == 1 else _nan_to_none(value.tolist())
+        constants[key] = value
+    return constants
+
+
+def _nan_to_none(values: list) -> list:
+    return [None if isinstance(v, float) and not np.isfinite(v) else v for v in values]
