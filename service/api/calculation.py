@@ -30,8 +30,9 @@ def run_calculation(calculation: Calculation, payload: Any, max_cases: int, stre
     and checks: every case is computed and judged in full first, so the answer is the full one
     restricted.
 
-    With ``stream``, the ``results`` of a rows answer may be a :class:`RowsText`, and the
-    ``errors`` of a columns answer are an :class:`ErrorsText`, which :mod:`service.api.jsonwrite`
+    With ``stream``, the ``results`` of a rows answer may be a :class:`RowsText`, the ``errors``
+    of a columns answer are an :class:`ErrorsText` and its per-stage outputs
+    :class:`~service.api.layout.RaggedColumn`, which :mod:`service.api.jsonwrite`
     writes piece by piece (without a dict per case); otherwise the body is plain data that
     ``orjson.dumps(body, option=OPT_SERIALIZE_NUMPY)`` writes.
 
@@ -109,7 +110,7 @@ def _batch_body(calculation: Calculation, shape: str, outcomes: list, size: int,
         if len(outcomes) > 1:
             case_errors.sort(key=lambda e: e["index"])
     if shape == "columns":
-        return {"columns": columns_body(calculation, outcomes, size), "errors": case_errors}
+        return {"columns": columns_body(calculation, outcomes, size, stream), "errors": case_errors}
     if stream and RowsText.takes(outcomes):
         results = RowsText(calculation, outcomes, size)
     elif stream:

@@ -217,24 +217,50 @@ def _check_rows(check: dict) -> list[dict]:
             for v, s in zip(check["value"].tolist(), check["status"].tolist(), strict=True)]
 
 
-def columns_body(calculation: Calculation, outcomes: list[Outcome], size: int) -> dict:
-    """The ``columns`` of a columns answer, made with the cyclic garbage collector paused: the
-    answer's lists hold numbers, strings and other such lists, no reference cycles, but a batch of
-    whole machines makes millions of them, and a collection every few hundred new ones took about a
-    third of the layout's time."""
+class RaggedColumn:
+    """A per-stage (per-station, per-row) output of a columns answer, written a slice of cases at a
+    time: the same bytes as ``orjson.dumps`` of its list of lists (:func:`_ragged`), without every
+    case's list alive at once (a batch of whole machines holds tens of millions of numbers)."""
+
+    CASES_PER_PIECE = 2_048
+
+    def __init__(self, calculation: Calculation, name: str, array: np.ndarray):
+        self.calculation, self.name, self.array = calculation, name, array
+
+    def __len__(self) -> int:
+        return len(self.array)
+
+    def json_pieces(self):
+        size = len(self.array)
+        if not size:
+            yield b"[]"
+            return
+        for start in range(0, size, self.CASES_PER_PIECE):
+            stop = min(start + self.CASES_PER_PIECE, size)
+            text = orjson.dumps(_ragged(self.calculation, self.name, self.array[start:stop]),
+                                option=orjson.OPT_SERIALIZE_NUMPY)
+            yield (b"[" if start == 0 else b",") + text[1:-1] + (b"]" if stop == size else b"")
+
+
+def columns_body(calculation: Calculation, outcomes: list[Outcome], size: int, stream: bool = False) -> dict:
+    """The ``columns`` of a columns answer; with ``stream``, each per-stage output a
+    :class:`RaggedColumn`. Made with the cyclic garbage collector paused: the answer's lists hold
+    numbers, strings and other such lists, no reference cycles, but a batch of whole machines makes
+    millions of them, and a collection every few hundred new ones took about a third of the
+    layout's time."""
     enabled = gc.isenabled()
     gc.disable()
     try:
-        return _columns_body(calculation, outcomes, size)
+        return _columns_body(calculation, outcomes, size, stream)
     finally:
         if enabled:
             gc.enable()
 
 
-def _columns_body(calculation: Calculation, outcomes: list[Outcome], size: int) -> dict:
+def _columns_body(calculation: Calculation, outcomes: list[Outcome], size: int, stream: bool) -> dict:
     if len(outcomes) == 1 and len(outcomes[0].index) == size:
         outcome = outcomes[0]
-        columns = {name: _column_out(calculation, name, array) for name, array in outcome.values.items()}
+        columns = {name: _column_out(calculation, name, array, stream) for name, array in outcome.values.items()}
         columns["checks"] = {name: _check_column(check, size) for name, check in outcome.checks.items()}
         return columns
     columns: dict[str, Any] = {}
@@ -251,7 +277,7 @@ def _columns_body(calculation: Calculation, outcomes: list[Outcome], size: int) 
             target[outcome.index] = array
         for name, check in outcome.checks.items():
             _merge_check(checks, name, check, outcome.index, size)
-    body = {name: _column_out(calculation, name, array) for name, array in columns.items()}
+    body = {name: _column_out(calculation, name, array, stream) for name, array in columns.items()}
     body["checks"] = {
         name: {"value": _nan_to_none(merged["value"].tolist()), **_rule_constants(merged),
                "status": merged["status"].tolist()}
@@ -325,9 +351,9 @@ def _pad(array: np.ndarray, width: int) -> np.ndarray:
     return np.pad(array, [(0, 0), (0, width - array.shape[1])], constant_values=np.nan)
 
 
-def _column_out(calculation: Calculation, name: str, array: np.ndarray):
+def _column_out(calculation: Calculation, name: str, array: np.ndarray, stream: bool = False):
     if array.ndim == 2:
-        return _ragged(calculation, name, array)
+        return RaggedColumn(calculation, name, array) if stream else _ragged(calculation, name, array)
     if name in calculation._integer_outputs:
         return _whole_numbers(array)
     return array  # orjson writes numpy arrays directly; NaN becomes null
