@@ -45,8 +45,11 @@ class ErrorsText:
         if len(outcomes) > 1:
             order = np.argsort(self.index, kind="stable")
             self.index, self.detail = self.index[order], self.detail[order]
-        # Each detail's JSON text (a reason that no case reports has none).
-        self.texts = [orjson.dumps(text) if text is not None else None for text in texts]
+        # The JSON text of each detail that some case reports (a batch in many chunks has thousands
+        # of possible reasons, each station's and row's, of which a few apply).
+        self.texts: list = [None] * len(texts)
+        for k in np.unique(self.detail).tolist():
+            self.texts[k] = orjson.dumps(texts[k]) if texts[k] is not None else None
 
     def __len__(self) -> int:
         return len(self.index)
@@ -265,16 +268,13 @@ def _columns_body(calculation: Calculation, outcomes: list[Outcome], size: int, 
         return columns
     columns: dict[str, Any] = {}
     checks: dict[str, dict] = {}
+    widths = _widths(outcomes)
     for outcome in outcomes:
         for name, array in outcome.values.items():
             target = columns.get(name)
             if target is None:
-                target = columns[name] = np.full((size,) + array.shape[1:], np.nan)
-            if target.shape[1:] != array.shape[1:]:  # per-stage lists of different lengths
-                width = max(target.shape[1], array.shape[1])
-                target = columns[name] = _pad(target, width)
-                array = _pad(array, width)
-            target[outcome.index] = array
+                target = columns[name] = np.full((size, widths[name]) if name in widths else (size,), np.nan)
+            target[(outcome.index, slice(0, array.shape[1])) if array.ndim == 2 else outcome.index] = array
         for name, check in outcome.checks.items():
             _merge_check(checks, name, check, outcome.index, size)
     body = {name: _column_out(calculation, name, array, stream) for name, array in columns.items()}
@@ -284,6 +284,16 @@ def _columns_body(calculation: Calculation, outcomes: list[Outcome], size: int, 
         for name, merged in checks.items()
     }
     return body
+
+
+def _widths(outcomes: list[Outcome]) -> dict[str, int]:
+    """Per-stage lists of different lengths: each output's block as wide as its widest outcome's."""
+    widths: dict[str, int] = {}
+    for outcome in outcomes:
+        for name, array in outcome.values.items():
+            if array.ndim == 2:
+                widths[name] = max(widths.get(name, 0), array.shape[1])
+    return widths
 
 
 def _merge_check(checks: dict, name: str, check: dict, index: np.ndarray, size: int) -> None:
@@ -345,10 +355,6 @@ def _ragged_check(value: np.ndarray, status: np.ndarray) -> tuple[list, list]:
     for i in np.flatnonzero(finite.sum(axis=1) < np.asarray(lengths)):  # a gap inside: its finite entries
         out_values[i], out_statuses[i] = value[i][finite[i]].tolist(), status[i][finite[i]].tolist()
     return out_values, out_statuses
-
-
-def _pad(array: np.ndarray, width: int) -> np.ndarray:
-    return np.pad(array, [(0, 0), (0, width - array.shape[1])], constant_values=np.nan)
 
 
 def _column_out(calculation: Calculation, name: str, array: np.ndarray, stream: bool = False):

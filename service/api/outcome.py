@@ -122,8 +122,8 @@ def outcome_of(result: CaseResults, index: np.ndarray, integer_outputs=frozenset
             value = _blanked(value, failed_cases, value is not check.value and value.flags.owndata)
         checks[name] = {
             "value": value,
-            "status": (_status_objects(check.status_code, failed) if value.ndim == 1 else
-                       np.where(failed.reshape((-1,) + (1,) * (value.ndim - 1)), None, check.status.astype(object))),
+            # Per stage or row too: the shared status strings, whole rows None where a case failed.
+            "status": _status_objects(np.broadcast_to(check.status_code, value.shape), failed),
             "limit": check.limit,
             "fail_limit": check.fail_limit,
             "comparison": check.comparison,
