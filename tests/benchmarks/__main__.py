@@ -358,7 +358,8 @@ def main(argv=None) -> int:
         service.stop()
         echo.stop()
     missed = [f for f in figures if not f.met]
-    print(f"{len(figures) - len(missed)} of {len(figures)} figures within target "
+    targeted = [f for f in figures if f.target is not None]
+    print(f"{len(targeted) - len(missed)} of {len(targeted)} figures with a target within it "
           f"({time.monotonic() - started:.0f} s; load average {os.getloadavg()[0]:.1f} at the end)")
     if args.memory:
         from tests.benchmarks import memory
