@@ -92,32 +92,44 @@ def _pairing_errors(calculation: Calculation, group: Group, positions: np.ndarra
 
 def _resolve(choice: Choice, present: frozenset, options: dict, group: Group, positions: np.ndarray):
     """The one alternative of ``choice`` that the fields given and the options pick, or the errors."""
-    given = present & choice.fields
-    scored = []
-    for alternative in choice.alternatives:
-        if alternative.applies(options):
-            missing = [f for f in alternative.required if f not in present]
-            extra = sorted(given - set(alternative.fields))
-            scored.append((len(missing) + len(extra), alternative, missing, extra))
+    scored = _scored(choice, present, options)
     matches = [alternative for score, alternative, _, _ in scored if score == 0]
     if len(matches) == 1:
         return matches[0], []
     if matches:  # a declaration whose alternatives overlap: a bug of this service, not of the request
         raise ValueError(f"alternatives {[a.value for a in matches]} of {choice.name!r} both take {sorted(present)}")
     if not scored:
-        restricting = sorted({name for a in choice.alternatives for name in a.when})
-        detail = ("No way to give the " + choice.description + " with these options together: "
-                  + ", ".join(f"{name} {options[name]!r}" for name in restricting) + ".")
-        return None, [(p, detail) for name in (restricting or [""]) for p in group.case_pointers(name, positions)]
+        return None, _no_alternative(choice, options, group, positions)
     # Among the nearest alternatives, the one that takes the fields given: a field given shows the intent.
     fewest = min(score for score, *_ in scored)
-    _, best, missing, extra = min(scored, key=lambda item: (item[0], len(item[3])))
+    _, _, missing, extra = min(scored, key=lambda item: (item[0], len(item[3])))
     alternatives = "; or ".join(a.description for score, a, _, _ in scored if score == fewest)
-    errors = [(p, f"Missing data for required field. Give {alternatives}.")
-              for f in missing for p in group.case_pointers(f, positions)]
-    errors += [(p, f"Does not apply here. Give {alternatives}.")
-               for f in extra for p in group.case_pointers(f, positions)]
+    errors = _pointed(missing, f"Missing data for required field. Give {alternatives}.", group, positions)
+    errors += _pointed(extra, f"Does not apply here. Give {alternatives}.", group, positions)
     return None, errors
+
+
+def _scored(choice: Choice, present: frozenset, options: dict) -> list[tuple]:
+    """(missing + surplus fields, alternative, missing, surplus) of every alternative the options allow."""
+    given = present & choice.fields
+    scored = []
+    for alternative in (a for a in choice.alternatives if a.applies(options)):
+        missing = [f for f in alternative.required if f not in present]
+        extra = sorted(given - set(alternative.fields))
+        scored.append((len(missing) + len(extra), alternative, missing, extra))
+    return scored
+
+
+def _no_alternative(choice: Choice, options: dict, group: Group, positions: np.ndarray) -> list:
+    restricting = sorted({name for a in choice.alternatives for name in a.when})
+    detail = ("No way to give the " + choice.description + " with these options together: "
+              + ", ".join(f"{name} {options[name]!r}" for name in restricting) + ".")
+    return _pointed(restricting or [""], detail, group, positions)
+
+
+def _pointed(fields, detail: str, group: Group, positions: np.ndarray) -> list:
+    """``(pointer, detail)`` for each field at each case of the group."""
+    return [(p, detail) for f in fields for p in group.case_pointers(f, positions)]
 
 
 def _unmet_needs(calculation: Calculation, taken: dict[str, Alternative], group: Group, options: dict,
@@ -126,23 +138,31 @@ def _unmet_needs(calculation: Calculation, taken: dict[str, Alternative], group:
     nearest way out is named: the missing fields of a needed alternative, or of another alternative
     of the same choice that takes the fields given and needs nothing missing."""
     errors = []
-    present = group.present
     for choice in calculation.choices:
         alternative = taken[choice.name]
         unmet = {other: values for other, values in alternative.needs.items() if taken[other].value not in values}
         if not unmet:
             continue
-        ways = [choice_of(calculation, other).alternative(v) for other, values in unmet.items() for v in values]
-        given = present & choice.fields
-        ways += [a for a in choice.alternatives if a is not alternative and given <= set(a.fields)
-                 and all(taken[other].value in values for other, values in a.needs.items())]
-        ways = [a for a in ways if a.applies(options)]
-        nearest = min(ways, key=lambda a: sum(f not in present for f in a.required))
+        ways = [a for a in _ways_out(calculation, choice, alternative, unmet, taken, group.present)
+                if a.applies(options)]
+        nearest = min(ways, key=lambda a: sum(f not in group.present for f in a.required))
         detail = ("Missing data for required field. Give " + "; or ".join(a.description for a in ways)
                   + f" (with {alternative.description}).")
-        errors += [(p, detail) for f in nearest.required if f not in present
-                   for p in group.case_pointers(f, positions)]
+        errors += _pointed([f for f in nearest.required if f not in group.present], detail, group, positions)
     return errors
+
+
+def _ways_out(calculation: Calculation, choice: Choice, alternative: Alternative, unmet: dict,
+              taken: dict[str, Alternative], present: frozenset) -> list[Alternative]:
+    """The alternatives that would meet an unmet need: those needed, or a sibling that takes the
+    fields given and has its own needs met."""
+    ways = [choice_of(calculation, other).alternative(v) for other, values in unmet.items() for v in values]
+    given = present & choice.fields
+    for sibling in choice.alternatives:
+        if sibling is not alternative and given <= set(sibling.fields) and all(
+                taken[other].value in values for other, values in sibling.needs.items()):
+            ways.append(sibling)
+    return ways
 
 
 def choice_of(calculation: Calculation, name: str) -> Choice:

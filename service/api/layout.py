@@ -14,9 +14,9 @@ from typing import TYPE_CHECKING, Any
 import numpy as np
 import orjson
 
-from service.api.outcome import MAX_WHOLE_OUTPUT, NOT_FINITE, Outcome, outcome_of
+from service.api.outcome import Outcome, outcome_of
 from service.api.problems import PHYSICALLY_IMPOSSIBLE, Problem
-from service.core.cases import CaseResults, reason_texts
+from service.core.cases import LARGEST_WHOLE, CaseResults
 from service.core.checks import STATUSES
 
 if TYPE_CHECKING:
@@ -147,39 +147,53 @@ def case_body(calculation: Calculation, outcome: Outcome, i: int) -> dict:
 def single_body(calculation: Calculation, result: CaseResults) -> dict:
     """The response to one case, from Python floats taken once out of the core's arrays.
 
+    A quick look proves the usual case sound (no failure, every output finite); anything else is
+    judged by the general path, whose failures the core's ``failure_codes`` decides.
+
     Raises
     ------
     Problem
         422 if the case is physically impossible, with the first reason that applies.
     """
-    try:
-        # Every output at once as Python floats: one numpy call rather than two per output.
-        block = np.array(list(result.values.values()), dtype=float)
-    except ValueError:  # outputs of different shapes
-        block = None
-    if block is None or block.shape != (len(result.values), 1):  # per-stage lists: the general layout
+    values = _plain_values(calculation, result)
+    checks = _plain_checks(result) if values is not None else None
+    if checks is None:
         return _single_body_of(calculation, outcome_of(result, np.zeros(1, dtype=int), calculation._integer_outputs))
-    values = dict(zip(result.values, block[:, 0].tolist(), strict=True))
-    for reason, mask in result.failures:
-        if np.asarray(mask).item(0):
-            raise _impossible(reason_texts(reason, np.asarray(mask))[0][0])
-    if not all(map(math.isfinite, values.values())) or any(
-            abs(values[name]) > MAX_WHOLE_OUTPUT for name in calculation._integer_outputs if name in values):
-        raise _impossible(NOT_FINITE)
-    checks = {}
-    for name, check in result.checks.items():
-        value = np.asarray(check.value, dtype=float)
-        if value.ndim != 1:
-            return _single_body_of(calculation,
-                                   outcome_of(result, np.zeros(1, dtype=int), calculation._integer_outputs))
-        value = value.item(0)
-        checks[name] = {"value": value if math.isfinite(value) else None, "limit": check.limit,
-                        "fail_limit": check.fail_limit, "comparison": check.comparison,
-                        "status": STATUSES[check.status_code.item(0)], "basis": check.basis}
     integer = calculation._integer_outputs
     body = {name: int(value) if name in integer else value for name, value in values.items()}
     body["checks"] = checks
     return body
+
+
+def _plain_values(calculation: Calculation, result: CaseResults) -> dict | None:
+    """The one case's outputs as Python floats, or None unless every one is a finite number (and a
+    whole number within what a double holds exactly) and no failure applies."""
+    try:
+        # Every output at once as Python floats: one numpy call rather than two per output.
+        block = np.array(list(result.values.values()), dtype=float)
+    except ValueError:  # outputs of different shapes
+        return None
+    if block.shape != (len(result.values), 1) or any(np.asarray(mask).item(0) for _, mask in result.failures):
+        return None
+    values = dict(zip(result.values, block[:, 0].tolist(), strict=True))
+    if not all(map(math.isfinite, values.values())) or any(
+            abs(values[name]) > LARGEST_WHOLE for name in calculation._integer_outputs if name in values):
+        return None
+    return values
+
+
+def _plain_checks(result: CaseResults) -> dict | None:
+    """The one case's checks as plain values, or None where a check holds a list (per stage)."""
+    checks = {}
+    for name, check in result.checks.items():
+        value = np.asarray(check.value, dtype=float)
+        if value.ndim != 1:
+            return None
+        value = value.item(0)
+        checks[name] = {"value": value if math.isfinite(value) else None, "limit": check.limit,
+                        "fail_limit": check.fail_limit, "comparison": check.comparison,
+                        "status": STATUSES[check.status_code.item(0)], "basis": check.basis}
+    return checks
 
 
 def _single_body_of(calculation: Calculation, outcome: Outcome) -> dict:

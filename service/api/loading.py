@@ -57,40 +57,55 @@ def _load_valid(plan, raw: dict):
 
 def load(schema: CaseSchema, raw: dict, pointer, plan=None, listed: int = MAX_LISTED_ERRORS):
     """Loaded fields and errors; where loading fails, the valid option values still come back so
-    that the input mode can be judged too and every offending field is named at once. Unknown
+    that the choices can be judged too and every offending field is named at once. Unknown
     fields beyond the first ``listed`` are counted, not named."""
     if plan is not None:
         loaded = _load_valid(plan, raw)
         if loaded is not None:
             return loaded, []
-    unknown_errors = []
-    known = {f.data_key or name for name, f in schema.load_fields.items()}
-    if not known >= raw.keys():
-        # Unknown fields are reported here rather than by marshmallow, which builds a message for
-        # each through several layers (thousands of them took seconds); past ``listed`` they are
-        # only counted, so that refusing them costs one pass over the keys.
-        unknown = [name for name in raw if name not in known]
-        raw = {name: value for name, value in raw.items() if name in known}
-        for name in unknown[:listed]:
-            pointers = pointer(name if name != "" else _EMPTY_NAME, ())
-            pointers = [pointers] if isinstance(pointers, str) else pointers
-            unknown_errors += [(one, "Unknown field.") for one in pointers]
-        if len(unknown) > listed:
-            unknown_errors.append(unlisted((len(unknown) - listed) * _pointer_count(pointer)))
+    raw, unknown_errors = _without_unknown(schema, raw, pointer, listed)
     try:
         loaded = schema.load(raw)
     except ValidationError as error:
-        options = {}
-        for name, f in schema.fields.items():
-            if isinstance(f, Option) and name not in error.messages:
-                value = raw.get(name, f.load_default)
-                if isinstance(value, str) or (isinstance(value, list) and all(isinstance(v, str) for v in value)):
-                    options[name] = value if isinstance(value, str) else np.asarray(value, dtype=str)
-        return options, list(_flatten(error.messages, pointer)) + unknown_errors
+        return _valid_options(schema, raw, error.messages), list(_flatten(error.messages, pointer)) + unknown_errors
     if unknown_errors:
         options = {name: loaded[name] for name in loaded if isinstance(schema.fields.get(name), Option)}
         return options, unknown_errors
     return loaded, []
+
+
+def _without_unknown(schema: CaseSchema, raw: dict, pointer, listed: int) -> tuple[dict, list]:
+    """``raw`` without its unknown fields, and an error for each (the first ``listed`` named).
+
+    Unknown fields are reported here rather than by marshmallow, which builds a message for each
+    through several layers (thousands of them took seconds); past ``listed`` they are only
+    counted, so that refusing them costs one pass over the keys.
+    """
+    known = {f.data_key or name for name, f in schema.load_fields.items()}
+    if known >= raw.keys():
+        return raw, []
+    unknown = [name for name in raw if name not in known]
+    errors = []
+    for name in unknown[:listed]:
+        pointers = pointer(name if name != "" else _EMPTY_NAME, ())
+        errors += [(one, "Unknown field.") for one in ([pointers] if isinstance(pointers, str) else pointers)]
+    if len(unknown) > listed:
+        errors.append(unlisted((len(unknown) - listed) * _pointer_count(pointer)))
+    return {name: value for name, value in raw.items() if name in known}, errors
+
+
+def _valid_options(schema: CaseSchema, raw: dict, messages: dict) -> dict:
+    """The option values that loaded (a string, or a list of strings in columns), without errors."""
+    options = {}
+    for name, f in schema.fields.items():
+        if not isinstance(f, Option) or name in messages:
+            continue
+        value = raw.get(name, f.load_default)
+        if isinstance(value, str):
+            options[name] = value
+        elif isinstance(value, list) and all(isinstance(v, str) for v in value):
+            options[name] = np.asarray(value, dtype=str)
+    return options
 
 
 def _pointer_count(pointer) -> int:

@@ -11,17 +11,11 @@ from typing import TYPE_CHECKING, Any
 
 import numpy as np
 
-from service.core.cases import CaseResults, reason_texts
+from service.core.cases import CaseResults, failure_codes
 from service.core.checks import STATUSES
 
 if TYPE_CHECKING:
     from service.api.declarations import Calculation
-
-
-NOT_FINITE = "the result is not a finite number (overflow): check the magnitudes of the inputs"
-
-
-MAX_WHOLE_OUTPUT = 2**53 - 1
 
 
 @dataclass
@@ -74,62 +68,33 @@ def evaluate(calculation: Calculation, options: dict, data: dict, size: int) -> 
 
 
 def outcome_of(result: CaseResults, index: np.ndarray, integer_outputs=frozenset()) -> Outcome:
-    """Failures as reason codes, failed cases masked to NaN, statuses as shared objects: all of it
-    whole-array operations, none a loop over the cases."""
-    size = len(index)
-    # The first reason that applies to a case is the one reported, so the masks go in backwards.
-    reasons: list = [reason for reason, _ in result.failures]
-    reason = np.zeros(size, dtype=np.intp)
-    for code in range(len(result.failures), 0, -1):
-        reason[np.broadcast_to(result.failures[code - 1][1], (size,))] = code
-    for code, entry in enumerate(reasons, start=1):
-        if not isinstance(entry, str):
-            # A reason with a number per case: a code per distinct text, for the cases that report it.
-            reasons[code - 1] = None
-            where = reason == code
-            if where.any():
-                texts, which = reason_texts(entry, where)
-                reason[where] = len(reasons) + 1 + which
-                reasons += texts
-    reasons.append(NOT_FINITE)
+    """Failures as reason codes (judged by the core's :func:`~service.core.cases.failure_codes`),
+    failed cases masked to NaN, statuses as shared objects: whole-array operations, none a loop
+    over the cases."""
     values, own = {}, set()
     for name, array in result.values.items():
         # An input passed through as an output can be a broadcast view; the writer needs it whole.
         whole = np.ascontiguousarray(array, dtype=float)
         if whole is not array and whole.flags.owndata:
             own.add(name)
-        if name in result.absent:
-            # Entries that do not apply are NaN by design, not a failure.
-            finite = _finite_rows(np.where(result.absent[name], 0.0, whole))
-        else:
-            finite = np.isfinite(whole) if whole.ndim == 1 else _finite_rows(whole)
-        if name in integer_outputs:
-            # A count past 2**53 is not exact as a double, and past 2**63 orjson refuses it (a 500).
-            too_big = np.abs(np.where(np.isfinite(whole), whole, 0.0)) > MAX_WHOLE_OUTPUT
-            finite &= ~(too_big if too_big.ndim == 1 else too_big.any(axis=1))
-        if not finite.all():
-            reason[(~finite) & (reason == 0)] = len(reasons)
         values[name] = whole
+    reason, reasons = failure_codes(result.failures, values, result.absent, integer_outputs)
     failed = reason != 0
     failed_cases = np.flatnonzero(failed)
-    any_failed = failed_cases.size > 0
-    if any_failed:
+    if failed_cases.size:
         values = {name: _blanked(a, failed_cases, name in own) for name, a in values.items()}
-    checks = {}
-    for name, check in result.checks.items():
-        value = np.ascontiguousarray(check.value, dtype=float)
-        if any_failed:
-            value = _blanked(value, failed_cases, value is not check.value and value.flags.owndata)
-        checks[name] = {
-            "value": value,
-            # Per stage or row too: the shared status strings, whole rows None where a case failed.
-            "status": _status_objects(np.broadcast_to(check.status_code, value.shape), failed),
-            "limit": check.limit,
-            "fail_limit": check.fail_limit,
-            "comparison": check.comparison,
-            "basis": check.basis,
-        }
+    checks = {name: _check_of(check, failed, failed_cases) for name, check in result.checks.items()}
     return Outcome(index=index, values=values, checks=checks, reason=reason, reasons=reasons)
+
+
+def _check_of(check, failed: np.ndarray, failed_cases: np.ndarray) -> dict:
+    value = np.ascontiguousarray(check.value, dtype=float)
+    if failed_cases.size:
+        value = _blanked(value, failed_cases, value is not check.value and value.flags.owndata)
+    # Per stage or row too: the shared status strings, whole rows None where a case failed.
+    status = _status_objects(np.broadcast_to(check.status_code, value.shape), failed)
+    return {"value": value, "status": status, "limit": check.limit, "fail_limit": check.fail_limit,
+            "comparison": check.comparison, "basis": check.basis}
 
 
 def _blanked(array: np.ndarray, failed_cases: np.ndarray, own: bool) -> np.ndarray:
@@ -157,13 +122,3 @@ def _status_objects(code: np.ndarray, failed: np.ndarray) -> np.ndarray:
     code = np.array(code, dtype=np.uint8)
     code[failed] = len(STATUSES)
     return _STATUS_OBJECTS[code]
-
-
-def _finite_rows(array: np.ndarray) -> np.ndarray:
-    """Per-stage outputs are NaN-padded after the last stage; only inner NaN or inf is a failure."""
-    finite = np.isfinite(array)
-    has_value = finite.any(axis=1)
-    # A padded row is finite up to its last finite entry and NaN after it.
-    last = np.where(has_value, array.shape[1] - 1 - np.argmax(finite[:, ::-1], axis=1), -1)
-    columns = np.arange(array.shape[1])
-    return has_value & np.all(finite | (columns[None, :] > last[:, None]), axis=1) & ~np.isinf(array).any(axis=1)

@@ -179,22 +179,20 @@ def row_blocks(cases: list[dict], known=None) -> list[tuple[Sequence[int], dict[
         blocks = _blocks_by_names(cases)
     # A field given as lists splits a block by list length (one case's stages each); an unknown
     # field (``known``: the schema's) is refused whatever it holds, so it is not looked at.
-    split = []
-    for rows, columns in blocks:
-        listed = [name for name, column in columns.items()
-                  if (known is None or name in known) and _holds_lists(column)]
-        if not listed:
-            split.append((rows, columns))
-            continue
-        lengths = list(zip(*([len(v) if isinstance(v, list) else -1 for v in columns[name]] for name in listed),
-                           strict=True))
-        by_length: dict[tuple, list[int]] = {}
-        for position, key in enumerate(lengths):
-            by_length.setdefault(key, []).append(position)
-        for positions in by_length.values():
-            split.append(([rows[p] for p in positions],
-                          {name: [column[p] for p in positions] for name, column in columns.items()}))
-    return split
+    return [block for rows, columns in blocks for block in _by_list_lengths(rows, columns, known)]
+
+
+def _by_list_lengths(rows: Sequence[int], columns: dict[str, list], known=None) -> list:
+    """A block split into blocks whose cases give lists of the same lengths in every listed field."""
+    listed = [name for name, column in columns.items() if (known is None or name in known) and _holds_lists(column)]
+    if not listed:
+        return [(rows, columns)]
+    lengths = zip(*([len(v) if isinstance(v, list) else -1 for v in columns[name]] for name in listed), strict=True)
+    by_length: dict[tuple, list[int]] = {}
+    for position, key in enumerate(lengths):
+        by_length.setdefault(key, []).append(position)
+    return [([rows[p] for p in positions], {name: [column[p] for p in positions] for name, column in columns.items()})
+            for positions in by_length.values()]
 
 
 def _uniform_columns(cases: list[dict]) -> dict[str, list] | None:

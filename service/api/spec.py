@@ -118,12 +118,18 @@ def _request_schema(prefix: str, calculation: Calculation, shape: str) -> dict:
                     for need in _needs_schemas(calculation, choice, alternative)]
     if constraints:
         body["allOf"] = constraints
-    dependent = {f: [g for g in group if g != f] for group in calculation.together for f in group}
-    for field_name, needed in calculation.requires:
-        dependent.setdefault(field_name, []).append(needed)
+    dependent = _dependent_required(calculation)
     if dependent:
         body["dependentRequired"] = dependent
     return body
+
+
+def _dependent_required(calculation: Calculation) -> dict[str, list[str]]:
+    """Fields given together, and fields given only with another."""
+    dependent = {f: [g for g in group if g != f] for group in calculation.together for f in group}
+    for field_name, needed in calculation.requires:
+        dependent.setdefault(field_name, []).append(needed)
+    return dependent
 
 
 def _choice_schema(calculation: Calculation, choice: Choice, shape: str) -> dict:
