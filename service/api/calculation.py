@@ -92,7 +92,7 @@ def _computed(calculation: Calculation, shape: str, groups: list, errors: list) 
                 continue
             # A chunk of cases at a time where the core's intermediates are large per case: only
             # one chunk's are alive at once, and each chunk is one outcome (as a group is).
-            for start, stop in chunks(len(index), memory.chunk_cases(calculation.name)):
+            for start, stop in chunks(len(index), memory.chunk_cases(calculation.name, group.present)):
                 part = sliced(data, len(index), start, stop) if stop - start < len(index) else data
                 result = evaluate(calculation, options, part, stop - start)
                 outcomes.append(outcome_of(result, index[start:stop], calculation._integer_outputs))

@@ -45,6 +45,12 @@ FIXED_BYTES = {"machine-design": 160 << 20}
 DEFAULT_BYTES_PER_CASE = 4_000
 #: Cases computed at once, for the calculations whose intermediate arrays are large per case.
 CHUNK_CASES = {"machine-design": 128, "stage-split": 4_096}
+#: Larger chunks where a given input keeps the core's intermediate arrays small: with the mean radius
+#: held the machine design solves no annulus and its stage-count search lays out no trial machines
+#: (about 20 to 30 kB per case at once, against about 350 to 500 kB with the hub or tip radius held;
+#: Python's tracemalloc, 128 and 1,024 cases of the benchmark's and the README's compressors), and
+#: the 128-case chunks cost twice the core's time of the whole batch (tests/benchmarks, machine-design).
+CHUNK_CASES_GIVEN = {"machine-design": {"mean_radius": 2_048}}
 #: Without MEANLINE_MAX_MEMORY nor a container memory limit: the memory one request may take.
 DEFAULT_MAX_MEMORY = 1 << 30
 #: A worker's own memory before any request (interpreter, numpy, scipy, the app), about 60 MB,
@@ -61,7 +67,11 @@ def request_bytes(name: str, shape: str, cases: int) -> int:
     return FIXED_BYTES.get(name, 0) + cases * bytes_per_case(name, shape)
 
 
-def chunk_cases(name: str) -> int | None:
+def chunk_cases(name: str, given=frozenset()) -> int | None:
+    """Cases computed at once for a group of cases that give the fields ``given`` (None: all at once)."""
+    for field, chunk in CHUNK_CASES_GIVEN.get(name, {}).items():
+        if field in given:
+            return chunk
     return CHUNK_CASES.get(name)
 
 
