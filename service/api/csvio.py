@@ -104,6 +104,9 @@ def _flat(prefix: str, value, into: dict) -> None:
     if isinstance(value, list):
         for position, item in enumerate(value):
             _flat(f"{prefix}.{position}", item, into)
+    elif isinstance(value, dict):  # the defaults a case took: assumed.NAME
+        for name, item in value.items():
+            _flat(f"{prefix}.{name}", item, into)
     else:
         into[prefix] = value
 

@@ -195,8 +195,9 @@ def _add_calculation(spec: APISpec, plugin, calculation: Calculation) -> None:
             outputs[name] = {**prop, "type": [prop.get("type", "number"), "null"]}
     checks = {"type": "object", "description": "Rules of thumb the case was judged against.",
               "additionalProperties": _ref("Check")}
+    assumed = _assumed_schema(calculation)
     spec.components.schema(f"{prefix}Result", component={
-        "type": "object", "properties": {**outputs, "checks": checks}, "additionalProperties": False})
+        "type": "object", "properties": {**outputs, "checks": checks, **assumed}, "additionalProperties": False})
     responses = [
         _ref(f"{prefix}Result"),
         {"type": "object", "title": "Rows", "required": ["results", "errors"], "additionalProperties": False,
@@ -208,7 +209,7 @@ def _add_calculation(spec: APISpec, plugin, calculation: Calculation) -> None:
                           for name, prop in outputs.items()}
         spec.components.schema(f"{prefix}ResultColumns", component={
             "type": "object", "properties": {**column_outputs, "checks": {
-                "type": "object", "additionalProperties": _ref("CheckColumns")}},
+                "type": "object", "additionalProperties": _ref("CheckColumns")}, **_assumed_schema(calculation, True)},
             "additionalProperties": False})
         responses.append(
             {"type": "object", "title": "Columns", "required": ["columns", "errors"], "additionalProperties": False,
@@ -256,6 +257,25 @@ def _add_calculation(spec: APISpec, plugin, calculation: Calculation) -> None:
                                    "or shutting down.", **problem},
         },
     }})
+
+
+def _assumed_schema(calculation: Calculation, columns: bool = False) -> dict:
+    """The ``assumed`` member of a calculation that declares defaults: each default a case took."""
+    if not calculation.defaults:
+        return {}
+    value = {"type": ["number", "string"]}
+    described = "; ".join(
+        f"{name}: " + ", ".join(f"{d.value:g}" + (f" ({', '.join(v for vs in d.when.values() for v in vs)})"
+                                                   if d.when else "") for d in defaults)
+        for name, defaults in calculation.defaults.items())
+    return {"assumed": {
+        "type": "object", "additionalProperties": {"oneOf": [value, {"type": "array", "items": {
+            "type": ["number", "string", "null"]}}]}
+        if columns else value,
+        "description": ("Every default the case took for a field it left out: the declared ones (" + described
+                        + "; each common practice, see the field's description), the fields' own defaults and "
+                        "the options'. In columns: one value where every case took the same, else one per case "
+                        "(null where a case gave the field).")}}
 
 
 def _add_common_components(spec: APISpec) -> None:
@@ -364,8 +384,8 @@ CSV_REQUEST = (
     "line i + 2 of the file.")
 CSV_ANSWER = {"schema": {"type": "string", "description": (
     "With `Accept: text/csv`: a header line, then one line per case: `case`, each output (a list output as "
-    "`NAME.0`, `NAME.1`, ...), each check's status as `checks.NAME.status`, and `error` (why the case failed, "
-    "else empty).")}}
+    "`NAME.0`, `NAME.1`, ...), each default taken as `assumed.NAME`, each check's status as "
+    "`checks.NAME.status`, and `error` (why the case failed, else empty).")}}
 GET_NOTE = (
     "The GET form of one case, for spreadsheet cells (WEBSERVICE) and plain URLs: the query holds the fields of "
     "a one-case body, one parameter each (a list comma-separated, repeated, or both). A value that is a JSON "

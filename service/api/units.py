@@ -184,11 +184,16 @@ def _failed_case(case: dict) -> dict:
                    if name == "checks" else None) for name, value in case.items()}
 
 
+#: Members of an answer beside its outputs.
+_NOT_OUTPUTS = ("checks", "assumed")
+
+
 def answer_in_us(calculation, body: dict) -> dict:
     """An answer (any shape, not streamed) with every output in its US customary unit. Check
     values stay as they are: every rule of thumb judges a dimensionless number. A case whose
     conversion overflows fails as a case (a batch) or as the request (one case), as any output
-    that is not finite does."""
+    that is not finite does. The defaults a case took (``assumed``) are dimensionless or options and
+    stay as they are."""
     factors = {name: us_factor(field.metadata["x-unit"]) for name, field in calculation.outputs().fields.items()}
     factors = {name: factor for name, factor in factors.items() if factor != 1.0}
 
@@ -200,18 +205,19 @@ def answer_in_us(calculation, body: dict) -> dict:
         results, errors = [], list(body.get("errors", []))
         for index, case in enumerate(body["results"]):
             converted = convert(case) if case is not None else None
-            if converted is not None and any(_overflowed(v) for k, v in converted.items() if k != "checks"):
+            if converted is not None and any(_overflowed(v) for k, v in converted.items() if k not in _NOT_OUTPUTS):
                 converted = _failed_case(case)
                 errors.append({"index": index, "detail": OVERFLOW})
             results.append(converted)
         return {**body, "results": results, "errors": sorted(errors, key=lambda e: e["index"])}
     if "columns" in body:
         columns = convert(body["columns"])
-        size = max((len(v) for k, v in columns.items() if k != "checks"), default=0)
-        failed = sorted({i for k, v in columns.items() if k != "checks" for i in range(size) if _overflowed(v[i])})
+        size = max((len(v) for k, v in columns.items() if k not in _NOT_OUTPUTS), default=0)
+        failed = sorted({i for k, v in columns.items() if k not in _NOT_OUTPUTS
+                         for i in range(size) if _overflowed(v[i])})
         if failed:
             for name, value in list(columns.items()):
-                if name == "checks":
+                if name in _NOT_OUTPUTS:
                     continue
                 value = value.tolist() if hasattr(value, "tolist") else list(value)
                 columns[name] = [None if i in failed else v for i, v in enumerate(value)]
@@ -222,7 +228,7 @@ def answer_in_us(calculation, body: dict) -> dict:
         errors = list(body.get("errors", [])) + [{"index": i, "detail": OVERFLOW} for i in failed]
         return {**body, "columns": columns, "errors": sorted(errors, key=lambda e: e["index"])}
     converted = convert(body)
-    if any(_overflowed(v) for k, v in converted.items() if k != "checks"):
+    if any(_overflowed(v) for k, v in converted.items() if k not in _NOT_OUTPUTS):
         from service.api.problems import PHYSICALLY_IMPOSSIBLE, Problem
 
         raise Problem(422, "Physically impossible case", OVERFLOW, PHYSICALLY_IMPOSSIBLE)
