@@ -60,13 +60,21 @@ def test_service_serves_the_committed_document(client, spec):
 
 def test_every_calculation_is_documented(spec):
     for calc in CALCULATIONS:
-        shapes = [_resolve(spec, v).get("title") for v in _component_of(spec, calc)["oneOf"]]
-        assert shapes == [None, "Rows", "Columns"] if calc.columns else [None, "Rows"], calc.name
+        prefix = _ref_name(spec, calc).removesuffix("Request")
+        # Rows and columns are components of their own, so that client generators name them apart.
+        shapes = [v["$ref"].rsplit("/", 1)[-1] for v in _component_of(spec, calc)["oneOf"]]
+        columns = [f"{prefix}ColumnsRequest"] if calc.columns else []
+        assert shapes == [f"{prefix}Case", f"{prefix}RowsRequest", *columns], calc.name
+        # The one-case result last: it requires no member, so a client trying the shapes in order
+        # would take any answer for it.
+        answers = [v["$ref"].rsplit("/", 1)[-1] for v in _component_of(spec, calc, "200")["oneOf"]]
+        columns = [f"{prefix}ColumnsResponse"] if calc.columns else []
+        assert answers == [f"{prefix}RowsResponse", *columns, f"{prefix}Result"], calc.name
         operation = spec["paths"][calc.path]["post"]
         assert {"200", "400", "413", "415", "422"} <= set(operation["responses"]), calc.name
         for status, response in operation["responses"].items():
             media = "application/json" if status == "200" else "application/problem+json"
-            assert media in response["content"], (calc.name, status)
+            assert media in _resolve(spec, response)["content"], (calc.name, status)
 
 
 # -- helpers -------------------------------------------------------------------------------------
@@ -82,25 +90,42 @@ def _resolve(spec: dict, schema: dict) -> dict:
     return schema
 
 
-def _component_of(spec: dict, calc, status: str = "") -> dict:
+def _content(spec: dict, calc, status: str = "") -> dict:
     operation = spec["paths"][calc.path]["post"]
-    content = operation["responses"][status]["content"] if status else operation["requestBody"]["content"]
-    return _resolve(spec, content["application/json"]["schema"])
+    return _resolve(spec, operation["responses"][status])["content"] if status else operation["requestBody"]["content"]
+
+
+def _component_of(spec: dict, calc, status: str = "") -> dict:
+    return _resolve(spec, _content(spec, calc, status)["application/json"]["schema"])
 
 
 def _mode_schemas(spec: dict, calc):
     """Every mode's schema of one case and of columns, from the documented request body."""
     case, *batches = (_resolve(spec, v) for v in _component_of(spec, calc)["oneOf"])
-    shapes = [case] + [_resolve(spec, b["properties"]["columns"]) for b in batches if b["title"] == "Columns"]
+    shapes = [case] + [_resolve(spec, b["properties"]["columns"]) for b in batches if "columns" in b["properties"]]
     for shape in shapes:
         for mode in shape["oneOf"]:
             yield _resolve(spec, mode)
 
 
+def _inline(spec: dict, schema):
+    """The schema with every $ref in it followed (as _resolve does)."""
+    if isinstance(schema, list):
+        return [_inline(spec, s) for s in schema]
+    if not isinstance(schema, dict):
+        return schema
+    return {k: _inline(spec, v) for k, v in _resolve(spec, schema).items()}
+
+
 def _input_properties(spec: dict, calc):
+    """Each mode's properties with their references followed. A column field (one value for every
+    case or a list of them) refers to the one-case field: its description and unit are that one's."""
     for mode in _mode_schemas(spec, calc):
         for name, prop in mode["properties"].items():
-            yield name, _resolve(spec, prop)
+            field = _inline(spec, {"$ref": prop["$ref"]}) if "$ref" in prop else {}
+            if "description" not in field and "oneOf" in field:
+                field = {k: field["oneOf"][0][k] for k in ("description", "x-unit") if k in field["oneOf"][0]}
+            yield name, {**field, **_inline(spec, prop)}
 
 
 def _variants(prop: dict):
@@ -122,8 +147,7 @@ def _validator(spec: dict, component: str) -> Draft202012Validator:
 
 
 def _ref_name(spec: dict, calc, status: str = "") -> str:
-    operation = spec["paths"][calc.path]["post"]
-    content = operation["responses"][status]["content"] if status else operation["requestBody"]["content"]
+    content = _content(spec, calc, status)
     return content["application/json" if status in ("", "200") else "application/problem+json"]["schema"][
         "$ref"].rsplit("/", 1)[-1]
 
@@ -148,9 +172,10 @@ def test_every_input_has_a_description_and_every_number_a_unit(spec, name):
 
 @pytest.mark.parametrize("name", NAMES)
 def test_every_output_has_a_description_and_a_unit(spec, name):
-    result = _resolve(spec, _component_of(spec, calculation(name), "200")["oneOf"][0])
+    result = _resolve(spec, _component_of(spec, calculation(name), "200")["oneOf"][-1])
     for field, prop in result["properties"].items():
         if field != "checks":
+            prop = _resolve(spec, prop)
             assert prop.get("description") and prop.get("x-unit"), (name, field)
     assert set(result["properties"]) == set(calculation(name).outputs().fields) | {"checks"}
 
