@@ -9,6 +9,7 @@ from __future__ import annotations
 
 import json
 import math
+import re
 from pathlib import Path
 
 import openapi_spec_validator
@@ -75,6 +76,111 @@ def test_every_calculation_is_documented(spec):
         for status, response in operation["responses"].items():
             media = "application/json" if status == "200" else "application/problem+json"
             assert media in _resolve(spec, response)["content"], (calc.name, status)
+
+
+#: Issue 17: the whole document (the committed file) under this many bytes.
+MAX_DOCUMENT_BYTES = 150_000
+
+
+def _is_mode_schema(name: str, prefixes) -> bool:
+    """The request's input modes: {prefix}Case, {prefix}Columns and {prefix}Case{mode}/Columns{mode}."""
+    return any(re.fullmatch(f"{p}(Case|Columns)(?!Request|Response)\\w*", name) for p in prefixes)
+
+
+def _prefixes(spec: dict) -> list[str]:
+    return [_ref_name(spec, calc).removesuffix("Request") for calc in CALCULATIONS]
+
+
+@pytest.mark.xfail(strict=False, reason=(
+    "Issue 17: 640,934 bytes committed (12/2026), of which the input-mode schemas ({prefix}Case*, "
+    "{prefix}Columns*: one schema per mode combination) are 453,034 and everything else 187,900; the mode "
+    "schemas are being replaced by per-choice declarations on another branch"))
+def test_the_document_is_small(spec, report_figure):
+    size = (ROOT / SPEC_PATH).stat().st_size
+    prefixes = _prefixes(spec)
+    modes = sum(len(json.dumps({name: schema}, separators=(",", ":"), ensure_ascii=False).encode())
+                for name, schema in spec["components"]["schemas"].items() if _is_mode_schema(name, prefixes))
+    report_figure("OpenAPI document", f"{size:,} bytes; the input-mode schemas {modes:,} bytes (compact JSON)")
+    assert size < MAX_DOCUMENT_BYTES, (size, modes)
+
+
+def _refs(node) -> list[str]:
+    if isinstance(node, dict):
+        return ([node["$ref"]] if isinstance(node.get("$ref"), str) else []) + [
+            r for value in node.values() for r in _refs(value)]
+    if isinstance(node, list):
+        return [r for value in node for r in _refs(value)]
+    return []
+
+
+def test_every_component_is_used(spec):
+    used = set(_refs(spec))
+    for kind, components in spec["components"].items():
+        if kind != "securitySchemes":
+            unused = [n for n in components if f"#/components/{kind}/{n}" not in used]
+            assert not unused, (kind, unused)
+    schemes = {name for operation in _operations(spec) for alternative in operation.get("security", [])
+               for name in alternative}
+    assert schemes == set(spec["components"]["securitySchemes"])
+
+
+def _operations(spec: dict):
+    for item in spec["paths"].values():
+        yield from item.values()
+
+
+@pytest.mark.parametrize("name", NAMES)
+def test_each_output_is_described_once(spec, name):
+    calc = calculation(name)
+    result = _resolve(spec, _component_of(spec, calc, "200")["oneOf"][-1])
+    refs = {output: prop["$ref"] for output, prop in result["properties"].items() if output != "checks"}
+    assert set(refs) == set(calc.outputs().fields)
+    for output, ref in refs.items():
+        assert re.fullmatch(f"#/components/schemas/(\\w*Output_{output})", ref), (output, ref)
+    if calc.columns:
+        # The columns answer refers to the same components: a list of the one-case value.
+        columns = _resolve(spec, _resolve(spec, _component_of(spec, calc, "200")["oneOf"][1])["properties"]["columns"])
+        assert {o: p for o, p in columns["properties"].items() if o != "checks"} == {
+            o: {"type": "array", "items": {"$ref": ref}} for o, ref in refs.items()}
+
+
+def test_outputs_shared_by_two_calculations_are_one_component(spec):
+    outputs = {n: s for n, s in spec["components"]["schemas"].items() if "Output_" in n}
+    texts = [json.dumps(s, sort_keys=True) for s in outputs.values()]
+    assert len(set(texts)) == len(texts), "no output schema written twice"
+    triangles, stage = (_resolve(spec, _component_of(spec, calculation(n), "200")["oneOf"][-1])["properties"]
+                        for n in ("triangles", "stage-efficiency"))
+    shared = set(triangles) & set(stage) - {"checks"}
+    # An output of the same name and meaning is the same component; one of the same name and
+    # another meaning (the diffusion factors of the loss correlations) is a component of its own.
+    same = {o for o in shared if triangles[o] == stage[o]}
+    assert len(same) >= 40  # stage-efficiency answers the triangles' outputs (47 today)
+    for output in shared - same:
+        assert _resolve(spec, triangles[output]) != _resolve(spec, stage[output]), output
+
+
+@pytest.mark.parametrize("name", COLUMN_NAMES)
+def test_a_column_field_refers_to_the_one_case_field(spec, name):
+    prefix = _ref_name(spec, calculation(name)).removesuffix("Request")
+    schemas = spec["components"]["schemas"]
+    columns = [n for n in schemas if n.startswith(f"{prefix}ColumnField_")]
+    assert len(columns) == len(calculation(name).schema().fields)
+    for column in columns:
+        one = {"$ref": "#/components/schemas/" + column.replace("ColumnField_", "Field_")}
+        assert schemas[column] == {"oneOf": [one, {"type": "array", "items": one, "minItems": 1}]}, column
+
+
+@pytest.mark.parametrize("name", NAMES)
+def test_the_get_parameters_refer_to_the_body_fields(spec, name):
+    calc = calculation(name)
+    prefix = _ref_name(spec, calc).removesuffix("Request")
+    parameters = {p["name"]: p for p in spec["paths"][calc.path]["get"]["parameters"] if "name" in p}
+    for field, parameter in parameters.items():
+        if field in calc.schema().fields:
+            assert parameter["schema"] == {"$ref": f"#/components/schemas/{prefix}Field_{field}"}, field
+            assert len(parameter["description"]) < 40, field
+            assert parameter.get("required", False) == calc.schema().fields[field].required, field
+    assert set(calc.schema().fields) < set(parameters)
 
 
 # -- helpers -------------------------------------------------------------------------------------
