@@ -3,6 +3,7 @@
 from __future__ import annotations
 
 import json
+import threading
 
 from apispec import APISpec
 from apispec.ext.marshmallow import MarshmallowPlugin
@@ -107,26 +108,48 @@ def build_spec(calculations: list[Calculation], version: str) -> dict:
     plugin.converter.add_attribute_function(case_field_property)
     _add_common_components(spec)
     outputs: dict[str, str] = {}
-    for calculation in calculations:
-        _add_calculation(spec, plugin, calculation, outputs)
+    with _BUILDING:
+        _FIELD_NAMES.clear()
+        for calculation in calculations:
+            _add_calculation(spec, plugin, calculation, outputs)
     _add_service_paths(spec)
     return spec.to_dict()
 
 
+#: The component of each (calculation prefix, field name, shape) of the document being built:
+#: ``Field_{name}`` / ``ColumnField_{name}`` for the first calculation with that field, and every
+#: other whose field is the same (the gas and inlet fields, stage-efficiency's flow fields);
+#: ``{prefix}Field_{name}`` for a field of the same name and another schema. Filled by
+#: _field_components, read by _field_component; build_spec holds _BUILDING meanwhile.
+_FIELD_NAMES: dict[tuple[str, str, str], str] = {}
+_BUILDING = threading.Lock()
+
+
 def _field_components(spec: APISpec, plugin, prefix: str, calculation: Calculation) -> None:
     """One component per input field, so the mode schemas only reference them; a column field
-    (one value for every case, or one per case) refers to the one-case field."""
+    (one value for every case, or one per case) refers to the one-case field. A field that an
+    earlier calculation has already is that one's component."""
+    written = spec.components.schemas
     for name, field in calculation._case_schema.fields.items():
-        spec.components.schema(_field_component(prefix, name, ""), component=plugin.converter.field2property(field))
+        prop = plugin.converter.field2property(field)
+        shared = f"Field_{name}"
+        component = shared if written.get(shared, prop) == prop else f"{prefix}Field_{name}"
+        _FIELD_NAMES[prefix, name, ""] = component
+        if component not in written:
+            spec.components.schema(component, component=prop)
     if calculation.columns:
         for name in calculation._columns_schema.fields:
-            one = _ref(_field_component(prefix, name, ""))
-            spec.components.schema(_field_component(prefix, name, "Column"), component={
-                "oneOf": [one, {"type": "array", "items": one, "minItems": 1}]})
+            one = _FIELD_NAMES[prefix, name, ""]
+            component = "Column" + one if one.startswith("Field_") else f"{prefix}ColumnField_{name}"
+            _FIELD_NAMES[prefix, name, "Column"] = component
+            if component not in written:
+                ref = _ref(one)
+                spec.components.schema(component, component={
+                    "oneOf": [ref, {"type": "array", "items": ref, "minItems": 1}]})
 
 
 def _field_component(prefix: str, name: str, shape: str) -> str:
-    return f"{prefix}{shape}Field_{name}"
+    return _FIELD_NAMES[prefix, name, shape]
 
 
 def _mode_schema(prefix: str, calculation: Calculation, mode: Mode, shape: str) -> dict:
@@ -450,20 +473,24 @@ def _get_operation(prefix: str, calculation: Calculation) -> dict:
     }
 
 
-#: Depth down to which objects and lists are written one member a line; deeper ones are one line.
+#: Objects and lists are written one member a line down to this depth (a component's or an
+#: operation's members), unless they fit in TEXT_WIDTH characters; deeper ones are one line.
 TEXT_EXPAND_DEPTH = 4
+TEXT_WIDTH = 200
 
 
 def document_text(document: dict) -> str:
-    """The document as committed: a member a line down to a component's or an operation's members
-    (a property, a parameter, a response a line), each of those on one compact line.
+    """The document as committed: one member a line down to a component's or an operation's
+    members (a property, a parameter, a response a line), each of those on one compact line, and
+    anything that fits in ``TEXT_WIDTH`` characters on one line.
 
-    About as readable as indented JSON and a little larger than compact JSON (``indent=2`` would
-    add half as much again).
+    About as readable as indented JSON and under a tenth larger than compact JSON (``indent=2``
+    would add a half).
     """
     def write(value, depth: int) -> str:
-        if depth > TEXT_EXPAND_DEPTH or not isinstance(value, dict | list) or not value:
-            return json.dumps(value, ensure_ascii=False, separators=(",", ":"))
+        line = json.dumps(value, ensure_ascii=False, separators=(",", ":"))
+        if depth > TEXT_EXPAND_DEPTH or not isinstance(value, dict | list) or len(line) + depth <= TEXT_WIDTH:
+            return line
         pad = "\n" + " " * (depth + 1)
         if isinstance(value, dict):
             members = [json.dumps(key, ensure_ascii=False) + ": " + write(item, depth + 1)

@@ -159,25 +159,44 @@ def test_outputs_shared_by_two_calculations_are_one_component(spec):
         assert _resolve(spec, triangles[output]) != _resolve(spec, stage[output]), output
 
 
+def _field_refs(spec: dict, calc, shape: int) -> dict[str, str]:
+    """The component each input field refers to in the modes of one case (shape 0) or of columns
+    (1); the same in every mode."""
+    modes = list(_mode_schemas(spec, calc))
+    one_case = len(_resolve(spec, _component_of(spec, calc)["oneOf"][0])["oneOf"])
+    refs = {}
+    for mode in modes[one_case:] if shape else modes[:one_case]:
+        for field, prop in mode["properties"].items():
+            assert refs.setdefault(field, prop["$ref"]) == prop["$ref"], field
+    return refs
+
+
 @pytest.mark.parametrize("name", COLUMN_NAMES)
 def test_a_column_field_refers_to_the_one_case_field(spec, name):
-    prefix = _ref_name(spec, calculation(name)).removesuffix("Request")
-    schemas = spec["components"]["schemas"]
-    columns = [n for n in schemas if n.startswith(f"{prefix}ColumnField_")]
-    assert len(columns) == len(calculation(name).schema().fields)
-    for column in columns:
-        one = {"$ref": "#/components/schemas/" + column.replace("ColumnField_", "Field_")}
-        assert schemas[column] == {"oneOf": [one, {"type": "array", "items": one, "minItems": 1}]}, column
+    calc = calculation(name)
+    columns, cases = _field_refs(spec, calc, 1), _field_refs(spec, calc, 0)
+    assert set(columns) == set(cases) == set(calc.schema().fields)
+    for field, ref in columns.items():
+        one = {"$ref": cases[field]}
+        assert _resolve(spec, {"$ref": ref}) == {"oneOf": [one, {"type": "array", "items": one, "minItems": 1}]}
+
+
+def test_a_field_shared_by_two_calculations_is_one_component(spec):
+    fields = [json.dumps(s, sort_keys=True) for n, s in spec["components"]["schemas"].items()
+              if re.fullmatch(r"\w*Field_\w+", n) and "ColumnField_" not in n]
+    assert len(set(fields)) == len(fields), "no field schema written twice"
+    triangles, stage = (_field_refs(spec, calculation(n), 0) for n in ("triangles", "stage-efficiency"))
+    assert triangles["flow_coefficient"] == stage["flow_coefficient"] == "#/components/schemas/Field_flow_coefficient"
 
 
 @pytest.mark.parametrize("name", NAMES)
 def test_the_get_parameters_refer_to_the_body_fields(spec, name):
     calc = calculation(name)
-    prefix = _ref_name(spec, calc).removesuffix("Request")
+    refs = _field_refs(spec, calc, 0)
     parameters = {p["name"]: p for p in spec["paths"][calc.path]["get"]["parameters"] if "name" in p}
     for field, parameter in parameters.items():
         if field in calc.schema().fields:
-            assert parameter["schema"] == {"$ref": f"#/components/schemas/{prefix}Field_{field}"}, field
+            assert parameter["schema"] == {"$ref": refs[field]}, field
             assert len(parameter["description"]) < 40, field
             assert parameter.get("required", False) == calc.schema().fields[field].required, field
     assert set(calc.schema().fields) < set(parameters)
