@@ -297,8 +297,7 @@ def _add_calculation(spec: APISpec, plugin, calculation: Calculation, known_outp
             "text/csv": {"schema": {"type": "string", "description": "Rows as CSV (see CSV)."}}}},
         "responses": {
             "200": {"description": "Results, in the shape of the request.", "content": content},
-            **{status: name for status, name in POST_PROBLEMS.items()},
-            **drawing,
+            **{status: name for status, name in sorted({**POST_PROBLEMS, **drawing}.items())},
         },
     }})
 
