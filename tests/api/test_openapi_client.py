@@ -21,14 +21,13 @@ import sys
 import typing
 from pathlib import Path
 
+import httpx
+import openapi_python_client  # noqa: F401  (run below as a program; imported so that its absence fails here)
 import pytest
 
 from service.__main__ import SPEC_PATH
 from service.api.registry import CALCULATIONS
 from tests.api.examples import EXAMPLES, ok_body, post
-
-httpx = pytest.importorskip("httpx")
-pytest.importorskip("openapi_python_client")
 
 ROOT = Path(__file__).resolve().parents[2]
 PACKAGE = "meanline_generated_client"
