@@ -99,12 +99,19 @@ def case_rows(body: dict) -> tuple[list[dict], dict[int, str]]:
         return [body], errors
     columns = body["columns"]
     checks = columns.get("checks", {})
-    outputs = {name: _as_list(value) for name, value in columns.items() if name != "checks"}
+    outputs = {name: _as_list(value) for name, value in columns.items() if name not in ("checks", "assumed")}
     statuses = {name: _as_list(check["status"]) for name, check in checks.items()}
     size = max((len(v) for v in (*outputs.values(), *statuses.values())), default=0)
-    return [{**{name: values[i] for name, values in outputs.items()},
+    rows = [{**{name: values[i] for name, values in outputs.items()},
              "checks": {name: {"status": values[i]} for name, values in statuses.items()}}
-            for i in range(size)], errors
+            for i in range(size)]
+    # The defaults taken: one value where every case took the same, else one per case (null: given).
+    for name, value in columns.get("assumed", {}).items():
+        for i, row in enumerate(rows):
+            taken = value[i] if isinstance(value, list) else value
+            if taken is not None:
+                row.setdefault("assumed", {})[name] = taken
+    return rows, errors
 
 
 def _as_list(value) -> list:

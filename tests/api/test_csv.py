@@ -49,9 +49,14 @@ def _rows_of(body: dict) -> list[dict]:
     if "results" in body:
         return body["results"]
     columns = body["columns"]
-    size = len(next(v for k, v in columns.items() if k != "checks"))
-    return [{**{k: v[i] for k, v in columns.items() if k != "checks"},
+    size = len(next(v for k, v in columns.items() if k not in ("checks", "assumed")))
+    rows = [{**{k: v[i] for k, v in columns.items() if k not in ("checks", "assumed")},
              "checks": {k: {"status": c["status"][i]} for k, c in columns["checks"].items()}} for i in range(size)]
+    for name, value in columns.get("assumed", {}).items():  # one value for every case, or one per case
+        for i, row in enumerate(rows):
+            if (value[i] if isinstance(value, list) else value) is not None:
+                row.setdefault("assumed", {})[name] = value[i] if isinstance(value, list) else value
+    return rows
 
 
 def _assert_csv_equals_json(text: str, body: dict) -> None:
