@@ -144,12 +144,27 @@ def test_each_output_is_described_once(spec, name):
             if output not in ("checks", "assumed")}
     assert set(refs) == set(calc.outputs().fields)
     for output, ref in refs.items():
-        assert re.fullmatch(f"#/components/schemas/(\\w*Output_{output})", ref), (output, ref)
+        # A hub output and its tip output share one component (described alike).
+        shared = re.sub(r"_(hub|tip)$", "_hub_or_tip", output)
+        assert re.fullmatch(f"#/components/schemas/(\\w*Output_{shared})", ref), (output, ref)
     if calc.columns:
-        # The columns answer refers to the same components: a list of the one-case value.
+        # The columns answer says once that each output is the one-case output's list over the cases.
         columns = _resolve(spec, _resolve(spec, _component_of(spec, calc, "200")["oneOf"][1])["properties"]["columns"])
-        assert {o: p for o, p in columns["properties"].items() if o not in ("checks", "assumed")} == {
-            o: {"type": "array", "items": {"$ref": ref}} for o, ref in refs.items()}
+        assert f"{_prefix(calc)}Result" in columns["description"]
+        assert columns["additionalProperties"] == {"type": "array", "items": {}}
+        assert set(columns["properties"]) <= {"checks", "assumed"}
+
+
+def _prefix(calc) -> str:
+    return "".join(part.capitalize() for part in calc.name.replace("-", "_").split("_"))
+
+
+@pytest.mark.parametrize("name", NAMES)
+def test_hub_and_tip_outputs_are_described_alike(spec, name):
+    outputs = calculation(name).outputs().fields
+    for output, field in outputs.items():
+        if output.endswith("_hub"):
+            assert field.metadata["description"] == outputs[output[:-4] + "_tip"].metadata["description"], output
 
 
 def test_outputs_shared_by_two_calculations_are_one_component(spec):
