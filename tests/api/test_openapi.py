@@ -234,7 +234,10 @@ def test_documented_ranges_are_the_ranges_enforced(client, spec, name):
             else:
                 assert not _range_refused(client, name, case, field, bound), (field, bound)
             checked += 1
-    assert checked >= 3
+    # Every bound the schema declares was tried, so a new endpoint needs no minimum number of bounds.
+    declared = sum(len(_documented_bounds(f)) for f in calculation(name).schema().fields.values()
+                   if isinstance(f, Quantity | QuantityList))
+    assert checked == declared > 0
 
 
 # -- requests and responses against the documented schemas --------------------------------------

@@ -436,8 +436,8 @@ def test_integer_and_float_inputs_give_the_same_answer(client):
     assert_json_close(ok_body(post(client, "triangles", as_integers)),
                       ok_body(post(client, "triangles", as_floats)), rtol=0.0)
     # A whole-valued float is a valid blade count and counts the same as the integer.
-    case = mode_case(calculation("zweifel"), next(m for m in calculation("zweifel").forms
-                                                  if m.name == "purpose=blade_count,chord=axial_chord,definition=incompressible"))
+    case = mode_case(calculation("zweifel"), find_mode(calculation("zweifel"), "purpose=blade_count",
+                                                       "chord=axial_chord", "definition=incompressible"))
     assert_json_close(ok_body(post(client, "zweifel", {**case, "blade_count": 60.0})),
                       ok_body(post(client, "zweifel", {**case, "blade_count": 60})), rtol=0.0)
 
@@ -479,13 +479,17 @@ def _assert_check(check: dict):
 
 @pytest.mark.parametrize("name", NAMES)
 def test_every_result_carries_its_checks(client, name):
+    """Every check a result carries is well formed. A calculation need not judge any rule of thumb;
+    one whose good example is judged carries checks in every valid case but at most one (a rule may
+    not apply: no blade speed, no loading)."""
     judged = 0
     for case in valid_cases(name):
         body = ok_body(post(client, name, case))
-        judged += bool(body["checks"])  # a rule may not apply (no blade speed, no loading)
+        judged += bool(body["checks"])
         for check in body["checks"].values():
             _assert_check(check)
-    assert judged >= len(valid_cases(name)) - 1
+    if ok_body(post(client, name, EXAMPLES[name].good))["checks"]:
+        assert judged >= len(valid_cases(name)) - 1
     if name not in COLUMN_NAMES:
         return
     columns = ok_body(post(client, name, columns_of(two_good_cases(name))))["columns"]
@@ -532,7 +536,8 @@ def _stand_in():
                            failures=[("longer than 100", failed)], checks={"per_stage": check})
 
     return Calculation("stand-in", "", "", StandInInput, outputs,
-                       (Choice("only", "stages and length", (Alternative("only", "stages and length", required=("stages", "length")),)),),
+                       (Choice("only", "stages and length",
+                               (Alternative("only", "stages and length", required=("stages", "length")),)),),
                        compute)
 
 
