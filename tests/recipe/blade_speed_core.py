@@ -31,8 +31,8 @@ def evaluate_blade_speed(shaft_speed, mean_radius):
 
     References
     ----------
-    The definition of angular velocity (any mechanics text; e.g. Dixon & Hall (2014), 7th ed.,
-    Ch. 1, where U = Omega r).
+    The definitions: a shaft turning at N rev/min turns through 2 pi N / 60 rad/s, and a point at
+    radius r moves at Omega r (kinematics of rigid rotation).
     """
     shaft_speed, mean_radius = np.broadcast_arrays(np.asarray(shaft_speed, dtype=float),
                                                    np.asarray(mean_radius, dtype=float))
