@@ -12,6 +12,7 @@ contributor to do in the repository, and nothing else:
 
 from __future__ import annotations
 
+import sys
 from pathlib import Path
 
 
@@ -26,7 +27,7 @@ def pytest_configure(config):
     if any(c.name == "blade-speed" for c in registry.CALCULATIONS):
         return
     # Before anything binds ``from service.api.registry import CALCULATIONS`` (the app, the tests).
-    assert "service.api.app" not in __import__("sys").modules, "the plugin must run before the app is imported"
+    assert "service.api.app" not in sys.modules, "the plugin must run before the app is imported"
     from tests.recipe import blade_speed_api
 
     registry.CALCULATIONS = (*registry.CALCULATIONS, blade_speed_api.CALCULATION)
@@ -35,8 +36,6 @@ def pytest_configure(config):
 
     # What the guide puts in tests/api/examples.py's EXAMPLES (invented inputs, not check values).
     examples.EXAMPLES["blade-speed"] = examples.Example(
-        base={"shaft_speed": 12000.0, "mean_radius": 0.3},
-        values={},
         good={"shaft_speed": 12000.0, "mean_radius": 0.3},
         bad={"shaft_speed": 1e300, "mean_radius": 1e300},
         bad_reason="not a finite number",
