@@ -28,6 +28,7 @@ from tests.api.examples import (
     COLUMN_NAMES,
     EXAMPLES,
     calculation,
+    field_values,
     mode_case,
     ok_body,
     pointers,
@@ -402,7 +403,10 @@ def test_documented_ranges_are_the_ranges_enforced(client, spec, name):
             else:
                 assert not _range_refused(client, name, case, field, bound), (field, bound)
             checked += 1
-    assert checked >= 3
+    # Every bound the schema declares was tried, so a new endpoint needs no minimum number of bounds.
+    declared = sum(len(_documented_bounds(f)) for f in calculation(name).schema().fields.values()
+                   if isinstance(f, Quantity | QuantityList))
+    assert checked == declared > 0
 
 
 # -- requests and responses against the documented schemas --------------------------------------
@@ -483,9 +487,8 @@ def test_a_case_of_only_the_documented_required_fields_is_computed(client, spec,
     """Every combination of one alternative per documented choice, with only the fields the document
     requires, is computed wherever the document calls it valid; and the document finds a valid
     combination for every form the service declares."""
-    example = EXAMPLES[name]
-    values = {**example.base, **example.values}
     calc = calculation(name)
+    values = field_values(calc)
     validator = _validator(spec, _ref_name(spec, calc))
     case_schema = _resolve(spec, _component_of(spec, calc)["oneOf"][0])
     choices = [part["oneOf"] for part in case_schema.get("allOf", []) if "oneOf" in part]
