@@ -412,8 +412,10 @@ def evaluate_machine_design_estimated(
 
     def estimate(result, index):
         rows = design_row_geometry(machine, result.values, **{k: _take(v, index) for k, v in sizing.items()})
+        # A model of the other machine fails every case (below); the machine's own keeps the arrays defined.
         return stage_losses_of_design(
-            machine, model, result.values, rows, _take(per_case["cp"], index), _take(per_case["gamma"], index),
+            machine, MACHINE_LOSS_MODELS[machine], result.values, rows, _take(per_case["cp"], index),
+            _take(per_case["gamma"], index),
             _take(per_case["rotor_aspect_ratio"], index), _take(per_case["stator_aspect_ratio"], index),
             **{name: _take(value, index) for name, value in geometry.items()})
 
@@ -459,8 +461,8 @@ def evaluate_machine_design_estimated(
     for reason, mask in losses.failures:
         mask = np.asarray(mask).reshape(m, -1)
         failures += [(f"stage {i + 1}: {reason}", mask[:, i] & laid) for i in range(mask.shape[1])]
-    failures.append((f"the estimated efficiency did not converge in {int(max_iterations)} iterations",
-                     laid & ~converged))
+    passes = f"{int(max_iterations)} iteration{'' if int(max_iterations) == 1 else 's'}"
+    failures.append((f"the estimated efficiency did not converge in {passes}", laid & ~converged))
     failed = np.zeros(m, dtype=bool)
     for _, mask in failures:
         failed |= mask
