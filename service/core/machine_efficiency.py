@@ -411,6 +411,11 @@ def evaluate_machine_design_estimated(
                                                               zweifel.OPTIMUM_ZWEIFEL_COEFFICIENT), m)}
 
     def estimate(result, index):
+        if "row_inlet_angle" not in result.values:  # no case laid out: nothing to estimate
+            blank = np.full((len(index), 1), np.nan)
+            return CaseResults(values={name: blank for name in (
+                "total_to_total_efficiency", "total_to_static_efficiency", "rotor_loss_coefficient",
+                "stator_loss_coefficient")})
         rows = design_row_geometry(machine, result.values, **{k: _take(v, index) for k, v in sizing.items()})
         # A model of the other machine fails every case (below); the machine's own keeps the arrays defined.
         return stage_losses_of_design(
