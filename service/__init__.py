@@ -4,7 +4,9 @@ The numerical core (:mod:`service.core`) imports no web framework; the applicati
 is imported lazily so that ``import service.core`` stays free of Flask.
 """
 
-__version__ = "0.1.0"
+from service.version import __version__
+
+__all__ = ["__version__", "create_app"]
 
 
 def create_app(config=None):

@@ -28,11 +28,11 @@ from collections.abc import Iterable
 from flask import Flask, Response, current_app, request
 
 from service.api import keys
-from service.api.problems import FORBIDDEN, UNAUTHORIZED, Problem, problem_response
+from service.api.keys import API_KEY_HEADER, REALM
+from service.api.problem_responses import problem_response
+from service.api.problems import FORBIDDEN, UNAUTHORIZED, Problem
 from service.api.query import query_keys
 
-API_KEY_HEADER = "X-API-Key"
-REALM = "meanline-service"
 #: Routes that stay open when keys are configured: probes, metrics and the API document.
 OPEN_ROUTES = frozenset({"/healthz", "/readyz", "/metrics", "/v1/openapi.json"})
 #: Headers of every response. The service answers JSON to programs: a browser that is made to

@@ -13,19 +13,19 @@ import orjson
 from flask import Blueprint, Flask, Response, current_app, request
 from werkzeug.exceptions import RequestEntityTooLarge
 
-from service import __version__
 from service.api import access, csvio, jsonparse, jsonwrite, memory, observability, outputs, query, units
-from service.api.calculation import Calculation, run_calculation, run_drawing
+from service.api.calculation import run_calculation, run_drawing
+from service.api.declarations import Calculation
+from service.api.problem_responses import problem_response, register_error_handlers
 from service.api.problems import (
     MALFORMED,
     STOPPED,
     TOO_LARGE,
     Problem,
-    problem_response,
-    register_error_handlers,
 )
 from service.api.registry import CALCULATIONS
 from service.api.spec import build_spec
+from service.version import __version__
 
 JSON, SVG = "application/json", "image/svg+xml"
 log = logging.getLogger(__name__)
@@ -92,7 +92,8 @@ def create_app(config: Mapping | None = None) -> Flask:
     # Middleware from the inside out: the answer to a stopped request, then request ids, logs and
     # metrics (which so see every answer), then the security headers.
     app.wsgi_app = _answer_when_stopped(app.wsgi_app)
-    observability.init_app(app)  # before access: its logging is set up for access's start-up notes
+    # Before access: its logging is set up for access's start-up notes.
+    observability.init_app(app, [calculation.path for calculation in CALCULATIONS])
     app.before_request(query.check_api_key_parameter)  # before access: a refused query key is a 400, not a 401
     access.init_app(app, configured=bool({"API_KEYS", "API_KEYS_FILE"} & set(config or {})))
 

@@ -4,6 +4,7 @@ from __future__ import annotations
 
 from marshmallow import fields
 
+from service.api.declarations import Alternative, Choice
 from service.api.fields import CaseSchema, Option, Quantity, QuantityList
 from service.core.gas import GAS_NAMES
 from service.core.split import MAX_STAGES, SPLIT_RULES
@@ -135,3 +136,25 @@ class StageSplitInputs(GasInputs, RequiredInletStateInputs):
                   load_default="equal_work")
     weights = QuantityList("Relative work share of each stage, front to rear (rule `weights`); normalised. [-]",
                            "-", minimum=0.0, exclusive_minimum=True)
+
+
+def stage_count_choice(blade_speed: bool) -> Choice:
+    """How a machine's stage count is found; with ``blade_speed`` the loading limit needs the (one)
+    blade speed, which every other alternative accepts for the stages' loading coefficients."""
+    speed = ("blade_speed",) if blade_speed else ()
+    loading = "max_loading_coefficient and blade_speed" if blade_speed else "max_loading_coefficient"
+    return Choice("stage_count", "how the stage count is found", (
+        Alternative("stages", "stages", required=("stages",), optional=speed),
+        Alternative("loading", loading, required=("max_loading_coefficient", *speed)),
+        Alternative("stage_pressure_ratio", "max_stage_pressure_ratio", required=("max_stage_pressure_ratio",),
+                    optional=speed),
+        Alternative("weight_count", "one weight per stage (the count of weights is the stage count)",
+                    optional=speed, when={"rule": ("weights",)}),
+    ))
+
+
+WORK_SPLIT = Choice("work_split", "how the work is shared between the stages", (
+    Alternative("rule", "rule equal_work or equal_pressure_ratio",
+                when={"rule": ("equal_work", "equal_pressure_ratio")}),
+    Alternative("weights", "rule weights and weights", required=("weights",), when={"rule": ("weights",)}),
+))

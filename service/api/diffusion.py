@@ -4,12 +4,10 @@ from __future__ import annotations
 
 from marshmallow import Schema
 
-from service.api.calculation import Calculation, Mode, combine_modes
 from service.api.common import angle, integer_output, length, output, ratio, shaft_speed_field, speed
+from service.api.declarations import Alternative, Calculation, Choice
 from service.api.fields import CaseSchema, Option, Quantity
 from service.core import diffusion
-
-ROW_FLOW = ("axial_velocity", "inlet_angle", "outlet_angle", "outlet_axial_velocity", "span_position")
 
 
 class DiffusionInput(CaseSchema):
@@ -59,29 +57,28 @@ DiffusionOutput = Schema.from_dict(
 )
 
 
-SOLIDITY = (
-    Mode("Solidity", "solidity", required=("solidity",)),
-    Mode("ChordPitch", "chord and pitch", required=("chord", "pitch")),
-    Mode("ChordCount", "chord, blade_count and mean_radius", required=("chord", "blade_count", "mean_radius")),
-    Mode("Sizing", "target_diffusion_factor", required=("target_diffusion_factor",)),
-    Mode("SizingCount", "target_diffusion_factor, chord and mean_radius",
-         required=("target_diffusion_factor", "chord", "mean_radius")),
-)
-RADIUS = (
-    Mode("ConstantRadius", "a constant radius (no inlet_radius, outlet_radius)", required=()),
-    Mode("StatorRadiusChange", "inlet_radius and outlet_radius (stator)", required=("inlet_radius", "outlet_radius"),
-         when={"row": ("stator",)}),
-    Mode("RotorRadiusChange", "inlet_radius, outlet_radius and shaft_speed (rotor)",
-         required=("inlet_radius", "outlet_radius", "shaft_speed"), when={"row": ("rotor",)}),
-)
+SOLIDITY = Choice("solidity", "the row's solidity, given or sized", (
+    Alternative("solidity", "solidity", required=("solidity",)),
+    Alternative("chord_and_pitch", "chord and pitch", required=("chord", "pitch")),
+    Alternative("chord_and_blade_count", "chord, blade_count and mean_radius",
+                required=("chord", "blade_count", "mean_radius")),
+    Alternative("sizing", "target_diffusion_factor", required=("target_diffusion_factor",)),
+    Alternative("sizing_with_count", "target_diffusion_factor, chord and mean_radius",
+                required=("target_diffusion_factor", "chord", "mean_radius")),
+))
+RADIUS = Choice("radius_change", "the row's radius change", (
+    Alternative("constant_radius", "a constant radius (no inlet_radius, outlet_radius)"),
+    Alternative("stator_radius_change", "inlet_radius and outlet_radius (stator)",
+                required=("inlet_radius", "outlet_radius"), when={"row": ("stator",)}),
+    Alternative("rotor_radius_change", "inlet_radius, outlet_radius and shaft_speed (rotor)",
+                required=("inlet_radius", "outlet_radius", "shaft_speed"), when={"row": ("rotor",)}),
+))
+_ROW = (*SOLIDITY.fields, *RADIUS.fields, "axial_velocity", "inlet_angle", "outlet_angle", "outlet_axial_velocity")
 
 
-def _compute(mode: Mode, options: dict, inputs: dict):
-    flow = {name: inputs.get(name) for name in ROW_FLOW}
-    given = {name: inputs[name] for name in (*mode.required, *mode.optional) if name in inputs}
-    if mode.name.startswith("Sizing"):
-        return diffusion.evaluate_diffusion_sizing(options["row"], **{**flow, **given})
-    return diffusion.evaluate_diffusion_analysis(options["row"], **{**flow, **given})
+def _compute(options: dict, inputs: dict):
+    given = {name: inputs[name] for name in _ROW if inputs.get(name) is not None}
+    return diffusion.evaluate_diffusion_row(options["row"], span_position=options["span_position"], **given)
 
 
 CALCULATION = Calculation(
@@ -99,6 +96,6 @@ CALCULATION = Calculation(
     ),
     schema=DiffusionInput,
     outputs=DiffusionOutput,
-    modes=combine_modes(SOLIDITY, RADIUS),
+    choices=(SOLIDITY, RADIUS),
     compute=_compute,
 )

@@ -17,6 +17,10 @@ from pathlib import Path
 
 log = logging.getLogger(__name__)
 
+#: The header an API key comes in, and the realm named in a 401's WWW-Authenticate.
+API_KEY_HEADER = "X-API-Key"
+REALM = "meanline-service"
+
 #: Digests of the keys that the server's master read last; None outside a server (tests, scripts),
 #: where every app reads its own configuration.
 _server_digests: tuple[bytes, ...] | None = None

@@ -4,10 +4,10 @@ from __future__ import annotations
 
 from marshmallow import Schema
 
-from service.api.calculation import Calculation, Mode, combine_modes
 from service.api.common import (
     EFFICIENCY_LIMITS,
     RATIO_LIMITS,
+    WORK_SPLIT,
     StageSplitInputs,
     angle,
     integer_output,
@@ -16,7 +16,9 @@ from service.api.common import (
     positive,
     ratio,
     shaft_speed_field,
+    stage_count_choice,
 )
+from service.api.declarations import Alternative, Calculation, Choice
 from service.api.fields import Option, Quantity, QuantityPerStage
 from service.core import flowpath, gas, machine_span, zweifel
 from service.core import machine as design
@@ -218,42 +220,30 @@ MachineOutput = Schema.from_dict(
     name="MachineOutput",
 )
 
-RADIUS = (
-    Mode("MeanRadius", "mean_radius", required=("mean_radius",)),
-    Mode("HubRadius", "hub_radius", required=("hub_radius",)),
-    Mode("TipRadius", "tip_radius", required=("tip_radius",)),
-)
-COUNT = (
-    Mode("Stages", "stages", required=("stages",)),
-    Mode("Loading", "max_loading_coefficient", required=("max_loading_coefficient",)),
-    Mode("StagePressureRatio", "max_stage_pressure_ratio", required=("max_stage_pressure_ratio",)),
-    Mode("WeightCount", "one weight per stage (the count of weights is the stage count)", required=(),
-         when={"rule": ("weights",)}),
-)
-RULE = (
-    Mode("Rule", "rule equal_work or equal_pressure_ratio", required=(),
-         when={"rule": ("equal_work", "equal_pressure_ratio")}),
-    Mode("Weights", "rule weights and weights", required=("weights",), when={"rule": ("weights",)}),
-)
-ROWS = (
-    Mode("TurbineRows", "zweifel_coefficient or its default (turbine)", required=(),
-         optional=("zweifel_coefficient",), when={"machine": ("turbine",)}),
-    Mode("DiffusionFactor", "target_diffusion_factor (compressor)", required=("target_diffusion_factor",),
-         optional=("outlet_swirl",), when={"machine": ("compressor",)}),
-    Mode("Solidity", "solidity (compressor)", required=("solidity",), optional=("outlet_swirl",),
-         when={"machine": ("compressor",)}),
-)
+RADIUS = Choice("radius_held", "the radius held constant through the machine", (
+    Alternative("mean_radius", "mean_radius", required=("mean_radius",)),
+    Alternative("hub_radius", "hub_radius", required=("hub_radius",)),
+    Alternative("tip_radius", "tip_radius", required=("tip_radius",)),
+))
+ROWS = Choice("row_sizing", "how the rows are sized", (
+    Alternative("zweifel", "zweifel_coefficient or its default (turbine)", optional=("zweifel_coefficient",),
+                when={"machine": ("turbine",)}),
+    Alternative("diffusion_factor", "target_diffusion_factor (compressor)", required=("target_diffusion_factor",),
+                optional=("outlet_swirl",), when={"machine": ("compressor",)}),
+    Alternative("solidity", "solidity (compressor)", required=("solidity",), optional=("outlet_swirl",),
+                when={"machine": ("compressor",)}),
+))
 
-EFFICIENCY = (
-    Mode("GivenEfficiency", "efficiency given (the default) with polytropic_efficiency",
-         required=("polytropic_efficiency",), when={"efficiency": ("given",)}),
-    Mode("EstimatedCompressor", "efficiency estimated (compressor)", required=(),
-         optional=("polytropic_efficiency", "loss_model", "tip_clearance_to_height"),
-         when={"efficiency": ("estimated",), "machine": ("compressor",)}),
-    Mode("EstimatedTurbine", "efficiency estimated (turbine)", required=(),
-         optional=("polytropic_efficiency", "loss_model", "dynamic_viscosity", "thickness_to_chord"),
-         when={"efficiency": ("estimated",), "machine": ("turbine",)}),
-)
+EFFICIENCY = Choice("stage_efficiency", "how each stage's efficiency is found", (
+    Alternative("given", "efficiency given (the default) with polytropic_efficiency",
+                required=("polytropic_efficiency",), when={"efficiency": ("given",)}),
+    Alternative("estimated_compressor", "efficiency estimated (compressor)",
+                optional=("polytropic_efficiency", "loss_model", "tip_clearance_to_height"),
+                when={"efficiency": ("estimated",), "machine": ("compressor",)}),
+    Alternative("estimated_turbine", "efficiency estimated (turbine)",
+                optional=("polytropic_efficiency", "loss_model", "dynamic_viscosity", "thickness_to_chord"),
+                when={"efficiency": ("estimated",), "machine": ("turbine",)}),
+))
 
 _OPTIONAL = ("mean_radius", "hub_radius", "tip_radius", "stages", "max_loading_coefficient",
              "max_stage_pressure_ratio", "weights", "inlet_swirl", "outlet_swirl", "target_diffusion_factor",
@@ -263,14 +253,12 @@ _OPTIONAL = ("mean_radius", "hub_radius", "tip_radius", "stages", "max_loading_c
 _ESTIMATED = ("polytropic_efficiency", "tip_clearance_to_height", "dynamic_viscosity", "thickness_to_chord")
 
 
-def _compute(mode: Mode, options: dict, inputs: dict):
+def _compute(options: dict, inputs: dict):
     machine = options["machine"]
     cp, gamma = gas.gas_properties(options["gas"], inputs.get("cp"), inputs.get("gamma"))
     given = {name: inputs[name] for name in _OPTIONAL if inputs.get(name) is not None}
     if machine == "turbine":
         given["zweifel_coefficient"] = inputs["zweifel_coefficient"]
-    if mode.includes("WeightCount"):
-        given["stages"] = inputs["weights"].shape[-1]
     if options["efficiency"] == "estimated":
         given.update({name: inputs[name] for name in _ESTIMATED if inputs.get(name) is not None})
         return estimated.evaluate_machine_design_estimated(
@@ -334,7 +322,7 @@ CALCULATION = Calculation(
     ),
     schema=MachineInput,
     outputs=MachineOutput,
-    modes=combine_modes(RADIUS, COUNT, RULE, ROWS, EFFICIENCY),
+    choices=(RADIUS, stage_count_choice(blade_speed=False), WORK_SPLIT, ROWS, EFFICIENCY),
     compute=_compute,
     columns=False,
     render_svg=_render_svg,

@@ -29,6 +29,7 @@ import sys
 import time
 import traceback
 import uuid
+from collections.abc import Iterable
 from datetime import UTC, datetime
 
 from flask import Flask, Response, current_app, has_request_context, request
@@ -265,25 +266,23 @@ class Metrics:
 # -- middleware ----------------------------------------------------------------------------------
 
 
-def init_app(app: Flask) -> None:
+def init_app(app: Flask, endpoints: Iterable[str] = ()) -> None:
     """Add request ids, request logging and ``GET /metrics`` to ``app``.
 
     They wrap ``app.wsgi_app`` as WSGI middleware rather than hook into Flask: they see every
     answer, including one made outside Flask's handling (a request the server stops), and cost
     a request no lookups through Flask's context proxies. Reads ``LOG_LEVEL`` from the app's
-    configuration (else ``MEANLINE_LOG_LEVEL``).
+    configuration (else ``MEANLINE_LOG_LEVEL``). ``endpoints``: the calculations' paths, whose case
+    counters exist from the start.
     """
-    # Imported here: the calculations import problems, which imports this module.
-    from service.api.registry import CALCULATIONS
-
     configure_logging(log_level(app.config.get("LOG_LEVEL")))
     multiprocess_dir = os.environ.get("PROMETHEUS_MULTIPROC_DIR", "").strip() or None
     metrics = app.extensions[_EXTENSION] = Metrics(multiprocess_dir)
     # Every calculation's case counters exist from the start at zero, so that a rate over the
     # first failure is not lost to a series that appears only with it.
-    for calculation in CALCULATIONS:
-        metrics.cases.labels(endpoint=calculation.path)
-        metrics.failures.labels(endpoint=calculation.path)
+    for endpoint in endpoints:
+        metrics.cases.labels(endpoint=endpoint)
+        metrics.failures.labels(endpoint=endpoint)
     app.wsgi_app = _Observed(app, app.wsgi_app, metrics)
     app.add_url_rule(METRICS_PATH, endpoint="metrics", view_func=_metrics_view, methods=["GET"])
 

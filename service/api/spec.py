@@ -6,9 +6,9 @@ from apispec import APISpec
 from apispec.ext.marshmallow import MarshmallowPlugin
 
 from service.api import units
-from service.api.access import API_KEY_HEADER, REALM
-from service.api.calculation import Calculation, Mode
+from service.api.declarations import Alternative, Calculation, Choice
 from service.api.fields import Option, Quantity, QuantityList, QuantityPerStage
+from service.api.keys import API_KEY_HEADER, REALM
 from service.core.checks import COMPARISONS, STATUSES
 
 TITLE = "Meanline service"
@@ -87,31 +87,73 @@ def _field_component(prefix: str, name: str, shape: str) -> str:
     return f"{prefix}{shape}Field_{name}"
 
 
-def _mode_schema(prefix: str, calculation: Calculation, mode: Mode, shape: str) -> dict:
-    allowed = calculation.allowed_fields(mode)
+def _request_schema(prefix: str, calculation: Calculation, shape: str) -> dict:
+    """One object of every field, with one small ``oneOf`` per choice (``allOf`` of them)."""
     schema = calculation._columns_schema if shape else calculation._case_schema
-    properties, required = {}, []
-    for name, field in schema.fields.items():
-        if name not in allowed:
-            continue
-        properties[name] = _ref(_field_component(prefix, name, shape))
-        if name in mode.when:
-            enum = list(mode.when[name])
-            properties[name] = {**properties[name], **(
-                {"oneOf": [{"enum": enum}, {"type": "array", "items": {"enum": enum}}]} if shape else {"enum": enum})}
-            if field.load_default not in mode.when[name]:
-                required.append(name)
-        if (field.required or name in mode.required) and name not in required:
-            required.append(name)
-    body = {"type": "object", "description": f"Give {mode.description}.", "properties": properties,
-            "required": required, "additionalProperties": False}
-    dependent = {f: [g for g in group if g != f] for group in calculation.together for f in group if f in allowed}
-    for field_name, needed in calculation.requires:
-        if field_name in allowed:
-            dependent.setdefault(field_name, []).append(needed)
+    body = {"type": "object",
+            "properties": {name: _ref(_field_component(prefix, name, shape)) for name in schema.fields},
+            "required": [name for name, f in schema.fields.items() if f.required], "additionalProperties": False}
+    constraints = [_choice_schema(calculation, choice, shape) for choice in calculation.choices]
+    constraints += [need for choice in calculation.choices for alternative in choice.alternatives
+                    for need in _needs_schemas(calculation, choice, alternative)]
+    if constraints:
+        body["allOf"] = constraints
+    dependent = _dependent_required(calculation)
     if dependent:
         body["dependentRequired"] = dependent
     return body
+
+
+def _dependent_required(calculation: Calculation) -> dict[str, list[str]]:
+    """Fields given together, and fields given only with another."""
+    dependent = {f: [g for g in group if g != f] for group in calculation.together for f in group}
+    for field_name, needed in calculation.requires:
+        dependent.setdefault(field_name, []).append(needed)
+    return dependent
+
+
+def _choice_schema(calculation: Calculation, choice: Choice, shape: str) -> dict:
+    return {"description": f"`{choice.name}`: {choice.description}; give exactly one of these.",
+            "oneOf": [_alternative_schema(calculation, choice, alternative, shape)
+                      for alternative in choice.alternatives]}
+
+
+def _alternative_schema(calculation: Calculation, choice: Choice, alternative: Alternative, shape: str) -> dict:
+    """The alternative's own fields required, the other alternatives' fields absent and the option
+    values it applies to (in columns one value or a list of them: a batch whose cases differ in an
+    option that an alternative depends on is accepted by the service but not by this schema)."""
+    schema = {"title": alternative.value, "description": f"Give {alternative.description}."}
+    required = list(alternative.required)
+    if alternative.when:
+        fields = calculation._case_schema.fields
+        schema["properties"] = {option: _option_values(list(values), shape)
+                                for option, values in alternative.when.items()}
+        required += [option for option, values in alternative.when.items() if fields[option].load_default not in values]
+    if required:
+        schema["required"] = required
+    others = sorted(choice.fields - set(alternative.fields))
+    if others:
+        schema["not"] = {"anyOf": [{"required": [name]} for name in others]}
+    return schema
+
+
+def _option_values(values: list, shape: str) -> dict:
+    return {"oneOf": [{"enum": values}, {"type": "array", "items": {"enum": values}}]} if shape else {"enum": values}
+
+
+def _needs_schemas(calculation: Calculation, choice: Choice, alternative: Alternative) -> list[dict]:
+    """Where an alternative is taken, one of the alternatives it needs of another choice is too."""
+    schemas = []
+    for other_name, values in alternative.needs.items():
+        other = next(c for c in calculation.choices if c.name == other_name)
+        condition = {"required": list(alternative.required)}
+        others = sorted(choice.fields - set(alternative.fields))
+        if others:
+            condition["not"] = {"anyOf": [{"required": [name]} for name in others]}
+        schemas.append({"if": condition, "then": {
+            "description": f"{alternative.value} needs {other_name} " + " or ".join(values) + ".",
+            "anyOf": [{"required": list(other.alternative(v).required)} for v in values]}})
+    return schemas
 
 
 def _ref(name: str) -> dict:
@@ -120,18 +162,10 @@ def _ref(name: str) -> dict:
 
 def _add_calculation(spec: APISpec, plugin, calculation: Calculation) -> None:
     prefix = "".join(part.capitalize() for part in calculation.name.replace("-", "_").split("_"))
-    case_refs, column_refs = [], []
     _field_components(spec, plugin, prefix, calculation)
-    for mode in calculation.modes:
-        spec.components.schema(f"{prefix}Case{mode.name}", component=_mode_schema(prefix, calculation, mode, ""))
-        case_refs.append(_ref(f"{prefix}Case{mode.name}"))
-        if calculation.columns:
-            spec.components.schema(f"{prefix}Columns{mode.name}",
-                                   component=_mode_schema(prefix, calculation, mode, "Column"))
-            column_refs.append(_ref(f"{prefix}Columns{mode.name}"))
-    spec.components.schema(f"{prefix}Case", component={"oneOf": case_refs})
+    spec.components.schema(f"{prefix}Case", component=_request_schema(prefix, calculation, ""))
     if calculation.columns:
-        spec.components.schema(f"{prefix}Columns", component={"oneOf": column_refs})
+        spec.components.schema(f"{prefix}Columns", component=_request_schema(prefix, calculation, "Column"))
     selection = _selection_schema(calculation)
     shapes = [
         _ref(f"{prefix}Case"),

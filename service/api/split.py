@@ -4,15 +4,17 @@ from __future__ import annotations
 
 from marshmallow import Schema
 
-from service.api.calculation import Calculation, Mode, combine_modes
 from service.api.common import (
     EFFICIENCY_LIMITS,
+    WORK_SPLIT,
     StageSplitInputs,
     integer_output,
     output,
     positive,
     speed,
+    stage_count_choice,
 )
+from service.api.declarations import Alternative, Calculation, Choice
 from service.api.fields import Quantity
 from service.core import gas, split
 
@@ -61,32 +63,18 @@ SplitOutput = Schema.from_dict(
     name="SplitOutput",
 )
 
-EFFICIENCY = (
-    Mode("Polytropic", "polytropic_efficiency", required=("polytropic_efficiency",)),
-    Mode("Isentropic", "stage_isentropic_efficiency", required=("stage_isentropic_efficiency",)),
-)
-COUNT = (
-    Mode("Stages", "stages", required=("stages",), optional=("blade_speed",)),
-    Mode("Loading", "max_loading_coefficient and blade_speed", required=("max_loading_coefficient", "blade_speed")),
-    Mode("StagePressureRatio", "max_stage_pressure_ratio", required=("max_stage_pressure_ratio",),
-         optional=("blade_speed",)),
-    Mode("WeightCount", "one weight per stage (the count of weights is the stage count)", required=(),
-         optional=("blade_speed",), when={"rule": ("weights",)}),
-)
-RULE = (
-    Mode("Rule", "rule equal_work or equal_pressure_ratio", required=(),
-         when={"rule": ("equal_work", "equal_pressure_ratio")}),
-    Mode("Weights", "rule weights and weights", required=("weights",), when={"rule": ("weights",)}),
-)
+EFFICIENCY = Choice("efficiency", "the efficiency", (
+    Alternative("polytropic", "polytropic_efficiency", required=("polytropic_efficiency",)),
+    Alternative("stage_isentropic", "stage_isentropic_efficiency", required=("stage_isentropic_efficiency",)),
+))
+COUNT = stage_count_choice(blade_speed=True)
+_GIVEN = ("polytropic_efficiency", "stage_isentropic_efficiency", "stages", "max_loading_coefficient",
+          "max_stage_pressure_ratio", "blade_speed", "weights", "mass_flow")
 
 
-def _compute(mode: Mode, options: dict, inputs: dict):
+def _compute(options: dict, inputs: dict):
     cp, gamma = gas.gas_properties(options["gas"], inputs.get("cp"), inputs.get("gamma"))
-    named = ("polytropic_efficiency", "stage_isentropic_efficiency", "stages", "max_loading_coefficient",
-             "max_stage_pressure_ratio", "blade_speed", "weights", "mass_flow")
-    given = {name: inputs[name] for name in named if inputs.get(name) is not None}
-    if mode.includes("WeightCount"):
-        given["stages"] = inputs["weights"].shape[-1]
+    given = {name: inputs[name] for name in _GIVEN if inputs.get(name) is not None}
     return split.evaluate_stage_split(
         options["machine"], options["rule"], inputs["pressure_ratio"], inputs["total_temperature"],
         inputs["total_pressure"], cp, gamma, **given,
@@ -106,7 +94,7 @@ CALCULATION = Calculation(
     ),
     schema=SplitInput,
     outputs=SplitOutput,
-    modes=combine_modes(EFFICIENCY, COUNT, RULE),
+    choices=(EFFICIENCY, COUNT, WORK_SPLIT),
     compute=_compute,
     columns=False,
 )

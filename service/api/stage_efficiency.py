@@ -7,11 +7,12 @@ import copy
 
 from marshmallow import Schema
 
-from service.api.calculation import Calculation, Mode, combine_modes
 from service.api.common import GasInputs, InletStateInputs, machine_field, output, positive
+from service.api.declarations import Alternative, Calculation, Choice
 from service.api.fields import Option, Quantity
 from service.api.triangles import FLOW, TrianglesInput, TrianglesOutput
-from service.core import gas, triangles
+from service.core import gas
+from service.core import stage as core_stage
 from service.core.losses import stage as losses
 
 #: The stage's flow is given exactly as for /v1/triangles: the same fields, the same modes.
@@ -136,19 +137,12 @@ _GEOMETRY = ("rotor_solidity", "stator_solidity", "tip_clearance_to_height", "re
 _CHARTS = tuple(f"{row}_{kind}_profile_loss" for row in ("stator", "rotor") for kind in ("nozzle", "impulse"))
 
 
-def _compute(mode: Mode, options: dict, inputs: dict):
+def _compute(options: dict, inputs: dict):
     machine = options["machine"]
     cp, gamma = gas.gas_properties(options.get("gas", "air"), inputs.get("cp"), inputs.get("gamma"))
-    state = {"total_temperature": inputs["total_temperature"], "total_pressure": inputs.get("total_pressure"),
-             "cp": cp, "gamma": gamma}
-    if mode.includes("Duty"):
-        stage = triangles.evaluate_stage_from_duty(
-            machine, inputs["flow_coefficient"], inputs["loading_coefficient"], inputs["reaction"],
-            inputs["blade_speed"], **state)
-    else:
-        first, second = ("alpha1", "alpha2") if machine == "compressor" else ("alpha2", "alpha3")
-        stage = triangles.evaluate_stage_from_angles(
-            machine, inputs["blade_speed"], inputs["axial_velocity"], inputs[first], inputs[second], **state)
+    flow = {name: inputs[name] for name in FLOW.fields if inputs.get(name) is not None}
+    stage = core_stage.evaluate_stage(machine, total_temperature=inputs["total_temperature"],
+                                      total_pressure=inputs.get("total_pressure"), cp=cp, gamma=gamma, **flow)
     geometry = {name: inputs[name] for name in _GEOMETRY if inputs.get(name) is not None}
     if inputs.get(_CHARTS[0]) is not None:
         geometry["profile_chart_losses"] = {name: inputs[name] for name in _CHARTS}
@@ -158,21 +152,23 @@ def _compute(mode: Mode, options: dict, inputs: dict):
 
 
 _TURBINE = {"machine": ("turbine",), "loss_model": ("soderberg",)}
-LOSSES = (
-    Mode("SoderbergReynolds", "loss_model soderberg (turbine) with reynolds_number",
-         required=("reynolds_number",), optional=("thickness_to_chord", "total_pressure"), when=_TURBINE),
-    Mode("SoderbergState", "loss_model soderberg (turbine) with total_pressure and blade_height (Reynolds number "
-         "from the state)", required=("total_pressure", "blade_height"),
-         optional=("dynamic_viscosity", "thickness_to_chord"), when=_TURBINE),
-    Mode("KackerOkapuu", "loss_model kacker_okapuu (turbine) with the four profile-loss chart readings, "
-         "thickness_to_chord, trailing_edge_thickness_to_throat and base_pressure_coefficient",
-         required=(*_CHARTS, "thickness_to_chord", "trailing_edge_thickness_to_throat", "base_pressure_coefficient"),
-         optional=("tip_clearance_to_height", "total_pressure"),
-         when={"machine": ("turbine",), "loss_model": ("kacker_okapuu",)}),
-    Mode("LiebleinHowell", "loss_model lieblein_howell (compressor) with rotor_solidity and stator_solidity",
-         required=("rotor_solidity", "stator_solidity"), optional=("tip_clearance_to_height", "total_pressure"),
-         when={"machine": ("compressor",), "loss_model": ("lieblein_howell",)}),
-)
+LOSSES = Choice("losses", "the loss model's inputs", (
+    Alternative("soderberg_reynolds", "loss_model soderberg (turbine) with reynolds_number",
+                required=("reynolds_number",), optional=("thickness_to_chord", "total_pressure"), when=_TURBINE),
+    Alternative("soderberg_state", "loss_model soderberg (turbine) with total_pressure and blade_height (Reynolds "
+                "number from the state)", required=("total_pressure", "blade_height"),
+                optional=("dynamic_viscosity", "thickness_to_chord"), when=_TURBINE),
+    Alternative("kacker_okapuu", "loss_model kacker_okapuu (turbine) with the four profile-loss chart readings, "
+                "thickness_to_chord, trailing_edge_thickness_to_throat and base_pressure_coefficient",
+                required=(*_CHARTS, "thickness_to_chord", "trailing_edge_thickness_to_throat",
+                          "base_pressure_coefficient"),
+                optional=("tip_clearance_to_height", "total_pressure"),
+                when={"machine": ("turbine",), "loss_model": ("kacker_okapuu",)}),
+    Alternative("lieblein_howell", "loss_model lieblein_howell (compressor) with rotor_solidity and "
+                "stator_solidity", required=("rotor_solidity", "stator_solidity"),
+                optional=("tip_clearance_to_height", "total_pressure"),
+                when={"machine": ("compressor",), "loss_model": ("lieblein_howell",)}),
+))
 
 CALCULATION = Calculation(
     name="stage-efficiency",
@@ -204,6 +200,6 @@ CALCULATION = Calculation(
     ),
     schema=StageEfficiencyInput,
     outputs=StageEfficiencyOutput,
-    modes=combine_modes(FLOW, LOSSES),
+    choices=(FLOW, LOSSES),
     compute=_compute,
 )

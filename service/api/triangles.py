@@ -4,7 +4,6 @@ from __future__ import annotations
 
 from marshmallow import Schema
 
-from service.api.calculation import Calculation, Mode, combine_modes
 from service.api.common import (
     GasInputs,
     InletStateInputs,
@@ -16,8 +15,9 @@ from service.api.common import (
     ratio,
     speed,
 )
+from service.api.declarations import Alternative, Calculation, Choice
 from service.api.fields import Option, Quantity
-from service.core import diffusion, gas, span, stage, triangles, zweifel
+from service.core import gas, span, stage, zweifel
 
 
 class TrianglesInput(GasInputs, InletStateInputs):
@@ -158,54 +158,11 @@ TrianglesOutput = Schema.from_dict(
 )
 
 
-def _compute(mode: Mode, options: dict, inputs: dict):
-    machine = options["machine"]
+def _compute(options: dict, inputs: dict):
     cp, gamma = gas.gas_properties(options.get("gas", "air"), inputs.get("cp"), inputs.get("gamma"))
-    state = {
-        "total_temperature": inputs.get("total_temperature"),
-        "total_pressure": inputs.get("total_pressure"),
-        "cp": cp,
-        "gamma": gamma,
-    }
-    if mode.includes("Duty"):
-        result = triangles.evaluate_stage_from_duty(
-            machine, inputs["flow_coefficient"], inputs["loading_coefficient"], inputs["reaction"],
-            inputs["blade_speed"], **state,
-        )
-    else:
-        first, second = ("alpha1", "alpha2") if machine == "compressor" else ("alpha2", "alpha3")
-        result = triangles.evaluate_stage_from_angles(
-            machine, inputs["blade_speed"], inputs["axial_velocity"], inputs[first], inputs[second], **state,
-        )
-    if mode.includes("HubTip"):
-        hub_radius, tip_radius = inputs["hub_radius"], inputs["tip_radius"]
-        mean_radius = span.radius_ratios(hub_radius, tip_radius)["mean_radius"]
-    elif mode.includes("MeanHubToTip"):
-        mean_radius = inputs["mean_radius"]
-        hub_radius, tip_radius = span.radii_from_mean(mean_radius, inputs["hub_to_tip_ratio"])
-    else:
-        mean_radius = inputs.get("mean_radius")
-        hub_radius = tip_radius = None
-    solidities = {}
-    if mode.includes("ZweifelChord") or mode.includes("ZweifelAspectRatio"):
-        chord = inputs.get("axial_chord")
-        if chord is None:
-            chord = zweifel.axial_chord_from_aspect_ratio(inputs["blade_height"], inputs["aspect_ratio"])
-        result = stage.with_zweifel_rows(result, chord, mean_radius, inputs["zweifel_coefficient"])
-    elif mode.includes("Solidities"):
-        solidities = {"rotor_solidity": inputs["rotor_solidity"], "stator_solidity": inputs["stator_solidity"]}
-    elif mode.includes("BladeCounts"):
-        solidities = {
-            f"{row}_solidity": diffusion.solidity_from_blade_count(inputs["chord"], mean_radius,
-                                                                   inputs[f"{row}_blade_count"])
-            for row in ("rotor", "stator")
-        }
-    if solidities:
-        result = stage.with_diffusion_rows(result, solidities["rotor_solidity"], solidities["stator_solidity"])
-    if hub_radius is not None:
-        result = span.with_span(result, machine, hub_radius, tip_radius, options.get("vortex", "free"),
-                                **state, **solidities)
-    return result
+    given = {name: inputs[name] for name in GIVEN if inputs.get(name) is not None}
+    return stage.evaluate_stage_rows(options["machine"], inputs["blade_speed"], cp=cp, gamma=gamma,
+                                     vortex=options.get("vortex", "free"), **given)
 
 
 def _render_svg(payload: dict, body: dict) -> str:
@@ -215,45 +172,41 @@ def _render_svg(payload: dict, body: dict) -> str:
 
 
 DUTY = ("flow_coefficient", "loading_coefficient", "reaction", "blade_speed")
-FLOW = (
-    Mode("Duty", "flow_coefficient, loading_coefficient, reaction and blade_speed", required=DUTY),
-    Mode("CompressorAngles", "blade_speed, axial_velocity, alpha1 and alpha2 (compressor)",
-         required=("blade_speed", "axial_velocity", "alpha1", "alpha2"), when={"machine": ("compressor",)}),
-    Mode("TurbineAngles", "blade_speed, axial_velocity, alpha2 and alpha3 (turbine)",
-         required=("blade_speed", "axial_velocity", "alpha2", "alpha3"), when={"machine": ("turbine",)}),
-)
-ROWS = (
-    Mode("NoRows", "no blade-row geometry", required=()),
-    Mode("ZweifelChord", "axial_chord and mean_radius (turbine Zweifel blade counts)",
-         required=("axial_chord", "mean_radius"), optional=("zweifel_coefficient",), when={"machine": ("turbine",)}),
-    Mode("ZweifelAspectRatio", "blade_height, aspect_ratio and mean_radius (turbine Zweifel blade counts)",
-         required=("blade_height", "aspect_ratio", "mean_radius"), optional=("zweifel_coefficient",),
-         when={"machine": ("turbine",)}),
-    Mode("Solidities", "rotor_solidity and stator_solidity (compressor diffusion factors)",
-         required=("rotor_solidity", "stator_solidity"), when={"machine": ("compressor",)}),
-    Mode("BladeCounts", "chord, mean_radius, rotor_blade_count and stator_blade_count (compressor diffusion "
-         "factors)", required=("chord", "mean_radius", "rotor_blade_count", "stator_blade_count"),
-         when={"machine": ("compressor",)}),
-)
-
-#: The row modes where the annulus gives the mean radius: the same fields but ``mean_radius``.
-ROWS_IN_ANNULUS = (
-    ROWS[0],
-    Mode("ZweifelChord", "axial_chord (turbine Zweifel blade counts)", required=("axial_chord",),
-         optional=("zweifel_coefficient",), when={"machine": ("turbine",)}),
-    Mode("ZweifelAspectRatio", "blade_height and aspect_ratio (turbine Zweifel blade counts)",
-         required=("blade_height", "aspect_ratio"), optional=("zweifel_coefficient",),
-         when={"machine": ("turbine",)}),
-    ROWS[3],
-    Mode("BladeCounts", "chord, rotor_blade_count and stator_blade_count (compressor diffusion factors)",
-         required=("chord", "rotor_blade_count", "stator_blade_count"), when={"machine": ("compressor",)}),
-)
-SPAN = (
-    Mode("HubTip", "hub_radius and tip_radius (hub and tip values too; optionally the vortex law)",
-         required=("hub_radius", "tip_radius"), optional=("vortex",)),
-    Mode("MeanHubToTip", "mean_radius and hub_to_tip_ratio (hub and tip values too; optionally the vortex law)",
-         required=("mean_radius", "hub_to_tip_ratio"), optional=("vortex",)),
-)
+FLOW = Choice("flow", "the stage's duty or its angles", (
+    Alternative("duty", "flow_coefficient, loading_coefficient, reaction and blade_speed", required=DUTY),
+    Alternative("compressor_angles", "blade_speed, axial_velocity, alpha1 and alpha2 (compressor)",
+                required=("blade_speed", "axial_velocity", "alpha1", "alpha2"), when={"machine": ("compressor",)}),
+    Alternative("turbine_angles", "blade_speed, axial_velocity, alpha2 and alpha3 (turbine)",
+                required=("blade_speed", "axial_velocity", "alpha2", "alpha3"), when={"machine": ("turbine",)}),
+))
+_RADII = ("mean_radius", "hub_and_tip", "mean_and_ratio")
+_ROWS_WITH_COUNTS = ("zweifel_chord", "zweifel_aspect_ratio", "blade_counts")
+RADIUS = Choice("radius", "the radius: none, the mean radius for blade counts, or the annulus", (
+    Alternative("none", "no radius"),
+    Alternative("mean_radius", "mean_radius (for blade counts)", required=("mean_radius",),
+                needs={"rows": _ROWS_WITH_COUNTS}),
+    Alternative("hub_and_tip", "hub_radius and tip_radius (hub and tip values too; optionally the vortex law)",
+                required=("hub_radius", "tip_radius"), optional=("vortex",)),
+    Alternative("mean_and_ratio", "mean_radius and hub_to_tip_ratio (hub and tip values too; optionally the "
+                "vortex law)", required=("mean_radius", "hub_to_tip_ratio"), optional=("vortex",)),
+))
+ROWS = Choice("rows", "the blade-row geometry the rows are judged with", (
+    Alternative("none", "no blade-row geometry"),
+    Alternative("zweifel_chord", "axial_chord (turbine Zweifel blade counts; with a radius)",
+                required=("axial_chord",), optional=("zweifel_coefficient",), when={"machine": ("turbine",)},
+                needs={"radius": _RADII}),
+    Alternative("zweifel_aspect_ratio", "blade_height and aspect_ratio (turbine Zweifel blade counts; with a "
+                "radius)", required=("blade_height", "aspect_ratio"), optional=("zweifel_coefficient",),
+                when={"machine": ("turbine",)}, needs={"radius": _RADII}),
+    Alternative("solidities", "rotor_solidity and stator_solidity (compressor diffusion factors)",
+                required=("rotor_solidity", "stator_solidity"), when={"machine": ("compressor",)}),
+    Alternative("blade_counts", "chord, rotor_blade_count and stator_blade_count (compressor diffusion factors; "
+                "with a radius)", required=("chord", "rotor_blade_count", "stator_blade_count"),
+                when={"machine": ("compressor",)}, needs={"radius": _RADII}),
+))
+#: The fields handed to the core by name (the rest are options, the gas's or the blade speed).
+GIVEN = (*FLOW.fields - {"blade_speed"}, *RADIUS.fields - {"vortex"}, *ROWS.fields, "total_temperature",
+         "total_pressure")
 
 CALCULATION = Calculation(
     name="triangles",
@@ -277,7 +230,7 @@ CALCULATION = Calculation(
     ),
     schema=TrianglesInput,
     outputs=TrianglesOutput,
-    modes=combine_modes(FLOW, ROWS) + combine_modes(FLOW, ROWS_IN_ANNULUS, SPAN),
+    choices=(FLOW, RADIUS, ROWS),
     compute=_compute,
     requires=(("total_pressure", "total_temperature"),),
     render_svg=_render_svg,

@@ -4,7 +4,6 @@ from __future__ import annotations
 
 from marshmallow import Schema
 
-from service.api.calculation import Calculation, Mode, combine_modes
 from service.api.common import (
     PRESSURE_LIMITS,
     TEMPERATURE_LIMITS,
@@ -16,6 +15,7 @@ from service.api.common import (
     positive,
     ratio,
 )
+from service.api.declarations import Alternative, Calculation, Choice
 from service.api.fields import Option, Quantity
 from service.core import gas, zweifel
 
@@ -69,49 +69,36 @@ ZweifelOutput = Schema.from_dict(
     name="ZweifelOutput",
 )
 
-PURPOSE = (
-    Mode("Sizing", "mean_radius (and optionally a target zweifel_coefficient and rounding) to size the row",
-         required=("mean_radius",), optional=("zweifel_coefficient", "rounding")),
-    Mode("Count", "blade_count and mean_radius to analyse the row", required=("blade_count", "mean_radius")),
-    Mode("Pitch", "pitch to analyse the row", required=("pitch",)),
-)
-CHORD = (
-    Mode("Chord", "axial_chord", required=("axial_chord",)),
-    Mode("AspectRatio", "blade_height and aspect_ratio", required=("blade_height", "aspect_ratio")),
-)
-DEFINITION = (
-    Mode("Incompressible", "the incompressible definition", required=(),
-         when={"definition": ("incompressible",)}),
-    Mode("Mach", "the compressible definition and outlet_mach", required=("outlet_mach",),
-         optional=("total_temperature",), when={"definition": ("compressible",)}),
-    Mode("Pressures", "the compressible definition, total_pressure and outlet_pressure",
-         required=("total_pressure", "outlet_pressure"), optional=("total_temperature",),
-         when={"definition": ("compressible",)}),
-)
+PURPOSE = Choice("purpose", "the row sized or analysed", (
+    Alternative("sizing", "mean_radius (and optionally a target zweifel_coefficient and rounding) to size the row",
+                required=("mean_radius",), optional=("zweifel_coefficient", "rounding")),
+    Alternative("blade_count", "blade_count and mean_radius to analyse the row",
+                required=("blade_count", "mean_radius")),
+    Alternative("pitch", "pitch to analyse the row", required=("pitch",)),
+))
+CHORD = Choice("chord", "the axial chord", (
+    Alternative("axial_chord", "axial_chord", required=("axial_chord",)),
+    Alternative("aspect_ratio", "blade_height and aspect_ratio", required=("blade_height", "aspect_ratio")),
+))
+DEFINITION = Choice("definition", "the definition of the coefficient", (
+    Alternative("incompressible", "the incompressible definition", when={"definition": ("incompressible",)}),
+    Alternative("outlet_mach", "the compressible definition and outlet_mach", required=("outlet_mach",),
+                optional=("total_temperature",), when={"definition": ("compressible",)}),
+    Alternative("pressures", "the compressible definition, total_pressure and outlet_pressure",
+                required=("total_pressure", "outlet_pressure"), optional=("total_temperature",),
+                when={"definition": ("compressible",)}),
+))
+#: The fields handed to the core as they are (the rest are options or the gas's).
+_ROW = ("inlet_angle", "outlet_angle", "axial_chord", "blade_height", "aspect_ratio", "mean_radius",
+        "blade_count", "pitch", "outlet_mach", "outlet_pressure")
 
 
-def _compute(mode: Mode, options: dict, inputs: dict):
-    if mode.includes("Chord"):
-        chord = inputs["axial_chord"]
-    else:
-        chord = zweifel.axial_chord_from_aspect_ratio(inputs["blade_height"], inputs["aspect_ratio"])
-    flow = {"definition": options["definition"]}
-    if options["definition"] == "compressible":
-        _, gamma = gas.gas_properties(options["gas"], inputs.get("cp"), inputs.get("gamma"))
-        flow.update(outlet_mach=inputs.get("outlet_mach"), inlet_total_pressure=inputs.get("total_pressure"),
-                    outlet_pressure=inputs.get("outlet_pressure"), gamma=gamma)
-    angles = (inputs["inlet_angle"], inputs["outlet_angle"], chord)
-    if mode.includes("Sizing"):
-        result = zweifel.evaluate_zweifel_sizing(
-            *angles, inputs["mean_radius"], zweifel_coefficient=inputs["zweifel_coefficient"],
-            rounding=options["rounding"], **flow)
-    elif mode.includes("Count"):
-        result = zweifel.evaluate_zweifel_analysis(
-            *angles, blade_count=inputs["blade_count"], mean_radius=inputs["mean_radius"], **flow)
-    else:
-        result = zweifel.evaluate_zweifel_analysis(*angles, pitch=inputs["pitch"], **flow)
-    result.values["axial_chord"] = chord
-    return result
+def _compute(options: dict, inputs: dict):
+    _, gamma = gas.gas_properties(options["gas"], inputs.get("cp"), inputs.get("gamma"))
+    sizing = {"zweifel_coefficient": inputs["zweifel_coefficient"], "rounding": options["rounding"]}
+    return zweifel.evaluate_zweifel_row(
+        **{name: inputs[name] for name in _ROW if inputs.get(name) is not None}, **sizing,
+        definition=options["definition"], inlet_total_pressure=inputs.get("total_pressure"), gamma=gamma)
 
 
 CALCULATION = Calculation(
@@ -127,6 +114,6 @@ CALCULATION = Calculation(
     ),
     schema=ZweifelInput,
     outputs=ZweifelOutput,
-    modes=combine_modes(PURPOSE, CHORD, DEFINITION),
+    choices=(PURPOSE, CHORD, DEFINITION),
     compute=_compute,
 )

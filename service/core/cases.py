@@ -229,3 +229,81 @@ def broadcast_cases(*arrays) -> list[np.ndarray]:
     if any(a.shape != shape for a in arrays):
         shape = np.broadcast_shapes(*(a.shape for a in arrays))
     return [a if a.shape == shape else np.broadcast_to(a, shape) for a in arrays]
+
+
+#: The reason of a case whose outputs are not all finite numbers (an overflow the core did not foresee).
+NOT_FINITE = "the result is not a finite number (overflow): check the magnitudes of the inputs"
+#: The largest whole-number output that a double holds exactly.
+LARGEST_WHOLE = 2**53 - 1
+
+
+def failure_codes(failures, values, absent=None, whole_outputs=frozenset()) -> tuple[np.ndarray, list]:
+    """Every failure of every case, as one reason code per case: the one place a case is judged failed.
+
+    A case fails for the first of its ``failures`` that applies, else where an output is not a
+    finite number (a per-stage row is NaN-padded after its last stage, and an entry marked in
+    ``absent`` does not apply: neither is a failure), else where a whole-number output is beyond
+    :data:`LARGEST_WHOLE`.
+
+    Parameters
+    ----------
+    failures : list of (str or NumberedReason, array_like of bool)
+        The core's reasons with the cases they apply to (:attr:`CaseResults.failures`).
+    values : dict of str to numpy.ndarray
+        Float outputs, ``(cases,)`` or ``(cases, k)``.
+    absent : dict of str to numpy.ndarray, optional
+        Entries that do not apply (:attr:`CaseResults.absent`).
+    whole_outputs : set of str
+        Outputs answered as whole numbers.
+
+    Returns
+    -------
+    reason : numpy.ndarray of intp
+        Per case: 0 where it succeeded, else 1 + the position of its text in ``reasons``.
+    reasons : list of str or None
+        The texts; None stands for a reason whose texts differ per case (they follow in the list).
+    """
+    size = len(next(iter(values.values()))) if values else 0
+    reason, reasons = _reason_codes(failures, size)
+    reasons.append(NOT_FINITE)
+    absent = absent or {}
+    for name, array in values.items():
+        finite = _finite_cases(np.where(absent[name], 0.0, array) if name in absent else array)
+        if name in whole_outputs:
+            too_big = np.abs(np.where(np.isfinite(array), array, 0.0)) > LARGEST_WHOLE
+            finite &= ~(too_big if too_big.ndim == 1 else too_big.any(axis=1))
+        if not finite.all():
+            reason[(~finite) & (reason == 0)] = len(reasons)
+    return reason, reasons
+
+
+def _reason_codes(failures, size: int) -> tuple[np.ndarray, list]:
+    """The core's own reasons as codes; a reason with a number per case gets a code per distinct text."""
+    reasons: list = [text for text, _ in failures]
+    reason = np.zeros(size, dtype=np.intp)
+    # The first reason that applies to a case is the one reported, so the masks go in backwards.
+    for code in range(len(failures), 0, -1):
+        reason[np.broadcast_to(failures[code - 1][1], (size,))] = code
+    for code, entry in enumerate(list(reasons), start=1):
+        if isinstance(entry, str):
+            continue
+        reasons[code - 1] = None
+        where = reason == code
+        if where.any():
+            texts, which = reason_texts(entry, where)
+            reason[where] = len(reasons) + 1 + which
+            reasons += texts
+    return reason, reasons
+
+
+def _finite_cases(array: np.ndarray) -> np.ndarray:
+    """Per case, whether its outputs are finite; per-stage rows are NaN-padded after the last stage,
+    so only an inner NaN or an infinity fails a row."""
+    if array.ndim == 1:
+        return np.isfinite(array)
+    finite = np.isfinite(array)
+    has_value = finite.any(axis=1)
+    # A padded row is finite up to its last finite entry and NaN after it.
+    last = np.where(has_value, array.shape[1] - 1 - np.argmax(finite[:, ::-1], axis=1), -1)
+    columns = np.arange(array.shape[1])
+    return has_value & np.all(finite | (columns[None, :] > last[:, None]), axis=1) & ~np.isinf(array).any(axis=1)

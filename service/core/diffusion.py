@@ -639,3 +639,33 @@ def evaluate_diffusion_sizing(row, axial_velocity, inlet_angle, outlet_angle, ta
         return _finish(values, failures, row, span_position, judged, shape,
                        (axial_velocity, inlet_angle, outlet_angle, target_diffusion_factor, chord,
                         mean_radius, outlet_axial_velocity, inlet_radius, outlet_radius, shaft_speed))
+
+
+def evaluate_diffusion_row(row, axial_velocity, inlet_angle, outlet_angle, target_diffusion_factor=None, **row_data):
+    """A compressor row sized for a target diffusion factor where one is given, else analysed.
+
+    Parameters
+    ----------
+    row : str
+        One of :data:`ROWS`.
+    axial_velocity, inlet_angle, outlet_angle : array_like
+        As in :func:`evaluate_diffusion_analysis`. [m s^-1], [deg], [deg]
+    target_diffusion_factor : array_like, optional
+        The diffusion factor to size the row for; without it the row is analysed. [-]
+    **row_data
+        The other keywords of :func:`evaluate_diffusion_sizing` (sizing) or
+        :func:`evaluate_diffusion_analysis` (analysis).
+
+    Returns
+    -------
+    CaseResults
+        As the function called.
+
+    References
+    ----------
+    Lieblein, S., Schwenk, F. C. and Broderick, R. L. (1953), NACA RM E53D01; NASA SP-36 (1965), ch. 6.
+    """
+    if target_diffusion_factor is None:
+        return evaluate_diffusion_analysis(row, axial_velocity, inlet_angle, outlet_angle, **row_data)
+    return evaluate_diffusion_sizing(row, axial_velocity, inlet_angle, outlet_angle, target_diffusion_factor,
+                                     **row_data)

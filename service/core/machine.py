@@ -71,6 +71,7 @@ import numpy as np
 from service.core import annulus, blade_rows, flowpath, gas, machine_span, split, triangles, zweifel
 from service.core.angles import cos_tan
 from service.core.cases import CaseResults, reason_for
+from service.core.stations import enthalpy_reaction, rotor_stations
 
 MAX_STAGES = split.MAX_STAGES
 #: The rotor's share of a stage's entropy rise, by default. [-]
@@ -238,65 +239,6 @@ def _solved_radius(held, radius, p, t0, p0, needed, velocities, given=None, gues
         ratio[solved] = annulus.hub_to_tip_ratio_near(held, sub["radius"], flow_ratio, guess.ravel()[solved])
     ring = annulus.annulus_from_hub_to_tip_ratio(held, every["radius"], ratio)
     return ring["mean_radius"].reshape(m, n), ratio.reshape(m, n)
-
-
-def enthalpy_reaction(machine, station_static_temperature):
-    """Reaction of every stage: the rotor's static enthalpy change over the stage's.
-
-    .. math:: R = \\frac{h_{rotor,in} - h_{rotor,out}}{h_{stage,in} - h_{stage,out}}
-
-    with a perfect gas of constant ``cp``, so enthalpy differences are ``cp`` times temperature
-    differences. Stage ``i`` (from 0) spans stations ``2i`` to ``2i + 2``; its rotor is the first row
-    (compressor) or the second (turbine). For a repeating stage of constant axial velocity and radius
-    it equals the kinematic reaction ``1 - (V_theta1 + V_theta2) / (2 U)``; where a stage's inlet and
-    outlet velocities differ, or its radius changes, the two differ.
-
-    Parameters
-    ----------
-    machine : str
-        ``compressor`` or ``turbine``.
-    station_static_temperature : array_like
-        Static temperature at stations 1 .. 2n + 1, shape ``(..., 2n + 1)``. [K]
-
-    Returns
-    -------
-    numpy.ndarray
-        The reaction of each stage, shape ``(..., n)``. [-]
-
-    References
-    ----------
-    Dixon and Hall (2014), ch. 5 (compressor) and ch. 4 (turbine): the definition of reaction.
-    """
-    t = np.asarray(station_static_temperature, dtype=float)
-    inlet, middle, outlet = t[..., :-1:2], t[..., 1::2], t[..., 2::2]
-    rotor_in, rotor_out = (inlet, middle) if machine == "compressor" else (middle, outlet)
-    with np.errstate(all="ignore"):
-        return (rotor_in - rotor_out) / (inlet - outlet)
-
-
-def rotor_stations(machine, stages):
-    """The stations of every stage's rotor, counted from 0: its design (low-swirl) station and its other one.
-
-    A stage's flow coefficient, loading and reaction are set at its rotor's low-swirl station (compressor
-    rotor inlet ``2i``, turbine rotor exit ``2i + 2``); the other rotor station (compressor rotor exit
-    ``2i + 1``, turbine rotor inlet ``2i + 1``) takes its swirl from Euler's work equation.
-
-    Parameters
-    ----------
-    machine : str
-        ``compressor`` or ``turbine``.
-    stages : int
-        Stage count ``n``.
-
-    Returns
-    -------
-    design, other : numpy.ndarray
-        Station indices (from 0), shape ``(n,)``.
-    """
-    first = 2 * np.arange(stages)
-    if machine == "compressor":
-        return first, first + 1
-    return first + 2, first + 1
 
 
 def _design_velocities(u, s):
@@ -668,6 +610,7 @@ def evaluate_machine_design(
     """
     split._check_option("machine", machine, triangles.MACHINES)
     split._check_option("rule", rule, split.SPLIT_RULES)
+    stages = split.stages_of_weights(weights, stages, max_loading_coefficient, max_stage_pressure_ratio)
     held_name, radius = _exactly_one(mean_radius=mean_radius, hub_radius=hub_radius, tip_radius=tip_radius)
     held = held_name.removesuffix("_radius")
     count_name, count_value = _exactly_one(stages=stages, max_loading_coefficient=max_loading_coefficient,

@@ -15,7 +15,7 @@ with the station's total state uniform along the span (uniform work and, as the 
 uniform loss). Rows take each station's value at its own hub (or tip), the radius-change form of the
 diffusion factor between them (NASA SP-36 [3]) and the solidity of the same chord and blade count,
 ``sigma(r) = sigma_m r_m / r``. The reaction at the hub or tip is the enthalpy reaction of the static
-states along that line (:func:`service.core.machine.enthalpy_reaction`).
+states along that line (:func:`service.core.stations.enthalpy_reaction`).
 
 References
 ----------
@@ -41,6 +41,7 @@ from service.core.span_checks import (
     turbine_exit_mach_check,
     turbine_exit_swirl_check,
 )
+from service.core.stations import enthalpy_reaction, rotor_stations
 
 #: The span ends answered beside the mean line.
 SPAN_ENDS = ("hub", "tip")
@@ -166,7 +167,6 @@ def spanwise(machine, stations, rows, stage_count, shaft_speed, cp, gamma, rotor
     ----------
     Dixon and Hall (2014), ch. 6; NASA SP-36 (1965) for the rows' diffusion factor.
     """
-    from service.core.machine import enthalpy_reaction, rotor_stations
 
     values, failures = {}, []
     cp, gamma = np.asarray(cp, dtype=float)[:, None], np.asarray(gamma, dtype=float)[:, None]

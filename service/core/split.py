@@ -801,6 +801,26 @@ def stage_loading_check(machine, stage_loading_coefficient) -> RuleCheck:
     )
 
 
+def stages_of_weights(weights, stages=None, max_loading_coefficient=None, max_stage_pressure_ratio=None):
+    """The stage count: as given, or where no count and no limit is given, the number of weights.
+
+    Parameters
+    ----------
+    weights : array_like or None
+        Relative work shares, shape ``(cases, k)`` or ``(k,)``. [-]
+    stages, max_loading_coefficient, max_stage_pressure_ratio : array_like or None
+        The stage count or a limit that decides it, as in :func:`evaluate_stage_split`. [-]
+
+    Returns
+    -------
+    array_like or None
+        ``stages``, or ``k`` where weights alone give the count.
+    """
+    if weights is None or any(v is not None for v in (stages, max_loading_coefficient, max_stage_pressure_ratio)):
+        return stages
+    return np.shape(weights)[-1]
+
+
 def _exactly_one(**given):
     named = [name for name, value in given.items() if value is not None]
     if len(named) != 1:
@@ -886,6 +906,7 @@ def evaluate_stage_split(
     _check_option("rule", rule, SPLIT_RULES)
     if (rule == "weights") != (weights is not None):
         raise ValueError("weights must be given with rule 'weights', and only with it")
+    stages = stages_of_weights(weights, stages, max_loading_coefficient, max_stage_pressure_ratio)
     efficiency_name, efficiency_value = _exactly_one(polytropic_efficiency=polytropic_efficiency,
                                    stage_isentropic_efficiency=stage_isentropic_efficiency)
     efficiency_model = "polytropic" if efficiency_name == "polytropic_efficiency" else "stage_isentropic"

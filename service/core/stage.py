@@ -10,7 +10,7 @@ from __future__ import annotations
 
 import numpy as np
 
-from service.core import diffusion, zweifel
+from service.core import diffusion, span, triangles, zweifel
 from service.core.cases import CaseResults
 
 
@@ -113,3 +113,110 @@ def with_diffusion_rows(stage: CaseResults, rotor_solidity, stator_solidity) -> 
         stage = stage.merged(kept, row)
     return stage
 
+
+
+def evaluate_stage(machine, blade_speed, *, flow_coefficient=None, loading_coefficient=None, reaction=None,
+                   axial_velocity=None, alpha1=None, alpha2=None, alpha3=None, total_temperature=None,
+                   total_pressure=None, cp=1005.0, gamma=1.4) -> CaseResults:
+    """A repeating stage's triangles from its duty coefficients, or from the rotor's absolute angles.
+
+    Parameters
+    ----------
+    machine : str
+        ``compressor`` or ``turbine``.
+    blade_speed : array_like
+        Mean blade speed. [m s^-1]
+    flow_coefficient, loading_coefficient, reaction : array_like, optional
+        The duty (all three, or none). [-]
+    axial_velocity : array_like, optional
+        Without the duty: the axial velocity. [m s^-1]
+    alpha1, alpha2, alpha3 : array_like, optional
+        Without the duty: the rotor's absolute inlet and exit angles (compressor ``alpha1``,
+        ``alpha2``; turbine ``alpha2``, ``alpha3``). [deg]
+    total_temperature, total_pressure, cp, gamma : array_like, optional
+        Inlet total state and gas, as in :func:`service.core.triangles.evaluate_stage_from_duty`.
+
+    Returns
+    -------
+    CaseResults
+        As :func:`service.core.triangles.evaluate_stage_from_duty`.
+
+    References
+    ----------
+    Dixon, S. L. and Hall, C. A. (2014), "Fluid Mechanics and Thermodynamics of Turbomachinery", 7th ed.,
+    ch. 4 and 5 (the repeating stage).
+    """
+    state = {"total_temperature": total_temperature, "total_pressure": total_pressure, "cp": cp, "gamma": gamma}
+    if flow_coefficient is not None:
+        return triangles.evaluate_stage_from_duty(machine, flow_coefficient, loading_coefficient, reaction,
+                                                  blade_speed, **state)
+    first, second = (alpha1, alpha2) if machine == "compressor" else (alpha2, alpha3)
+    return triangles.evaluate_stage_from_angles(machine, blade_speed, axial_velocity, first, second, **state)
+
+
+def evaluate_stage_rows(machine, blade_speed, *, mean_radius=None, hub_radius=None, tip_radius=None,
+                        hub_to_tip_ratio=None, vortex="free", axial_chord=None, blade_height=None,
+                        aspect_ratio=None, zweifel_coefficient=zweifel.OPTIMUM_ZWEIFEL_COEFFICIENT,
+                        rotor_solidity=None, stator_solidity=None, chord=None, rotor_blade_count=None,
+                        stator_blade_count=None, **flow) -> CaseResults:
+    """A repeating stage (:func:`evaluate_stage`) with its rows judged and its hub and tip where given.
+
+    The radius: ``mean_radius`` alone (for blade counts), or the annulus as ``hub_radius`` and
+    ``tip_radius`` or ``mean_radius`` and ``hub_to_tip_ratio`` (hub and tip values too). The rows:
+    turbine Zweifel blade counts from ``axial_chord`` (or ``blade_height`` and ``aspect_ratio``) and
+    the mean radius; compressor diffusion factors from the solidities (or ``chord`` and the blade
+    counts at the mean radius).
+
+    Parameters
+    ----------
+    machine : str
+        ``compressor`` or ``turbine``.
+    blade_speed : array_like
+        Mean blade speed. [m s^-1]
+    mean_radius, hub_radius, tip_radius : array_like, optional
+        Radii. [m]
+    hub_to_tip_ratio : array_like, optional
+        Hub over tip radius, with ``mean_radius``. [-]
+    vortex : str
+        The vortex law along the span (:func:`service.core.span.with_span`).
+    axial_chord, blade_height, aspect_ratio, zweifel_coefficient : array_like, optional
+        Turbine rows: axial chord [m] (or blade height [m] over aspect ratio [-]) and the Zweifel target [-].
+    rotor_solidity, stator_solidity : array_like, optional
+        Compressor rows: solidities. [-]
+    chord, rotor_blade_count, stator_blade_count : array_like, optional
+        Compressor rows, in place of the solidities: chord [m] and blade counts [-].
+    **flow
+        The keywords of :func:`evaluate_stage`.
+
+    Returns
+    -------
+    CaseResults
+        The stage, with the rows' outputs and checks (:func:`with_zweifel_rows`,
+        :func:`with_diffusion_rows`) and the hub and tip (:func:`service.core.span.with_span`).
+
+    References
+    ----------
+    Zweifel (1945); Lieblein et al. (1953), NASA SP-36 (1965) ch. 6; Dixon and Hall (2014) ch. 3
+    (simple radial equilibrium).
+    """
+    result = evaluate_stage(machine, blade_speed, **flow)
+    if hub_radius is not None:
+        mean_radius = span.radius_ratios(hub_radius, tip_radius)["mean_radius"]
+    elif hub_to_tip_ratio is not None:
+        hub_radius, tip_radius = span.radii_from_mean(mean_radius, hub_to_tip_ratio)
+    if blade_height is not None:
+        axial_chord = zweifel.axial_chord_from_aspect_ratio(blade_height, aspect_ratio)
+    if axial_chord is not None:
+        result = with_zweifel_rows(result, axial_chord, mean_radius, zweifel_coefficient)
+    if chord is not None:
+        rotor_solidity, stator_solidity = (diffusion.solidity_from_blade_count(chord, mean_radius, count)
+                                           for count in (rotor_blade_count, stator_blade_count))
+    solidities = {}
+    if rotor_solidity is not None:
+        solidities = {"rotor_solidity": rotor_solidity, "stator_solidity": stator_solidity}
+        result = with_diffusion_rows(result, rotor_solidity, stator_solidity)
+    if hub_radius is not None:
+        state = {name: flow.get(name) for name in ("total_temperature", "total_pressure")}
+        state.update(cp=flow.get("cp", 1005.0), gamma=flow.get("gamma", 1.4))
+        result = span.with_span(result, machine, hub_radius, tip_radius, vortex, **state, **solidities)
+    return result

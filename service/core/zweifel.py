@@ -784,3 +784,53 @@ def evaluate_zweifel_analysis(
     return _finish(values, failures, "zweifel_coefficient",
                    (inlet_angle, outlet_angle, axial_chord, pitch, blade_count, mean_radius, outlet_mach,
                     inlet_total_pressure, outlet_pressure, gamma))
+
+
+def evaluate_zweifel_row(inlet_angle, outlet_angle, *, axial_chord=None, blade_height=None, aspect_ratio=None,
+                         mean_radius=None, blade_count=None, pitch=None,
+                         zweifel_coefficient=OPTIMUM_ZWEIFEL_COEFFICIENT, rounding="up", **flow):
+    """A turbine row sized (mean radius alone) or analysed (blade count and mean radius, or pitch).
+
+    The axial chord is given, or follows from the blade height and the aspect ratio
+    (:func:`axial_chord_from_aspect_ratio`); the answer holds the axial chord used.
+
+    Parameters
+    ----------
+    inlet_angle, outlet_angle : array_like
+        Flow angles in the row's frame, from axial, signed. [deg]
+    axial_chord : array_like, optional
+        Axial chord. [m]
+    blade_height, aspect_ratio : array_like, optional
+        Blade height [m] and height over axial chord [-], where ``axial_chord`` is not given.
+    mean_radius : array_like, optional
+        Mean radius: alone it sizes the row, with ``blade_count`` it analyses it. [m]
+    blade_count, pitch : array_like, optional
+        The row analysed: its whole blade count (with ``mean_radius``) [-], or its pitch [m].
+    zweifel_coefficient : array_like
+        Sizing: the target Zweifel coefficient. [-]
+    rounding : str
+        Sizing: how the blade count is rounded (:func:`evaluate_zweifel_sizing`).
+    **flow
+        ``definition``, ``outlet_mach``, ``inlet_total_pressure``, ``outlet_pressure``, ``gamma``
+        as in :func:`evaluate_zweifel_sizing`.
+
+    Returns
+    -------
+    CaseResults
+        As :func:`evaluate_zweifel_sizing` or :func:`evaluate_zweifel_analysis`, with ``axial_chord``.
+
+    References
+    ----------
+    Zweifel, O. (1945), "The spacing of turbo-machine blading, especially with large angular
+    deflection", Brown Boveri Review 32, 436-444.
+    """
+    if axial_chord is None:
+        axial_chord = axial_chord_from_aspect_ratio(blade_height, aspect_ratio)
+    if pitch is None and blade_count is None:
+        result = evaluate_zweifel_sizing(inlet_angle, outlet_angle, axial_chord, mean_radius,
+                                         zweifel_coefficient=zweifel_coefficient, rounding=rounding, **flow)
+    else:
+        result = evaluate_zweifel_analysis(inlet_angle, outlet_angle, axial_chord, pitch=pitch,
+                                           blade_count=blade_count, mean_radius=mean_radius, **flow)
+    result.values["axial_chord"] = axial_chord
+    return result

@@ -19,7 +19,7 @@ import math
 import re
 from dataclasses import dataclass, field
 
-from service.api.calculation import Calculation, Mode
+from service.api.declarations import Calculation, Form
 from service.api.registry import CALCULATIONS
 
 PROBLEM_JSON = "application/problem+json"
@@ -200,12 +200,12 @@ def calculation(name: str) -> Calculation:
 COLUMN_NAMES = [c.name for c in CALCULATIONS if c.columns]
 
 
-def find_mode(calc: Calculation, *parts: str) -> Mode:
+def find_mode(calc: Calculation, *parts: str) -> Form:
     """The first mode made of all the named parts, e.g. ``find_mode(calc, "CompressorAngles")``."""
-    return next(m for m in calc.modes if all(m.includes(part) for part in parts))
+    return next(m for m in calc.forms if all(m.includes(part) for part in parts))
 
 
-def mode_case(calc: Calculation, mode: Mode) -> dict:
+def mode_case(calc: Calculation, mode: Form) -> dict:
     """A valid case of one input mode: the base fields, the mode's fields and its options."""
     example = EXAMPLES[calc.name]
     case = dict(example.base)
@@ -217,14 +217,14 @@ def mode_case(calc: Calculation, mode: Mode) -> dict:
 
 def all_mode_cases():
     """(calculation name, mode name, case) for every mode of every calculation."""
-    return [(calc.name, mode.name, mode_case(calc, mode)) for calc in CALCULATIONS for mode in calc.modes]
+    return [(calc.name, mode.name, mode_case(calc, mode)) for calc in CALCULATIONS for mode in calc.forms]
 
 
 def valid_cases(name: str) -> list[dict]:
     """Every mode case of a calculation, its variants and the good case of the impossible pair."""
     calc = calculation(name)
     example = EXAMPLES[name]
-    return [mode_case(calc, mode) for mode in calc.modes] + list(example.variants) + [example.good]
+    return [mode_case(calc, mode) for mode in calc.forms] + list(example.variants) + [example.good]
 
 
 def strict_json(text: str):

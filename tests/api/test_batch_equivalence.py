@@ -24,7 +24,7 @@ from hypothesis import strategies as st
 
 from service import create_app
 from service.api import jsonwrite
-from service.api.calculation import RowsText
+from service.api.rowstext import RowsText
 
 RTOL = 1e-12
 PHYSICALLY_IMPOSSIBLE = "urn:meanline:problem:physically-impossible"

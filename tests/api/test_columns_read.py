@@ -44,7 +44,7 @@ def _columns(cases: list[dict]) -> dict:
 def _batches(name: str) -> list[tuple[str, dict]]:
     calc, example = calculation(name), EXAMPLES[name]
     batches = []
-    for mode in calc.modes:
+    for mode in calc.forms:
         case = mode_case(calc, mode)
         scaled = [{k: v * factor if isinstance(v, float) else v for k, v in case.items()}
                   for factor in (1.0, 1.01, 0.99, 1.02)]

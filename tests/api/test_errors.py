@@ -260,7 +260,7 @@ def test_out_of_range_values_are_422_at_the_field(client, name, value):
 @pytest.mark.parametrize("angle", [90, -90, 90.0001, 120, -1000])
 def test_angles_at_or_beyond_90_degrees_are_422(client, angle):
     calc = calculation("triangles")
-    case = mode_case(calc, find_mode(calc, "CompressorAngles", "NoRows"))
+    case = mode_case(calc, find_mode(calc, "compressor_angles", "rows=none"))
     for field in ("alpha1", "alpha2"):
         for body, pointer in _shapes(case, field, angle):
             assert pointers(invalid(post(client, "triangles", body))) == [pointer], body
@@ -298,10 +298,10 @@ def _nearest_modes(calc, case: dict) -> tuple[list, int]:
     fields = calc.schema().fields
     options = {name: case.get(name, fields[name].load_default) for name in calc.option_fields}
     scores = {}
-    for mode in calc.modes:
+    for mode in calc.forms:
         if mode.applies(options):
             missing = set(mode.required) - set(case)
-            surplus = (set(case) & calc.mode_fields) - calc.allowed_fields(mode)
+            surplus = (set(case) & calc.choice_fields) - calc.allowed_fields(mode)
             scores[mode.name] = len(missing) + len(surplus)
     if not scores:  # a required option is missing: no mode can be judged
         return [], 1
@@ -315,10 +315,10 @@ def _field_removals():
     items = []
     for name in NAMES:
         calc = calculation(name)
-        for mode in calc.modes:
+        for mode in calc.forms:
             case = mode_case(calc, mode)
             for field in case:
-                if field in EXAMPLES[name].base and mode is not calc.modes[0]:
+                if field in EXAMPLES[name].base and mode is not calc.forms[0]:
                     continue
                 items.append(pytest.param(name, mode.name, field, case, id=f"{name}-{mode.name}-{field}"))
     return items
@@ -351,13 +351,13 @@ def test_missing_field_is_422_at_the_field(client, name, mode, field, case):
         elif nearest == [mode]:
             assert found == [f"{prefix}/{field}"], body
         else:
-            named = set(case) | {f for m in calc.modes if m.name in nearest for f in m.required}
+            named = set(case) | {f for m in calc.forms if m.name in nearest for f in m.required}
             assert set(found) <= {f"{prefix}/{k}" for k in named}, found
 
 
 def test_missing_machine_is_the_only_error_named(client):
     calc = calculation("triangles")
-    case = mode_case(calc, find_mode(calc, "CompressorAngles", "NoRows"))
+    case = mode_case(calc, find_mode(calc, "compressor_angles", "rows=none"))
     del case["machine"]
     assert pointers(invalid(post(client, "triangles", case))) == ["/machine"]
 
@@ -511,7 +511,7 @@ def test_an_empty_list_for_a_per_stage_field_is_refused_in_rows_as_in_one_case(c
     calc = calculation(name)
     good = EXAMPLES[name].good
     if field == "weights":
-        good = mode_case(calc, find_mode(calc, "Weights"))
+        good = mode_case(calc, find_mode(calc, "work_split=weights"))
     single = problem_body(post(client, name, {**good, field: []}), 422)
     assert f"/{field}" in pointers(single), single
     rows = problem_body(post(client, name, {"cases": [good, {**good, field: []}]}), 422)
@@ -554,8 +554,7 @@ def test_the_work_of_refusing_unknown_keys_does_not_grow_with_their_number(clien
     # Linear in the body, measured by operations rather than time: the pointers built and the
     # errors sorted stay at a response's worth whether a row holds 2,000 or 20,000 unknown keys
     # (before, each key cost a marshmallow message, a pointer, a sort key and a list search).
-    from service.api import calculation as mechanism
-    from service.api import problems
+    from service.api import loading, problems, shapes
 
     counts = {}
 
@@ -565,7 +564,9 @@ def test_the_work_of_refusing_unknown_keys_does_not_grow_with_their_number(clien
             return function(*args, **kwargs)
         return counted
 
-    monkeypatch.setattr(mechanism, "_join", counting("pointers", mechanism._join))
+    pointers = counting("pointers", loading.join_pointer)
+    for module in (loading, shapes):
+        monkeypatch.setattr(module, "join_pointer", pointers)
     monkeypatch.setattr(problems, "_pointer_sort_key", counting("sort keys", problems._pointer_sort_key))
     seen = []
     for count in (2_000, 20_000):

@@ -60,7 +60,8 @@ def test_a_key_that_is_not_a_string_is_refused_as_orjson_refuses_it():
 def test_the_errors_of_a_columns_answer_are_written_as_the_list_of_dicts(per_piece):
     # Per-case options split the batch into two groups (two outcomes whose cases interleave),
     # with failures in both, one of them a reason that states a number per case.
-    from service.api.calculation import ErrorsText, run_calculation
+    from service.api.calculation import run_calculation
+    from service.api.layout import ErrorsText
     from service.api.registry import CALCULATIONS
 
     diffusion = next(c for c in CALCULATIONS if c.name == "diffusion-factor")

@@ -16,9 +16,11 @@ from hypothesis import strategies as st
 from marshmallow import Schema
 
 from service.api import jsonwrite
-from service.api.calculation import Calculation, Mode, RowsText, run_calculation
+from service.api.calculation import run_calculation
 from service.api.common import integer_output, output, positive
+from service.api.declarations import Alternative, Calculation, Choice
 from service.api.fields import CaseSchema, Option
+from service.api.rowstext import RowsText
 from service.core.cases import CaseResults
 from service.core.checks import RuleCheck
 
@@ -35,7 +37,7 @@ StandInOutput = Schema.from_dict({"signed": output("x - 1, signed. [-]", "-"),
                                   "half": output("x / 2. [-]", "-")}, name="StandInOutput")
 
 
-def _compute(mode, options, inputs):
+def _compute(options, inputs):
     x = np.asarray(inputs["x"], dtype=float)
     failed = x > 50.0
     signed = np.where(x == 1.0, -0.0, x - 1.0)  # -0.0 at x = 1
@@ -54,7 +56,7 @@ def _compute(mode, options, inputs):
 
 
 CALCULATION = Calculation("stand-in", "", "", StandInInput, StandInOutput,
-                          (Mode("Only", "x", required=("x",)),), _compute)
+                          (Choice("only", "x", (Alternative("only", "x", required=("x",)),)),), _compute)
 
 
 @pytest.fixture(autouse=True)

@@ -19,8 +19,9 @@ from hypothesis import strategies as st
 from marshmallow import Schema
 from marshmallow import fields as ma_fields
 
-from service.api.calculation import Calculation, Mode, run_calculation
+from service.api.calculation import run_calculation
 from service.api.common import integer_output, output, positive
+from service.api.declarations import Alternative, Calculation, Choice
 from service.api.fields import CaseSchema, Option, Quantity, QuantityList
 from service.core.cases import CaseResults
 from service.core.checks import COMMON_PRACTICE, COMPARISONS, STATUSES, RuleCheck
@@ -182,15 +183,15 @@ def test_rows_answer_alike_whatever_the_order_of_their_keys(client, name):
 
 def test_rows_mix_machines_and_modes_with_each_case_on_its_own_stations(client):
     calc = calculation("triangles")
-    duty = mode_case(calc, find_mode(calc, "Duty", "NoRows"))
+    duty = mode_case(calc, find_mode(calc, "duty", "rows=none"))
     cases = [
-        mode_case(calc, find_mode(calc, "TurbineAngles", "NoRows")),
+        mode_case(calc, find_mode(calc, "turbine_angles", "rows=none")),
         {**duty, "machine": "turbine"},
         duty,
-        mode_case(calc, find_mode(calc, "CompressorAngles", "NoRows")),
+        mode_case(calc, find_mode(calc, "compressor_angles", "rows=none")),
         EXAMPLES["triangles"].good,
-        mode_case(calc, find_mode(calc, "TurbineAngles", "ZweifelChord")),
-        mode_case(calc, find_mode(calc, "Duty", "Solidities")),
+        mode_case(calc, find_mode(calc, "turbine_angles", "zweifel_chord")),
+        mode_case(calc, find_mode(calc, "duty", "solidities")),
     ]
     body = ok_body(post(client, "triangles", rows_of(cases)))
     assert_batch_matches_singles(client, "triangles", cases, rows=body)
@@ -338,7 +339,7 @@ def batches(draw, name):
     example = EXAMPLES[name]
     schema_fields = calc.schema().fields
     starts = [(mode_case(calc, m) | {k: v for k, v in example.sweep_extra.items()
-                                      if k in calc.allowed_fields(m)}, m) for m in calc.modes]
+                                      if k in calc.allowed_fields(m)}, m) for m in calc.forms]
     start, mode = draw(st.sampled_from(starts))
     size = draw(st.integers(1, 5))
     shared, varied = {}, {}
@@ -435,8 +436,8 @@ def test_integer_and_float_inputs_give_the_same_answer(client):
     assert_json_close(ok_body(post(client, "triangles", as_integers)),
                       ok_body(post(client, "triangles", as_floats)), rtol=0.0)
     # A whole-valued float is a valid blade count and counts the same as the integer.
-    case = mode_case(calculation("zweifel"), next(m for m in calculation("zweifel").modes
-                                                  if m.name == "CountWithChordWithIncompressible"))
+    case = mode_case(calculation("zweifel"), next(m for m in calculation("zweifel").forms
+                                                  if m.name == "purpose=blade_count,chord=axial_chord,definition=incompressible"))
     assert_json_close(ok_body(post(client, "zweifel", {**case, "blade_count": 60.0})),
                       ok_body(post(client, "zweifel", {**case, "blade_count": 60})), rtol=0.0)
 
@@ -517,7 +518,7 @@ def _stand_in():
     outputs = Schema.from_dict({"stage_count": integer_output("Stages. [-]"),
                                 "per_stage": output("k L per stage. [m]", "m")}, name="StandInOutput")
 
-    def compute(mode, options, inputs):
+    def compute(options, inputs):
         stages, length = inputs["stages"], inputs["length"]
         failed = length > 100.0
         per_stage = np.full((len(stages), int(stages.max())), np.nan)
@@ -531,7 +532,8 @@ def _stand_in():
                            failures=[("longer than 100", failed)], checks={"per_stage": check})
 
     return Calculation("stand-in", "", "", StandInInput, outputs,
-                       (Mode("Only", "stages and length", required=("stages", "length")),), compute)
+                       (Choice("only", "stages and length", (Alternative("only", "stages and length", required=("stages", "length")),)),),
+                       compute)
 
 
 def _run(payload):

@@ -69,7 +69,7 @@ def _inside(field: Quantity, alternate: bool = False):
 def _schema_case(calculation) -> dict:
     """The first input mode's required fields, each at a value inside its range."""
     schema = calculation._case_schema
-    mode = calculation.modes[0]
+    mode = calculation.forms[0]
     case = {}
     for name, field in schema.fields.items():
         required = field.required or name in mode.required or name in mode.when
@@ -113,7 +113,7 @@ def _fields_of_kind(calculation, base: dict, kind: str) -> list[str]:
     if kind == "option":
         return [n for n in names if isinstance(fields[n], Option)]
     if kind == "required":
-        mode_required = set.intersection(*(set(m.required) for m in calculation.modes))
+        mode_required = set.intersection(*(set(m.required) for m in calculation.forms))
         return [n for n in names if fields[n].required or n in mode_required] or _fields_of_kind(
             calculation, base, "number")
     raise ValueError(f"unknown selector kind {kind!r}")

@@ -16,7 +16,3 @@ One module per correlation family:
 - :mod:`~service.core.losses.stage`: :func:`evaluate_stage_efficiency`, a named correlation set
   applied to a stage's triangles.
 """
-
-from service.core.losses.stage import LOSS_MODELS, evaluate_stage_efficiency, with_stage_efficiency
-
-__all__ = ["LOSS_MODELS", "evaluate_stage_efficiency", "with_stage_efficiency"]
