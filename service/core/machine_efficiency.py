@@ -431,8 +431,10 @@ def evaluate_machine_design_estimated(
     iterations = np.zeros(m, dtype=np.int64)
     converged = np.zeros(m, dtype=bool)
     running = (count > 0) & ~first.failed() & ~wrong_model
+    laid = running.copy()
+    first_losses = estimate(first, everyone)
     if running.any():
-        efficiency = _finite_within(estimate(first, everyone).values["total_to_total_efficiency"], count, width)
+        efficiency = _finite_within(first_losses.values["total_to_total_efficiency"], count, width)
         running &= np.all(np.isfinite(efficiency) | (np.arange(width) >= count[:, None]), axis=1)
     used = efficiency.copy()
     before = {name: first.values[name].copy() for name in ("outlet_total_temperature", "outlet_total_pressure")}
@@ -456,16 +458,16 @@ def evaluate_machine_design_estimated(
         running[index] = usable & ~converged[index]
 
     # The answer: the last pass of every case again, all cases at once (the same inputs give the same design).
-    laid = (count > 0) & ~first.failed() & ~wrong_model
-    final = run(everyone, np.where(laid[:, None], used, 1.0))
+    # A case never iterated failed before: in the first pass, or in the losses of its first pass.
+    iterated = iterations > 0
+    final = run(everyone, np.where(iterated[:, None], used, 1.0))
     losses = estimate(final, everyone)
     failures = [(reason, mask & ~laid) for reason, mask in first.failures]
     failures.append((f"loss_model {model!r} is for a {'turbine' if model == 'soderberg' else 'compressor'}, "
                      f"not a {machine}", wrong_model))
-    failures += [(reason, mask & laid) for reason, mask in final.failures]
-    for reason, mask in losses.failures:
-        mask = np.asarray(mask).reshape(m, -1)
-        failures += [(f"stage {i + 1}: {reason}", mask[:, i] & laid) for i in range(mask.shape[1])]
+    failures += _stage_failures(first_losses, m, laid & ~iterated)
+    failures += [(reason, mask & iterated) for reason, mask in final.failures]
+    failures += _stage_failures(losses, m, iterated)
     passes = f"{int(max_iterations)} iteration{'' if int(max_iterations) == 1 else 's'}"
     failures.append((f"the estimated efficiency did not converge in {passes}", laid & ~converged))
     failed = np.zeros(m, dtype=bool)
@@ -491,6 +493,15 @@ def evaluate_machine_design_estimated(
                                              comparison=check.comparison, basis=check.basis)
     return CaseResults(values=values, failures=failures, checks=checks,
                        absent=design._without_rotor(machine, values))
+
+
+def _stage_failures(losses, m, where):
+    """The loss model's failures, (cases, stages) masks, as one reason per stage naming it, for the cases ``where``."""
+    failures = []
+    for reason, mask in losses.failures:
+        mask = np.asarray(mask).reshape(m, -1)
+        failures += [(f"stage {i + 1}: {reason}", mask[:, i] & where) for i in range(mask.shape[1])]
+    return failures
 
 
 def _finite_within(array, count, width):

@@ -233,3 +233,13 @@ def test_sutherland_is_the_default_viscosity():
     given_mu = estimated(TURBINE, dynamic_viscosity=1e-4)
     # A larger viscosity, a lower Reynolds number: more loss (Soderberg's (1e5 / Re)^(1/4) factor).
     assert np.all(given_mu.values["stage_isentropic_efficiency"] < default.values["stage_isentropic_efficiency"])
+
+
+def test_losses_beyond_the_correlation_fail_the_case_naming_the_stage():
+    # Solidity 0.3 at this loading: Lieblein's equivalent diffusion ratio beyond his wake-thickness curve
+    # (Lieblein 1959, NASA SP-36 ch. 6: stall near D_eq 2; the curve has no value past about 2.35); the first
+    # pass's own losses fail, before any iteration, beside a good case.
+    result = estimated(COMPRESSOR, solidity=np.array([0.3, 1.2]), stages=4)
+    out = reasons(result)
+    assert out[0].startswith("stage 1: the ") and "outside its correlation" in out[0] and out[1] is None
+    assert list(result.values["iterations"] > 0) == [False, True]
