@@ -85,6 +85,8 @@ TOLERANCE = 1e-9
 MAX_ITERATIONS = 50
 
 _COUNTS = ("stages", "max_loading_coefficient", "max_stage_pressure_ratio")
+#: The loss-model fields of each machine.
+_OWN = {"compressor": ("tip_clearance_to_height",), "turbine": ("dynamic_viscosity", "thickness_to_chord")}
 
 
 def stage_flow(values, width):
@@ -300,7 +302,7 @@ def _largest_change(before, after):
 def evaluate_machine_design_estimated(
     machine, mass_flow, total_temperature, total_pressure, pressure_ratio, shaft_speed, flow_coefficient, reaction,
     rotor_aspect_ratio, stator_aspect_ratio, *, polytropic_efficiency=DEFAULT_STARTING_EFFICIENCY, loss_model=None,
-    tip_clearance_to_height=DEFAULT_TIP_CLEARANCE_TO_HEIGHT, dynamic_viscosity=None, thickness_to_chord=None,
+    tip_clearance_to_height=None, dynamic_viscosity=None, thickness_to_chord=None,
     tolerance=TOLERANCE, max_iterations=MAX_ITERATIONS, cp=1005.0, gamma=1.4, weights=None, **layout,
 ):
     """A multistage compressor or turbine laid out at the mean line with estimated stage efficiencies.
@@ -322,13 +324,16 @@ def evaluate_machine_design_estimated(
     loss_model : str, optional
         ``lieblein_howell`` (compressor) or ``soderberg`` (turbine); by default the machine's
         (:data:`MACHINE_LOSS_MODELS`). A model of the other machine fails every case, naming it.
-    tip_clearance_to_height : array_like
+    tip_clearance_to_height : array_like, optional
         Compressor rotors: tip clearance over blade height (default 0.01, common practice). [-]
     dynamic_viscosity : array_like, optional
         Turbine: the gas's dynamic viscosity for Soderberg's Reynolds number (default: air by
         Sutherland's law at each row's exit static temperature). [Pa s]
     thickness_to_chord : array_like, optional
         Turbine: blade thickness over chord, judged against Soderberg's range (0.15-0.25). [-]
+
+        A field of the other machine's loss model (``tip_clearance_to_height`` for a turbine,
+        ``dynamic_viscosity`` or ``thickness_to_chord`` for a compressor) fails every case, naming it.
     tolerance : float
         Convergence tolerance (default 1e-9). [-]
     max_iterations : int
@@ -392,9 +397,11 @@ def evaluate_machine_design_estimated(
     if weights is not None:
         weights = np.atleast_2d(np.asarray(weights, dtype=float))
         per_case["weights"] = np.broadcast_to(weights, (m, weights.shape[1]))
-    geometry = {"tip_clearance_to_height": _per_case(tip_clearance_to_height, m),
-                "dynamic_viscosity": _per_case(dynamic_viscosity, m),
-                "thickness_to_chord": _per_case(thickness_to_chord, m)}
+    given_geometry = {"tip_clearance_to_height": tip_clearance_to_height, "dynamic_viscosity": dynamic_viscosity,
+                      "thickness_to_chord": thickness_to_chord}
+    geometry = {name: _per_case(value, m) for name, value in given_geometry.items() if name in _OWN[machine]}
+    if machine == "compressor" and tip_clearance_to_height is None:
+        geometry["tip_clearance_to_height"] = _per_case(DEFAULT_TIP_CLEARANCE_TO_HEIGHT, m)
 
     def run(index, efficiency):
         """The design of the cases ``index`` with the per-stage efficiencies given."""
@@ -425,6 +432,8 @@ def evaluate_machine_design_estimated(
             **{name: _take(value, index) for name, value in geometry.items()})
 
     wrong_model = np.full(m, model != MACHINE_LOSS_MODELS[machine])
+    foreign = [name for name, value in given_geometry.items() if value is not None and name not in _OWN[machine]]
+    wrong_model |= bool(foreign)
     width = max(1, int(count.max(initial=0)))
     everyone = np.arange(m)
     efficiency = np.full((m, width), np.nan)
@@ -463,6 +472,9 @@ def evaluate_machine_design_estimated(
     final = run(everyone, np.where(iterated[:, None], used, 1.0))
     losses = estimate(final, everyone)
     failures = [(reason, mask & ~laid) for reason, mask in first.failures]
+    if foreign:
+        failures.append((f"{foreign[0]} does not apply to a {machine} (its loss model, {MACHINE_LOSS_MODELS[machine]}, "
+                         "does not use it)", wrong_model))
     failures.append((f"loss_model {model!r} is for a {'turbine' if model == 'soderberg' else 'compressor'}, "
                      f"not a {machine}", wrong_model))
     failures += _stage_failures(first_losses, m, laid & ~iterated)

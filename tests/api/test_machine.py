@@ -250,7 +250,6 @@ def test_correlation_ranges_are_answered_with_a_warn_check(client):
     ({**ESTIMATED, "efficiency": "given"}, "/polytropic_efficiency"),
     ({**COMPRESSOR, "tip_clearance_to_height": 0.01}, "/tip_clearance_to_height"),
     ({**COMPRESSOR, "loss_model": "lieblein_howell"}, "/loss_model"),
-    ({**ESTIMATED, "dynamic_viscosity": 1.8e-5}, "/dynamic_viscosity"),
     ({**ESTIMATED, "loss_model": "kacker_okapuu"}, "/loss_model"),
     ({**ESTIMATED, "tip_clearance_to_height": 1.5}, "/tip_clearance_to_height"),
     ({**ESTIMATED, "efficiency": "guessed"}, "/efficiency"),
@@ -261,6 +260,11 @@ def test_malformed_estimated_inputs_name_the_field(client, body, pointer):
     assert pointer in {e["pointer"] for e in problem["errors"]}
 
 
-def test_a_single_case_with_the_other_machines_loss_model_is_a_422_saying_so(client):
+def test_a_single_case_with_the_other_machines_loss_model_or_its_fields_is_a_422_saying_so(client):
     problem = _post(client, "/v1/machine-design", {**ESTIMATED, "loss_model": "soderberg"}, 422)
     assert problem["detail"] == "loss_model 'soderberg' is for a turbine, not a compressor"
+    problem = _post(client, "/v1/machine-design", {**ESTIMATED, "dynamic_viscosity": 1.8e-5}, 422)
+    assert problem["detail"].startswith("dynamic_viscosity does not apply to a compressor")
+    problem = _post(client, "/v1/machine-design", {**TURBINE, "efficiency": "estimated",
+                                                   "tip_clearance_to_height": 0.01}, 422)
+    assert problem["detail"].startswith("tip_clearance_to_height does not apply to a turbine")

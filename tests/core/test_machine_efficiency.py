@@ -188,6 +188,11 @@ def test_wrong_or_unavailable_loss_models():
     assert reasons(result) == ["loss_model 'lieblein_howell' is for a compressor, not a turbine"]
     with pytest.raises(ValueError, match="loss_model"):
         estimated(TURBINE, loss_model="kacker_okapuu")
+    # A field of the other machine's model is refused, not ignored.
+    assert reasons(estimated(TURBINE, tip_clearance_to_height=0.01))[0].startswith(
+        "tip_clearance_to_height does not apply to a turbine")
+    assert reasons(estimated(COMPRESSOR, thickness_to_chord=0.2))[0].startswith(
+        "thickness_to_chord does not apply to a compressor")
 
 
 def test_a_failed_first_pass_keeps_its_reason_beside_good_cases():
