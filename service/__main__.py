@@ -3,7 +3,6 @@
 from __future__ import annotations
 
 import argparse
-import json
 import sys
 from pathlib import Path
 
@@ -14,9 +13,9 @@ def spec_text() -> str:
     """The OpenAPI document exactly as committed under openapi/."""
     from service import __version__
     from service.api.registry import CALCULATIONS
-    from service.api.spec import build_spec
+    from service.api.spec import build_spec, document_text
 
-    return json.dumps(build_spec(list(CALCULATIONS), __version__), indent=2, ensure_ascii=False) + "\n"
+    return document_text(build_spec(list(CALCULATIONS), __version__))
 
 
 def _spec(args) -> int:

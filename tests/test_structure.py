@@ -103,8 +103,7 @@ def test_the_mechanism_and_the_declarations_import_without_flask_or_prometheus()
 
 API_FILES = sorted((SERVICE / "api").glob("*.py"))
 #: Functions above the bound that are being simplified now; this list only shrinks.
-KNOWN_COMPLEX = {"rows_payload", "triangles_figure", "QuantityList._deserialize", "by_columns", "_list",
-                 "_RowLayout.__init__", "answer_in_us"}
+KNOWN_COMPLEX = {"QuantityList._deserialize"}
 
 
 @pytest.mark.parametrize("path", API_FILES, ids=lambda p: p.name)

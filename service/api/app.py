@@ -6,16 +6,15 @@ import json
 import logging
 import math
 import os
-from collections import Counter
 from collections.abc import Mapping
 
-import orjson
 from flask import Blueprint, Flask, Response, current_app, request
 from werkzeug.exceptions import RequestEntityTooLarge
 
-from service.api import access, csvio, jsonparse, jsonwrite, memory, observability, outputs, query, units
+from service.api import access, csvio, memory, observability, outputs, query, units
 from service.api.calculation import run_calculation, run_drawing
 from service.api.declarations import Calculation
+from service.api.jsonprovider import ServiceJSONProvider
 from service.api.problem_responses import problem_response, register_error_handlers
 from service.api.problems import (
     MALFORMED,
@@ -83,6 +82,8 @@ def create_app(config: Mapping | None = None) -> Flask:
         :mod:`service.api.access`).
     """
     app = Flask(__name__)
+    # The one JSON boundary: request bodies read and answers written by current_app.json.
+    app.json = ServiceJSONProvider(app)
     app.config.update(load_config(config))
     # Werkzeug refuses a declared Content-Length above this; a chunked body is cut at it,
     # which read_json() treats as too large.
@@ -97,7 +98,7 @@ def create_app(config: Mapping | None = None) -> Flask:
     app.before_request(query.check_api_key_parameter)  # before access: a refused query key is a 400, not a 401
     access.init_app(app, configured=bool({"API_KEYS", "API_KEYS_FILE"} & set(config or {})))
 
-    spec_bytes = orjson.dumps(build_spec(list(CALCULATIONS), __version__))
+    spec_bytes = app.json.dumps(build_spec(list(CALCULATIONS), __version__)).encode("utf-8")
     blueprint = Blueprint("calculations", __name__)
     for calculation in CALCULATIONS:
         blueprint.add_url_rule(calculation.path, endpoint=calculation.name,
@@ -233,24 +234,7 @@ def _prefers_svg() -> bool:
 
 
 def _json(body) -> Response:
-    return jsonwrite.response(body)
-
-
-def _reject_duplicate_keys(pairs):
-    result = dict(pairs)
-    if len(result) != len(pairs):
-        counts = Counter(name for name, _ in pairs)  # linear: one count per name, not a scan per name
-        duplicates = sorted(name for name, count in counts.items() if count > 1)
-        shown = ", ".join(duplicates[:20]) + (f" and {len(duplicates) - 20} more" if len(duplicates) > 20 else "")
-        raise Problem(400, "Malformed JSON", f"Duplicate keys in one object: {shown}.", MALFORMED)
-    return result
-
-
-def _parse_int(text: str):
-    # An integer literal beyond int64 becomes a float (inf beyond the double range), so the fields
-    # report it as out of range or not finite; as a Python int it would overflow float() (a 500),
-    # or past 4300 digits fail inside the parser.
-    return int(text) if len(text) <= 18 else float(text)
+    return current_app.json.response(body)
 
 
 def _body_too_large() -> Problem:
@@ -263,10 +247,6 @@ def _too_large(error: RequestEntityTooLarge) -> Response:
     # A declared Content-Length over the limit gets the same answer as a chunked body cut at it
     # (werkzeug's own 413 came out as an about:blank problem).
     return problem_response(_body_too_large())
-
-
-def _parse_strictly(body: bytes):
-    return json.loads(body.decode("utf-8"), object_pairs_hook=_reject_duplicate_keys, parse_int=_parse_int)
 
 
 def _read_body(kind: str) -> bytes | bytearray:
@@ -310,7 +290,7 @@ def read_json():
                       f"Send the body as application/json, not {mimetype or 'no Content-Type'}.")
     body = _read_body("JSON")
     try:
-        return jsonparse.loads(body, strict=_parse_strictly)
+        return current_app.json.loads(body)
     except UnicodeDecodeError:
         raise Problem(400, "Malformed JSON", "The body is not UTF-8 text.", MALFORMED) from None
     except json.JSONDecodeError as error:
@@ -363,7 +343,7 @@ def _computes_known_case() -> bool:
         body, _ = run_calculation(calculation, {"machine": "compressor", "flow_coefficient": 0.5,
                                                 "loading_coefficient": 0.4, "reaction": 0.5, "blade_speed": 300.0}, 1)
         # Through the response encoder too, as a real answer goes.
-        answer = orjson.loads(_json(body).get_data())["alpha1"]
+        answer = current_app.json.loads(_json(body).get_data())["alpha1"]
         return math.isclose(answer, math.degrees(math.atan(0.6)), rel_tol=1e-12)
     except Exception:  # whatever breaks the self test means "not ready" (503), never a 500
         log.exception("readiness self test failed")

@@ -13,9 +13,9 @@ from __future__ import annotations
 from typing import Any
 
 from service.api import memory, outputs
-from service.api.choices import resolve_choices, split_by_options
+from service.api.choices import assumed_values, resolve_choices, split_by_options
 from service.api.declarations import Calculation
-from service.api.layout import CaseRows, ErrorsText, columns_body, rows_body, single_body
+from service.api.layout import CaseRows, ErrorsText, assumed_columns, columns_body, rows_body, single_body
 from service.api.outcome import chunks, evaluate, outcome_of, sliced
 from service.api.problems import Problem, invalid_input
 from service.api.rowstext import RowsText
@@ -53,7 +53,7 @@ def run_calculation(calculation: Calculation, payload: Any, max_cases: int, stre
     del payload
     outcomes = _computed(calculation, shape, groups, errors)
     if shape == "single":
-        body = single_body(calculation, outcomes[0])
+        body = single_body(calculation, *outcomes[0])
         return (body if select is None else outputs.restrict_case(calculation, select, body)), size
     if select is not None:
         outputs.restrict_outcomes(calculation, select, outcomes)
@@ -85,16 +85,17 @@ def _computed(calculation: Calculation, shape: str, groups: list, errors: list) 
             errors.extend(choice_errors)
             if taken is None or errors:
                 continue
+            data, assumed = assumed_values(calculation, taken, options, group.present, data)
             index = group.index[sub_index]
             if shape == "single":
-                outcomes.append(evaluate(calculation, options, data, len(index)))
+                outcomes.append((evaluate(calculation, options, data, len(index)), assumed))
                 continue
             # A chunk of cases at a time where the core's intermediates are large per case: only
             # one chunk's are alive at once, and each chunk is one outcome (as a group is).
             for start, stop in chunks(len(index), memory.chunk_cases(calculation.name)):
                 part = sliced(data, len(index), start, stop) if stop - start < len(index) else data
                 result = evaluate(calculation, options, part, stop - start)
-                outcomes.append(outcome_of(result, index[start:stop], calculation._integer_outputs))
+                outcomes.append(outcome_of(result, index[start:stop], calculation._integer_outputs, assumed))
                 del result, part
     if errors:
         raise invalid_input(errors)
@@ -109,8 +110,11 @@ def _batch_body(calculation: Calculation, shape: str, outcomes: list, size: int,
         if len(outcomes) > 1:
             case_errors.sort(key=lambda e: e["index"])
     if shape == "columns":
-        return {"columns": columns_body(calculation, outcomes, size), "errors": case_errors}
-    if stream and RowsText.takes(outcomes):
+        columns = columns_body(calculation, outcomes, size)
+        if calculation.defaults:
+            columns["assumed"] = assumed_columns(outcomes, size)
+        return {"columns": columns, "errors": case_errors}
+    if stream and RowsText.takes(outcomes) and not calculation.defaults:
         results = RowsText(calculation, outcomes, size)
     elif stream:
         results = CaseRows(calculation, outcomes, size)

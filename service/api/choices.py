@@ -57,23 +57,26 @@ def resolve_choices(calculation: Calculation, group: Group, options: dict, posit
     known = calculation._resolved.get(key) if key is not None else None
     if known is not None:
         return known, []
-    present = group.present
     errors = _pairing_errors(calculation, group, positions)
-    restricting = {name for choice in calculation.choices for a in choice.alternatives for name in a.when}
-    if not restricting <= set(options):
+    if not calculation.restricting_options <= set(options):
         return None, errors  # an option is missing or invalid: its own error says so
-    taken = {}
-    for choice in calculation.choices:
-        alternative, choice_errors = _resolve(choice, present, options, group, positions)
-        taken[choice.name] = alternative
-        errors += choice_errors
-    if not errors:
-        errors = _unmet_needs(calculation, taken, group, options, positions)
+    taken, choice_errors = _taken(calculation, group, options, positions)
+    errors += choice_errors or _unmet_needs(calculation, taken, group, options, positions)
     if errors:
         return None, errors
     if key is not None and len(calculation._resolved) < MAX_RESOLVED:
         calculation._resolved[key] = taken
     return taken, []
+
+
+def _taken(calculation: Calculation, group: Group, options: dict, positions: np.ndarray) -> tuple[dict, list]:
+    """The alternative each choice takes (None where it takes none), and the errors of those that don't."""
+    taken, errors = {}, []
+    defaulted = frozenset(name for name in calculation.defaults if calculation.default(name, options))
+    for choice in calculation.choices:
+        taken[choice.name], choice_errors = _resolve(choice, group.present, defaulted, options, group, positions)
+        errors += choice_errors
+    return taken, errors
 
 
 def _pairing_errors(calculation: Calculation, group: Group, positions: np.ndarray) -> list:
@@ -90,10 +93,15 @@ def _pairing_errors(calculation: Calculation, group: Group, positions: np.ndarra
     return errors
 
 
-def _resolve(choice: Choice, present: frozenset, options: dict, group: Group, positions: np.ndarray):
-    """The one alternative of ``choice`` that the fields given and the options pick, or the errors."""
-    scored = _scored(choice, present, options)
-    matches = [alternative for score, alternative, _, _ in scored if score == 0]
+def _resolve(choice: Choice, present: frozenset, defaulted: frozenset, options: dict, group: Group,
+             positions: np.ndarray):
+    """The one alternative of ``choice`` that the fields given and the options pick, or the errors.
+    A field with a default counts as given; among alternatives so complete, the one that needs the
+    fewest defaults is taken."""
+    scored = _scored(choice, present, defaulted, options)
+    matches = [(assumed, alternative) for score, alternative, _, _, assumed in scored if score == 0]
+    fewest_assumed = min((assumed for assumed, _ in matches), default=0)
+    matches = [alternative for assumed, alternative in matches if assumed == fewest_assumed]
     if len(matches) == 1:
         return matches[0], []
     if matches:  # a declaration whose alternatives overlap: a bug of this service, not of the request
@@ -101,22 +109,24 @@ def _resolve(choice: Choice, present: frozenset, options: dict, group: Group, po
     if not scored:
         return None, _no_alternative(choice, options, group, positions)
     # Among the nearest alternatives, the one that takes the fields given: a field given shows the intent.
-    fewest = min(score for score, *_ in scored)
-    _, _, missing, extra = min(scored, key=lambda item: (item[0], len(item[3])))
-    alternatives = "; or ".join(a.description for score, a, _, _ in scored if score == fewest)
+    fewest = min(item[0] for item in scored)
+    _, _, missing, extra, _ = min(scored, key=lambda item: (item[0], len(item[3])))
+    alternatives = "; or ".join(item[1].description for item in scored if item[0] == fewest)
     errors = _pointed(missing, f"Missing data for required field. Give {alternatives}.", group, positions)
     errors += _pointed(extra, f"Does not apply here. Give {alternatives}.", group, positions)
     return None, errors
 
 
-def _scored(choice: Choice, present: frozenset, options: dict) -> list[tuple]:
-    """(missing + surplus fields, alternative, missing, surplus) of every alternative the options allow."""
+def _scored(choice: Choice, present: frozenset, defaulted: frozenset, options: dict) -> list[tuple]:
+    """(missing + surplus fields, alternative, missing, surplus, defaults it needs) of every
+    alternative the options allow."""
     given = present & choice.fields
     scored = []
     for alternative in (a for a in choice.alternatives if a.applies(options)):
-        missing = [f for f in alternative.required if f not in present]
+        absent = [f for f in alternative.required if f not in present]
+        missing = [f for f in absent if f not in defaulted]
         extra = sorted(given - set(alternative.fields))
-        scored.append((len(missing) + len(extra), alternative, missing, extra))
+        scored.append((len(missing) + len(extra), alternative, missing, extra, len(absent) - len(missing)))
     return scored
 
 
@@ -167,3 +177,23 @@ def _ways_out(calculation: Calculation, choice: Choice, alternative: Alternative
 
 def choice_of(calculation: Calculation, name: str) -> Choice:
     return next(c for c in calculation.choices if c.name == name)
+
+
+def assumed_values(calculation: Calculation, taken: dict[str, Alternative], options: dict, present: frozenset,
+                   data: dict) -> tuple[dict, dict]:
+    """The inputs with the declared defaults filled in, and every default the cases take: the
+    declared ones, and the fields' own (options included) where the taken alternatives allow them.
+    Nothing is assumed for a calculation that declares no defaults."""
+    if not calculation.defaults:
+        return data, {}
+    allowed = calculation.allowed_fields_of(taken)
+    assumed, filled = {}, dict(data)
+    for name in calculation._case_schema.fields:
+        if name in present or name not in allowed:
+            continue
+        default = calculation.default(name, options)
+        if default is not None:
+            assumed[name] = filled[name] = default.value
+        elif data.get(name) is not None:
+            assumed[name] = data[name]  # the field's own default, loaded with the case
+    return filled, assumed

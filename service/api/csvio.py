@@ -41,23 +41,11 @@ def rows_payload(calculation, body: bytes | bytearray) -> dict:
         400 for text that is not UTF-8 or not CSV; 422 for a header that is empty or repeats a
         name, and for a line with more or fewer values than the header names.
     """
-    try:
-        text = bytes(body).decode("utf-8-sig")
-    except UnicodeDecodeError:
-        raise Problem(400, "Malformed CSV", "The body is not UTF-8 text.", MALFORMED_CSV) from None
-    reader = csv.reader(io.StringIO(text, newline=""), strict=True)
-    try:
-        lines = [(reader.line_num, row) for row in reader if row]
-    except csv.Error as error:
-        raise Problem(400, "Malformed CSV", f"The body is not valid CSV: line {reader.line_num}: {error}.",
-                      MALFORMED_CSV) from None
+    lines = _lines(body)
     if not lines:
         raise invalid_input([("", "The CSV body is empty: send a header line of field names and one case a line.")])
     header = [name.strip() for name in lines[0][1]]
-    errors = [("/cases", f"Header column {column + 1} is empty: name a field.")
-              for column, name in enumerate(header) if not name]
-    repeated = sorted({name for name in header if name and header.count(name) > 1})
-    errors += [("/cases", f"The header names {name} more than once.") for name in repeated]
+    errors = _header_errors(header)
     fields = calculation._case_schema.fields
     cases = []
     for index, (line, row) in enumerate(lines[1:]):
@@ -69,6 +57,29 @@ def rows_payload(calculation, body: bytes | bytearray) -> dict:
     if errors:
         raise invalid_input(errors)
     return {"cases": cases}
+
+
+def _lines(body: bytes | bytearray) -> list[tuple[int, list[str]]]:
+    """The non-empty lines of a CSV body, each with its line number (400 for text that is not
+    UTF-8 or not CSV)."""
+    try:
+        text = bytes(body).decode("utf-8-sig")
+    except UnicodeDecodeError:
+        raise Problem(400, "Malformed CSV", "The body is not UTF-8 text.", MALFORMED_CSV) from None
+    reader = csv.reader(io.StringIO(text, newline=""), strict=True)
+    try:
+        return [(reader.line_num, row) for row in reader if row]
+    except csv.Error as error:
+        raise Problem(400, "Malformed CSV", f"The body is not valid CSV: line {reader.line_num}: {error}.",
+                      MALFORMED_CSV) from None
+
+
+def _header_errors(header: list[str]) -> list[tuple[str, str]]:
+    """The problems of a header line: an empty name, a name given twice."""
+    errors = [("/cases", f"Header column {column + 1} is empty: name a field.")
+              for column, name in enumerate(header) if not name]
+    repeated = sorted({name for name in header if name and header.count(name) > 1})
+    return errors + [("/cases", f"The header names {name} more than once.") for name in repeated]
 
 
 def wants_csv(request) -> bool:
@@ -104,6 +115,9 @@ def _flat(prefix: str, value, into: dict) -> None:
     if isinstance(value, list):
         for position, item in enumerate(value):
             _flat(f"{prefix}.{position}", item, into)
+    elif isinstance(value, dict):  # the defaults a case took: assumed.NAME
+        for name, item in value.items():
+            _flat(f"{prefix}.{name}", item, into)
     else:
         into[prefix] = value
 

@@ -76,6 +76,28 @@ class Choice:
 
 
 @dataclass(frozen=True)
+class Default:
+    """A value assumed for a field the caller leaves out, echoed in the answer's ``assumed``.
+
+    Parameters
+    ----------
+    value : float or str
+        The value assumed.
+    basis : str
+        Why: "common practice" with its usual range, or the source.
+    when : mapping of str to tuple of str
+        Option values it applies to (a field may have one default per machine).
+    """
+
+    value: float | str
+    basis: str
+    when: Mapping[str, tuple[str, ...]] = field(default_factory=dict)
+
+    def applies(self, options: Mapping[str, str]) -> bool:
+        return all(options.get(name) in values for name, values in self.when.items())
+
+
+@dataclass(frozen=True)
 class Form:
     """One complete way of giving a case: an alternative of every choice (for tests and examples;
     the mechanism resolves choices one by one and never builds these)."""
@@ -130,6 +152,11 @@ class Calculation:
         Fields that are given all together or not at all.
     requires : tuple of (str, str)
         ``(field, needed)``: ``field`` may be given only with ``needed`` (not the other way round).
+    defaults : mapping of str to tuple of Default
+        Values assumed for fields left out (the first that applies to the options). A field of a
+        choice with a default counts as given when its alternative is judged, so that a choice left
+        out takes the alternative its defaults complete. A calculation that declares defaults
+        answers ``assumed``: every default it used, these and its fields' own (options included).
     """
 
     name: str
@@ -141,23 +168,13 @@ class Calculation:
     compute: Callable[[dict[str, str], dict[str, Any]], CaseResults]
     together: tuple[tuple[str, ...], ...] = ()
     requires: tuple[tuple[str, str], ...] = ()
+    defaults: Mapping[str, tuple[Default, ...]] = field(default_factory=dict)
     columns: bool = True  # whether the columns request shape is offered
     # ``render_svg(payload, body) -> str``: a drawing of one case, answered for ``Accept: image/svg+xml``.
     render_svg: Callable[[dict, dict], str] | None = None
 
     def __post_init__(self):
-        declared = set(self.schema().fields)
-        names = {choice.name for choice in self.choices}
-        for choice in self.choices:
-            for alternative in choice.alternatives:
-                unknown = (set(alternative.fields) | set(alternative.when)) - declared
-                unknown |= set(alternative.needs) - names
-                if unknown:
-                    raise ValueError(f"{choice.name}={alternative.value} of {self.name!r} names undeclared fields "
-                                     f"or choices {sorted(unknown)}")
-        shared = [f for a, b in combinations(self.choices, 2) for f in a.fields & b.fields]
-        if shared:
-            raise ValueError(f"fields {sorted(shared)} of {self.name!r} belong to more than one choice")
+        self._check_declaration()
         # Built once: schema instances, field lookups and load plans serve every request.
         case_schema, columns_schema = self.schema(), self.schema(columns=True)
         built = {
@@ -167,15 +184,37 @@ class Calculation:
                 name for name, f in self.outputs().fields.items() if type(f).__name__ == "Integer"),
             "_choice_fields": frozenset(f for choice in self.choices for f in choice.fields),
             "_option_fields": tuple(name for name, f in case_schema.fields.items() if isinstance(f, Option)),
+            "restricting_options": frozenset(
+                name for choice in self.choices for a in choice.alternatives for name in a.when),
             "_plans": {id(case_schema): load_plan(case_schema), id(columns_schema): load_plan(columns_schema)},
             "_resolved": {},  # (fields given, option values) -> the alternative of each choice
         }
         for name, value in built.items():
             object.__setattr__(self, name, value)
 
+    def _check_declaration(self) -> None:
+        """ValueError for a declaration that names fields or choices it does not have, or shares a
+        field between two choices (each field belongs to at most one)."""
+        declared = set(self.schema().fields)
+        names = {choice.name for choice in self.choices}
+        for choice in self.choices:
+            for alternative in choice.alternatives:
+                unknown = (set(alternative.fields) | set(alternative.when) | set(self.defaults)) - declared
+                unknown |= set(alternative.needs) - names
+                if unknown:
+                    raise ValueError(f"{choice.name}={alternative.value} of {self.name!r} names undeclared fields "
+                                     f"or choices {sorted(unknown)}")
+        shared = [f for a, b in combinations(self.choices, 2) for f in a.fields & b.fields]
+        if shared:
+            raise ValueError(f"fields {sorted(shared)} of {self.name!r} belong to more than one choice")
+
     @property
     def path(self) -> str:
         return f"/v1/{self.name}"
+
+    def default(self, name: str, options: Mapping[str, str]) -> Default | None:
+        """The default of field ``name`` that applies to ``options``, if any."""
+        return next((d for d in self.defaults.get(name, ()) if d.applies(options)), None)
 
     @property
     def choice_fields(self) -> frozenset[str]:
@@ -190,6 +229,11 @@ class Calculation:
         """The fields a case of ``form`` may give."""
         return frozenset((set(self._case_schema.fields) - self._choice_fields) | set(form.required)
                          | set(form.optional))
+
+    def allowed_fields_of(self, taken: Mapping[str, Alternative]) -> frozenset[str]:
+        """The fields a case may give with the alternatives ``taken`` (choice name -> alternative)."""
+        return frozenset((set(self._case_schema.fields) - self._choice_fields)
+                         | {f for alternative in taken.values() for f in alternative.fields})
 
     @property
     def forms(self) -> tuple[Form, ...]:

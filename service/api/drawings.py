@@ -137,44 +137,20 @@ def triangles_figure(payload: dict, body: dict):
     """
     import matplotlib
     from matplotlib.figure import Figure
-    from matplotlib.patches import FancyArrowPatch
 
     machine = payload["machine"]
     stations = (1, 2) if machine == "compressor" else (2, 3)
     names = {1: "rotor inlet", 2: "rotor exit", 3: "rotor exit"} if machine == "compressor" else \
         {2: "rotor inlet (stator exit)", 3: "rotor exit"}
-    u = body["blade_speed"]
     with matplotlib.rc_context(_STYLE):
         spanwise = f"Vx{stations[0]}_hub" in body
         figure = Figure(figsize=(9.0, 4.6 if spanwise else 3.9), layout="constrained")
         panels = figure.subplots(1, 2)
         for axes, k in zip(panels, stations, strict=True):
-            vx, vt, wt = body[f"Vx{k}"], body[f"Vtheta{k}"], body[f"Wtheta{k}"]
-            vectors = (
-                (f"V{k}", (0.0, 0.0), (vt, -vx), "black", f"V{k} = {body[f'V{k}']:.0f} m/s, "
-                 f"alpha{k} = {body[f'alpha{k}']:.1f} deg"),
-                (f"W{k}", (0.0, 0.0), (wt, -vx), ROTOR_COLOUR, f"W{k} = {body[f'W{k}']:.0f} m/s, "
-                 f"beta{k} = {body[f'beta{k}']:.1f} deg"),
-                (f"U{k}", (wt, -vx), (vt, -vx), STATOR_COLOUR, f"U = {u:.0f} m/s"),
-            )
-            for name, start, end, colour, label in vectors:
-                arrow = FancyArrowPatch(start, end, arrowstyle="-|>", mutation_scale=12, color=colour,
-                                        linewidth=1.5, shrinkA=0, shrinkB=0)
-                arrow.set_gid(f"vector-{name}")
-                axes.add_patch(arrow)
-                axes.plot([], [], color=colour, label=label)
+            _mean_triangle(axes, body, k)
             for end, style in _SPAN_STYLES:
-                if f"Vx{k}_{end}" not in body:
-                    continue
-                evx, evt, ewt = body[f"Vx{k}_{end}"], body[f"Vtheta{k}_{end}"], body[f"Wtheta{k}_{end}"]
-                for name, tip_point, colour in ((f"V{k}", (evt, -evx), "black"), (f"W{k}", (ewt, -evx), ROTOR_COLOUR)):
-                    arrow = FancyArrowPatch((0.0, 0.0), tip_point, arrowstyle="-|>", mutation_scale=8, color=colour,
-                                            linewidth=0.9, linestyle=style, alpha=0.7, shrinkA=0, shrinkB=0)
-                    arrow.set_gid(f"vector-{name}-{end}")
-                    axes.add_patch(arrow)
-                axes.plot([], [], color="0.4", linestyle=style,
-                          label=f"{end}: alpha{k} = {body[f'alpha{k}_{end}']:.1f} deg, "
-                                f"beta{k} = {body[f'beta{k}_{end}']:.1f} deg, U = {body[f'blade_speed_{end}']:.0f} m/s")
+                if f"Vx{k}_{end}" in body:
+                    _span_triangle(axes, body, k, end, style)
             axes.axhline(0.0, color="0.7", linewidth=0.5)
             axes.axvline(0.0, color="0.7", linewidth=0.5)
             axes.set_title(f"Station {k}: {names[k]}")
@@ -183,14 +159,54 @@ def triangles_figure(payload: dict, body: dict):
                         frameon=False)
             axes.grid(True, linewidth=0.3)
         panels[0].set_ylabel("axial velocity [m/s] (flow downwards)")
-        suffixes = [""] + [f"_{end}" for end, _ in _SPAN_STYLES if f"Vx{stations[0]}_{end}" in body]
-        swirls = [body[f"{c}theta{k}{s}"] for c in "VW" for k in stations for s in suffixes]
-        extent = max(abs(v) for v in swirls)
-        low, high = min(min(swirls), 0.0), max(max(swirls), 0.0)
-        for axes in panels:
-            axes.set_xlim(low - 0.1 * extent, high + 0.1 * extent)
-            axes.set_ylim(-1.15 * max(body[f"Vx{k}{s}"] for k in stations for s in suffixes), 0.1 * extent)
-            axes.set_aspect("equal", adjustable="box")
+        _set_limits(panels, body, stations)
         figure.suptitle(f"{machine.capitalize()} stage velocity triangles: phi = {body['flow_coefficient']:.3f}, "
                         f"psi = {body['loading_coefficient']:.3f}, R = {body['reaction']:.3f}")
         return figure
+
+
+def _mean_triangle(axes, body: dict, k: int) -> None:
+    """The mean-line V, W and U of station ``k``, each with its legend entry."""
+    from matplotlib.patches import FancyArrowPatch
+
+    vx, vt, wt = body[f"Vx{k}"], body[f"Vtheta{k}"], body[f"Wtheta{k}"]
+    vectors = (
+        (f"V{k}", (0.0, 0.0), (vt, -vx), "black", f"V{k} = {body[f'V{k}']:.0f} m/s, "
+         f"alpha{k} = {body[f'alpha{k}']:.1f} deg"),
+        (f"W{k}", (0.0, 0.0), (wt, -vx), ROTOR_COLOUR, f"W{k} = {body[f'W{k}']:.0f} m/s, "
+         f"beta{k} = {body[f'beta{k}']:.1f} deg"),
+        (f"U{k}", (wt, -vx), (vt, -vx), STATOR_COLOUR, f"U = {body['blade_speed']:.0f} m/s"),
+    )
+    for name, start, end, colour, label in vectors:
+        arrow = FancyArrowPatch(start, end, arrowstyle="-|>", mutation_scale=12, color=colour,
+                                linewidth=1.5, shrinkA=0, shrinkB=0)
+        arrow.set_gid(f"vector-{name}")
+        axes.add_patch(arrow)
+        axes.plot([], [], color=colour, label=label)
+
+
+def _span_triangle(axes, body: dict, k: int, end: str, style: str) -> None:
+    """The V and W of station ``k`` at the span end ``end`` (hub or tip), thinner, in ``style``."""
+    from matplotlib.patches import FancyArrowPatch
+
+    evx, evt, ewt = body[f"Vx{k}_{end}"], body[f"Vtheta{k}_{end}"], body[f"Wtheta{k}_{end}"]
+    for name, tip_point, colour in ((f"V{k}", (evt, -evx), "black"), (f"W{k}", (ewt, -evx), ROTOR_COLOUR)):
+        arrow = FancyArrowPatch((0.0, 0.0), tip_point, arrowstyle="-|>", mutation_scale=8, color=colour,
+                                linewidth=0.9, linestyle=style, alpha=0.7, shrinkA=0, shrinkB=0)
+        arrow.set_gid(f"vector-{name}-{end}")
+        axes.add_patch(arrow)
+    axes.plot([], [], color="0.4", linestyle=style,
+              label=f"{end}: alpha{k} = {body[f'alpha{k}_{end}']:.1f} deg, "
+                    f"beta{k} = {body[f'beta{k}_{end}']:.1f} deg, U = {body[f'blade_speed_{end}']:.0f} m/s")
+
+
+def _set_limits(panels, body: dict, stations: tuple[int, int]) -> None:
+    """The same scales on both panels, wide enough for every drawn swirl and axial velocity."""
+    suffixes = [""] + [f"_{end}" for end, _ in _SPAN_STYLES if f"Vx{stations[0]}_{end}" in body]
+    swirls = [body[f"{c}theta{k}{s}"] for c in "VW" for k in stations for s in suffixes]
+    extent = max(abs(v) for v in swirls)
+    low, high = min(min(swirls), 0.0), max(max(swirls), 0.0)
+    for axes in panels:
+        axes.set_xlim(low - 0.1 * extent, high + 0.1 * extent)
+        axes.set_ylim(-1.15 * max(body[f"Vx{k}{s}"] for k in stations for s in suffixes), 0.1 * extent)
+        axes.set_aspect("equal", adjustable="box")

@@ -67,6 +67,24 @@ def by_columns(body: bytes | bytearray) -> dict | None:
     is valid JSON exactly when all of these parts are, and holds the same values. A key given
     twice is left to the caller (the cut lists could not be put back by position).
     """
+    marks = _marks(body)
+    lists = _flat_lists(body, marks) if marks is not None else None
+    cut = [span for span in lists or () if span is not None]
+    if not cut:
+        return None
+    view = memoryview(body)
+    try:
+        value = orjson.loads(_without_lists(view, cut))
+    except orjson.JSONDecodeError:
+        return None
+    if type(value) is not dict or may_repeat_keys(body, value):
+        return None
+    return value if _put_back(body, view, value, lists) else None
+
+
+def _marks(body: bytes | bytearray) -> list[int] | None:
+    """The sorted positions of the quotes, brackets and braces in ``body``; None for a body with a
+    backslash (a quote may then be escaped) or more than :data:`_MAX_MARKS` marks (rows)."""
     marks = []
     for start in range(0, len(body), _PIECE_BYTES):
         stop = start + _PIECE_BYTES
@@ -78,6 +96,13 @@ def by_columns(body: bytes | bytearray) -> dict | None:
                 marks.append(i)
                 i = body.find(mark, i + 1, stop)
     marks.sort()
+    return marks
+
+
+def _flat_lists(body: bytes | bytearray, marks: list[int]) -> list[tuple[int, int] | None] | None:
+    """Each list that is a value of an object inside the top-level object, in order: the
+    positions of its brackets if nothing is nested in it, else None. None for marks that do not
+    balance (a malformed body)."""
     lists, stack, in_string = [], [], False
     for k, i in enumerate(marks):
         mark = body[i]
@@ -93,34 +118,36 @@ def by_columns(body: bytes | bytearray) -> dict | None:
             stack.append(mark)
         elif not stack or stack.pop() != (_OPEN_LIST if mark == _CLOSE_LIST else _OPEN_OBJECT):
             return None  # unbalanced: malformed
-    cut = [span for span in lists if span is not None]
-    if in_string or stack or not cut:
-        return None
-    view = memoryview(body)
+    return None if in_string or stack else lists
+
+
+def _without_lists(view: memoryview, cut: list[tuple[int, int]]) -> bytes:
+    """The text with each cut list written as ``[]``."""
     pieces, start = [], 0
     for first, last in cut:
         pieces += [view[start:first + 1], b"]"]
         start = last + 1
     pieces.append(view[start:])
-    try:
-        value = orjson.loads(b"".join(pieces))
-    except orjson.JSONDecodeError:
-        return None
-    if type(value) is not dict or may_repeat_keys(body, value):
-        return None
+    return b"".join(pieces)
+
+
+def _put_back(body, view: memoryview, value: dict, lists: list[tuple[int, int] | None]) -> bool:
+    """Each cut list parsed alone and put in its place in ``value`` (those of ``columns`` as float64
+    arrays where they hold numbers only); False where the text does not match the value's lists or
+    a list does not parse."""
     # Keys are unique, so each object keeps the order of the text: the lists found above, in order.
     places = [(inner, key) for inner in value.values() if type(inner) is dict
               for key, item in inner.items() if type(item) is list]
     if len(places) != len(lists):
-        return None
+        return False
     columns = value.get("columns")
     for (inner, key), span in zip(places, lists, strict=True):
         if span is not None:
             items = _list(body, view, *span, floats=inner is columns)
             if items is None:
-                return None
+                return False
             inner[key] = items
-    return value
+    return True
 
 
 def _list(body, view: memoryview, first: int, last: int, floats: bool) -> list | np.ndarray | None:
@@ -135,17 +162,26 @@ def _list(body, view: memoryview, first: int, last: int, floats: bool) -> list |
             break
         cuts.append(comma)
     cuts.append(last)
-    whole = len(cuts) == 2
+    if len(cuts) > 2:
+        return _pieces(body, view, cuts, floats)
+    try:
+        items = orjson.loads(view[first:last + 1])
+    except orjson.JSONDecodeError:
+        return None
+    if items and floats and _numbers_only(body, first, last):
+        return np.asarray(items, dtype=float)
+    return items  # the list as written (also where it is empty)
+
+
+def _pieces(body, view: memoryview, cuts: list[int], floats: bool) -> list | np.ndarray | None:
+    """The list cut at the commas ``cuts[1:-1]``, each piece parsed as a list of its own."""
     arrays, items = [], None
     for start, stop in zip(cuts, cuts[1:], strict=False):
-        text = view[first:last + 1] if whole else b"".join((b"[", view[start + 1:stop], b"]"))
         try:
-            part = orjson.loads(text)
+            part = orjson.loads(b"".join((b"[", view[start + 1:stop], b"]")))
         except orjson.JSONDecodeError:
             return None
-        if whole and not part:  # the list as written is empty
-            return part
-        if not part:
+        if not part:  # an empty piece: a comma too many
             return None
         if items is None and floats and _numbers_only(body, start, stop):
             arrays.append(np.asarray(part, dtype=float))

@@ -137,10 +137,12 @@ def case_body(calculation: Calculation, outcome: Outcome, i: int) -> dict:
         else:
             body[name] = _scalar(calculation, name, array[i])
     body["checks"] = {name: _check_entry(check, i) for name, check in outcome.checks.items()}
+    if calculation.defaults:
+        body["assumed"] = outcome.assumed
     return body
 
 
-def single_body(calculation: Calculation, result: CaseResults) -> dict:
+def single_body(calculation: Calculation, result: CaseResults, assumed: dict | None = None) -> dict:
     """The response to one case, from Python floats taken once out of the core's arrays.
 
     A quick look proves the usual case sound (no failure, every output finite); anything else is
@@ -154,10 +156,13 @@ def single_body(calculation: Calculation, result: CaseResults) -> dict:
     values = _plain_values(calculation, result)
     checks = _plain_checks(result) if values is not None else None
     if checks is None:
-        return _single_body_of(calculation, outcome_of(result, np.zeros(1, dtype=int), calculation._integer_outputs))
+        return _single_body_of(calculation, outcome_of(result, np.zeros(1, dtype=int), calculation._integer_outputs,
+                                                       assumed))
     integer = calculation._integer_outputs
     body = {name: int(value) if name in integer else value for name, value in values.items()}
     body["checks"] = checks
+    if calculation.defaults:
+        body["assumed"] = assumed
     return body
 
 
@@ -206,7 +211,8 @@ def rows_body(calculation: Calculation, outcomes: list[Outcome], size: int) -> l
     results: list = [None] * size
     for outcome in outcomes:
         names = list(outcome.values)
-        simple = all(a.ndim == 1 for a in outcome.values.values()) and not calculation._integer_outputs
+        simple = (all(a.ndim == 1 for a in outcome.values.values()) and not calculation._integer_outputs
+                  and not calculation.defaults)
         if simple:
             # Fast path: one tolist() per column instead of one numpy scalar per value.
             columns = [outcome.values[n].tolist() for n in names]
@@ -257,6 +263,21 @@ def columns_body(calculation: Calculation, outcomes: list[Outcome], size: int) -
         for name, merged in checks.items()
     }
     return body
+
+
+def assumed_columns(outcomes: list[Outcome], size: int) -> dict:
+    """The defaults a columns batch took: one value where every case took the same, else one per
+    case (null where a case gave the field)."""
+    names = list(dict.fromkeys(name for outcome in outcomes for name in outcome.assumed))
+    columns = {}
+    for name in names:
+        values = np.full(size, None, dtype=object)
+        for outcome in outcomes:
+            if name in outcome.assumed:
+                values[outcome.index] = outcome.assumed[name]
+        distinct = set(values.tolist())
+        columns[name] = distinct.pop() if len(distinct) == 1 and None not in distinct else values.tolist()
+    return columns
 
 
 def _pad(array: np.ndarray, width: int) -> np.ndarray:

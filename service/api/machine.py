@@ -18,14 +18,23 @@ from service.api.common import (
     shaft_speed_field,
     stage_count_choice,
 )
-from service.api.declarations import Alternative, Calculation, Choice
+from service.api.declarations import Alternative, Calculation, Choice, Default
 from service.api.fields import Option, Quantity, QuantityPerStage
-from service.core import flowpath, gas, machine_span, zweifel
+from service.core import flowpath, gas, machine_defaults, machine_span, zweifel
 from service.core import machine as design
 from service.core import machine_efficiency as estimated
 
 #: How the stages' efficiencies are found.
 EFFICIENCIES = ("given", "estimated")
+
+
+def _defaulted(description: str, name: str) -> str:
+    """``description`` with the default assumed where the field is left out, before its unit."""
+    words = ", ".join(f"{machine} {value:g}" for machine, value in machine_defaults.DEFAULTS[name].items()
+                      if value is not None)
+    text, unit = description.rsplit(" [", 1)
+    return (f"{text} Default where left out: {words} ({machine_defaults.COMMON_PRACTICE}, echoed in "
+            f"`assumed`). [{unit}")
 
 
 class MachineInput(StageSplitInputs):
@@ -58,25 +67,28 @@ class MachineInput(StageSplitInputs):
     mean_radius = length("Mean radius, held constant through the machine. [m]")
     hub_radius = length("Hub radius, held constant through the machine. [m]")
     tip_radius = length("Tip (casing) radius, held constant through the machine. [m]")
-    max_loading_coefficient = positive(
+    max_loading_coefficient = positive(_defaulted(
         "Largest stage loading coefficient (work / blade_speed^2, at each stage's own blade speed) allowed; the "
-        "fewest stages that keep every stage within it are found. [-]", "-")
-    flow_coefficient = QuantityPerStage(
+        "fewest stages that keep every stage within it are found. [-]", "max_loading_coefficient"), "-")
+    flow_coefficient = QuantityPerStage(_defaulted(
         "Flow coefficient V_x / U at each stage's mean radius: one value for every stage or a list, front to "
-        "rear; at least 1e-6. [-]", "-", **RATIO_LIMITS, required=True)
-    reaction = QuantityPerStage(
+        "rear; at least 1e-6. [-]", "flow_coefficient"), "-", **RATIO_LIMITS)
+    reaction = QuantityPerStage(_defaulted(
         "Reaction of each stage: one value for every stage or a list, front to rear. For a compressor given "
-        "inlet_swirl, the first stage's reaction follows from the swirl and replaces the first value. [-]", "-",
-        minimum=-2.0, maximum=3.0, required=True)
+        "inlet_swirl, the first stage's reaction follows from the swirl and replaces the first value. [-]",
+        "reaction"), "-", minimum=-2.0, maximum=3.0)
     inlet_swirl = angle("Absolute flow angle at the machine inlet (station 1). Compressor: sets the first "
                         "stage's reaction (default: the angle follows from it). Turbine: the first nozzle's inlet "
                         "angle (default: the first rotor's exit angle).")
     outlet_swirl = angle("Compressor: absolute flow angle after the last stator (default: the inlet flow angle).")
-    rotor_aspect_ratio = ratio("Blade height over axial chord of every rotor row. [-]", required=True)
-    stator_aspect_ratio = ratio("Blade height over axial chord of every stator row. [-]", required=True)
+    rotor_aspect_ratio = ratio(_defaulted("Blade height over axial chord of every rotor row. [-]",
+                                          "rotor_aspect_ratio"))
+    stator_aspect_ratio = ratio(_defaulted("Blade height over axial chord of every stator row. [-]",
+                                           "stator_aspect_ratio"))
     zweifel_coefficient = ratio("Turbine rows: target Zweifel coefficient, incompressible (default 0.8). [-]",
                                 load_default=zweifel.OPTIMUM_ZWEIFEL_COEFFICIENT)
-    target_diffusion_factor = Quantity("Compressor rows: diffusion factor to size every row's solidity for. [-]",
+    target_diffusion_factor = Quantity(_defaulted("Compressor rows: diffusion factor to size every row's solidity for. "
+                                                  "[-]", "target_diffusion_factor"),
                                        "-", minimum=0.0, maximum=1.0, exclusive_minimum=True,
                                        exclusive_maximum=True)
     solidity = ratio("Compressor rows: solidity (chord over pitch) of every row; the blade count is rounded "
@@ -273,6 +285,16 @@ def _compute(options: dict, inputs: dict):
     )
 
 
+#: What is assumed where the caller leaves a blade-sizing input out (service.core.machine_defaults).
+DEFAULTS = {
+    name: tuple(Default(value, machine_defaults.BASIS[name], when={"machine": (machine,)})
+                for machine, value in per_machine.items() if value is not None)
+    for name, per_machine in machine_defaults.DEFAULTS.items()
+    if name in ("flow_coefficient", "reaction", "max_loading_coefficient", "rotor_aspect_ratio",
+                "stator_aspect_ratio", "target_diffusion_factor")
+}
+
+
 def _render_svg(payload: dict, body: dict) -> str:
     from service.api import drawings
 
@@ -323,6 +345,7 @@ CALCULATION = Calculation(
     outputs=MachineOutput,
     choices=(RADIUS, stage_count_choice(blade_speed=False), WORK_SPLIT, ROWS, EFFICIENCY),
     compute=_compute,
+    defaults=DEFAULTS,
     columns=False,
     render_svg=_render_svg,
 )

@@ -6,7 +6,7 @@ the failed cases' outputs become NaN (written as null).
 
 from __future__ import annotations
 
-from dataclasses import dataclass
+from dataclasses import dataclass, field
 from typing import TYPE_CHECKING, Any
 
 import numpy as np
@@ -25,6 +25,7 @@ class Outcome:
     checks: dict[str, Any]
     reason: np.ndarray  # per case: 0 where it succeeded, else 1 + its position in ``reasons``
     reasons: list[str | None]  # None for a reason with a number per case: its texts come later in the list
+    assumed: dict[str, Any] = field(default_factory=dict)  # the defaults these cases took
 
     def errors(self) -> list[dict]:
         """``{"index", "detail"}`` of every failed case, found with numpy rather than a loop."""
@@ -67,7 +68,7 @@ def evaluate(calculation: Calculation, options: dict, data: dict, size: int) -> 
         return calculation.compute(options, inputs)
 
 
-def outcome_of(result: CaseResults, index: np.ndarray, integer_outputs=frozenset()) -> Outcome:
+def outcome_of(result: CaseResults, index: np.ndarray, integer_outputs=frozenset(), assumed=None) -> Outcome:
     """Failures as reason codes (judged by the core's :func:`~service.core.cases.failure_codes`),
     failed cases masked to NaN, statuses as shared objects: whole-array operations, none a loop
     over the cases."""
@@ -84,7 +85,7 @@ def outcome_of(result: CaseResults, index: np.ndarray, integer_outputs=frozenset
     if failed_cases.size:
         values = {name: _blanked(a, failed_cases, name in own) for name, a in values.items()}
     checks = {name: _check_of(check, failed, failed_cases) for name, check in result.checks.items()}
-    return Outcome(index=index, values=values, checks=checks, reason=reason, reasons=reasons)
+    return Outcome(index=index, values=values, checks=checks, reason=reason, reasons=reasons, assumed=assumed or {})
 
 
 def _check_of(check, failed: np.ndarray, failed_cases: np.ndarray) -> dict:

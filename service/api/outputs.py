@@ -124,6 +124,8 @@ def restrict_case(calculation, selection: Selection, body: dict) -> dict:
     outputs, checks = selection.outputs, selection.checks
     restricted = {name: value for name, value in body.items() if name in outputs}
     restricted["checks"] = {name: check for name, check in body.get("checks", {}).items() if name in checks}
+    if "assumed" in body:  # what the case took as given stays with any selection
+        restricted["assumed"] = body["assumed"]
     return restricted
 
 

@@ -4,10 +4,10 @@ from __future__ import annotations
 
 import logging
 
-import orjson
 from flask import Flask, Response, has_request_context
 from werkzeug.exceptions import HTTPException
 
+from service.api.jsonprovider import dumps_bytes
 from service.api.observability import request_id
 from service.api.problems import INTERNAL, MAX_LISTED_ERRORS, PROBLEM_TYPE, TOO_LARGE, Problem
 
@@ -35,7 +35,7 @@ def problem_response(problem: Problem, extra_headers=None, identifier: str | Non
         body["request_id"] = request_id()
     elif identifier is not None:
         body["request_id"] = identifier
-    response = Response(orjson.dumps(body), status=problem.status, mimetype=PROBLEM_TYPE)
+    response = Response(dumps_bytes(body), status=problem.status, mimetype=PROBLEM_TYPE)
     response.headers["Cache-Control"] = "no-store"
     for name, value in (extra_headers or {}).items():
         response.headers[name] = value

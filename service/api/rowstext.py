@@ -143,22 +143,9 @@ class _RowLayout:
     and basis."""
 
     def __init__(self, outcome, integer_outputs: frozenset):
-        items: list = []
         columns: dict[tuple, list[_Column]] = {}
-        for k, (name, array) in enumerate(outcome.values.items()):
-            items += [(b"{" if k == 0 else b",") + orjson.dumps(name) + b":",
-                      _shared(columns, _Column(array, name in integer_outputs))]
-        items.append((b"," if outcome.values else b"{") + b'"checks":{')
-        for k, (name, check) in enumerate(outcome.checks.items()):
-            items += [(b"," if k else b"") + orjson.dumps(name) + b':{"value":',
-                      _shared(columns, _Column(check["value"], False)),
-                      b',"limit":' + orjson.dumps(check["limit"], option=NUMPY)
-                      + b',"fail_limit":' + orjson.dumps(check["fail_limit"], option=NUMPY)
-                      + b',"comparison":' + orjson.dumps(check["comparison"], option=NUMPY) + b',"status":',
-                      _Status(check["status"]),
-                      b',"basis":' + orjson.dumps(check["basis"], option=NUMPY) + b"}"]
-        items.append(b"}}")
-        items = [item.decode(BYTES) if isinstance(item, bytes) else item for item in items]
+        items = [item.decode(BYTES) if isinstance(item, bytes) else item
+                 for item in _case_items(outcome, integer_outputs, columns)]
         constants = {id(column): column.constant_text() for same in columns.values() for column in same}
         parts = _merged(constants.get(id(item)) or item if isinstance(item, _Column) else item for item in items)
         #: The parts of one case: its texts in place, None where a slot goes.
@@ -176,6 +163,32 @@ class _RowLayout:
                 tokens = texts[id(slot)] = slot.tokens(lo, hi)
             parts[position::width] = tokens
         return parts
+
+
+def _case_items(outcome, integer_outputs: frozenset, columns: dict[tuple, list[_Column]]) -> list:
+    """One case's object as texts (bytes) and slots, in the order of the dict layout; equal
+    columns are listed once in ``columns`` and shared."""
+    items: list = []
+    for k, (name, array) in enumerate(outcome.values.items()):
+        items += [(b"{" if k == 0 else b",") + orjson.dumps(name) + b":",
+                  _shared(columns, _Column(array, name in integer_outputs))]
+    items.append((b"," if outcome.values else b"{") + b'"checks":{')
+    for k, (name, check) in enumerate(outcome.checks.items()):
+        items += _check_items((b"," if k else b"") + orjson.dumps(name), check, columns)
+    items.append(b"}}")
+    return items
+
+
+def _check_items(key: bytes, check: dict, columns: dict[tuple, list[_Column]]) -> list:
+    """A check's member (its key ``key`` already written with the separator before it): the value
+    slot, the limit, fail_limit and comparison texts, the status slot and the basis."""
+    return [key + b':{"value":',
+            _shared(columns, _Column(check["value"], False)),
+            b',"limit":' + orjson.dumps(check["limit"], option=NUMPY)
+            + b',"fail_limit":' + orjson.dumps(check["fail_limit"], option=NUMPY)
+            + b',"comparison":' + orjson.dumps(check["comparison"], option=NUMPY) + b',"status":',
+            _Status(check["status"]),
+            b',"basis":' + orjson.dumps(check["basis"], option=NUMPY) + b"}"]
 
 
 def _shared(columns: dict[tuple, list[_Column]], column: _Column) -> _Column:

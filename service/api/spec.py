@@ -2,13 +2,17 @@
 
 from __future__ import annotations
 
+import json
+import threading
+
 from apispec import APISpec
 from apispec.ext.marshmallow import MarshmallowPlugin
 
 from service.api import units
-from service.api.declarations import Alternative, Calculation, Choice
+from service.api.declarations import Calculation
 from service.api.fields import Option, Quantity, QuantityList, QuantityPerStage
 from service.api.keys import API_KEY_HEADER, REALM
+from service.api.spec_requests import assumed_schema, request_schema
 from service.core.checks import COMPARISONS, STATUSES
 
 TITLE = "Meanline service"
@@ -17,6 +21,38 @@ CAUTION = (
     "to be confirmed by detailed analysis and test, under the codes and the licensed engineering "
     "practice that apply where the machine is built and run."
 )
+SELECTION_NOTE = (
+    "One case, rows or columns. Beside the case's fields, the `cases` or the `columns`, `outputs` (a list of "
+    "output names, `checks.NAME`, `checks.NAME.status` or `checks.NAME.value`) restricts the answer to those "
+    "outputs and checks, and `units: \"us\"` answers in US customary units. Any input quantity may be a string "
+    "with its unit (`\"30 mm\"`, `\"14.696 psi\"`), converted to the field's `x-unit`.")
+UNITS_DESCRIPTION = (
+    "`si` (the default) or `us`: every output in US customary units, the unit of each given as `x-unit-us` in "
+    "this document (ft, ft s^-1, degR, lbf in^-2, lb s^-1, Btu lb^-1, hp, ...); check values are dimensionless "
+    "and stay as they are.")
+CSV_REQUEST = (
+    "Rows as CSV (RFC 4180): a header line of field names, then one case a line; an empty cell leaves the field "
+    "out; a list is one quoted cell of comma-separated numbers. Problems point at `/cases/i/field`: case i is "
+    "line i + 2 of the file.")
+CSV_ANSWER_NOTE = (
+    "With `Accept: text/csv` the answer is a header line, then one line per case: `case`, each output (a list "
+    "output as `NAME.0`, `NAME.1`, ...), each default taken as `assumed.NAME`, each check's status as "
+    "`checks.NAME.status`, and `error` (why the case failed, else empty).")
+GET_NOTE = (
+    "The GET form of one case, for spreadsheet cells (WEBSERVICE) and plain URLs: the query holds the fields of "
+    "a one-case body, one parameter each (a list comma-separated, repeated, or both). A value that is a JSON "
+    "number is that number; any other value is a string (an option, or a quantity with its unit: `30 mm`). "
+    "Validated and computed as the one-case body; each problem entry keeps the pointer into that body and names "
+    "the `parameter`. With one `output` name the answer is `text/plain` holding that value (a list as values "
+    "separated by commas); otherwise the JSON answer of one case, or CSV with `Accept: text/csv`. HEAD answers "
+    "the same headers without the body; OPTIONS lists the methods. An API key may be sent as the query parameter "
+    "`api_key`, for spreadsheet cells that cannot send a header, only where the operator allows it "
+    "(MEANLINE_API_KEYS_IN_QUERY=1), since a key in a URL is seen by proxies, browser histories and logs; "
+    "elsewhere that parameter is refused (400) on every path.")
+
+
+# The notes that hold for every calculation are written once, as sections of the document's
+# description; the operations refer to them by their headings.
 DESCRIPTION = (
     "Meanline (mean-radius) preliminary-design calculations of axial compressors and turbines. "
     "SI units throughout, angles in degrees from the axial direction, tangential quantities positive "
@@ -25,7 +61,11 @@ DESCRIPTION = (
     "case). In a batch, a physically impossible case gets null outputs and an entry in `errors`; "
     "malformed input fails the whole request with 422 and a JSON Pointer to every offending field.\n\n"
     + CAUTION
+    + "\n\n## Requests\n\n" + SELECTION_NOTE
+    + "\n\n## CSV\n\n" + CSV_REQUEST + " " + CSV_ANSWER_NOTE
+    + "\n\n## The GET form\n\n" + GET_NOTE
 )
+CSV_ANSWER = {"schema": {"type": "string", "description": "With `Accept: text/csv`: one line per case (see CSV)."}}
 
 
 def _number_schema(field: Quantity) -> dict:
@@ -35,10 +75,6 @@ def _number_schema(field: Quantity) -> dict:
     if field.maximum is not None:
         schema["exclusiveMaximum" if field.exclusive_maximum else "maximum"] = field.maximum
     return schema
-
-
-def _one_or_column(schema: dict) -> dict:
-    return {"oneOf": [schema, {"type": "array", "items": schema, "minItems": 1}]}
 
 
 def case_field_property(self, field, ret, **kwargs) -> dict:
@@ -55,133 +91,78 @@ def case_field_property(self, field, ret, **kwargs) -> dict:
         schema = {"oneOf": [item, {"type": "array", "items": item, "minItems": 1}]}
     else:
         schema = {"type": "array", "items": _number_schema(field.item), "minItems": 1}
-    columns = bool(getattr(field.parent, "columns", False))
-    schema = _one_or_column(schema) if columns else schema
     unit = getattr(field, "unit", None) or getattr(getattr(field, "item", None), "unit", None)
     return {**schema, "x-unit-us": units.us_unit(unit)} if unit else schema
 
 
 def build_spec(calculations: list[Calculation], version: str) -> dict:
-    """The whole OpenAPI document as a dict."""
+    """The whole OpenAPI document as a dict.
+
+    Every schema is written once and referred to: an input field is one component (its column
+    form refers to it), an output is one component (a result and a columns result refer to it; an
+    output that two calculations share is the first one's), a GET parameter refers to its field.
+    """
     plugin = MarshmallowPlugin()
     spec = APISpec(title=TITLE, version=version, openapi_version="3.1.0", plugins=[plugin],
-                   info={"description": DESCRIPTION})
+                   info={"description": DESCRIPTION},
+                   servers=[{"url": "/", "description": "The service that serves this document."}])
     plugin.converter.add_attribute_function(case_field_property)
     _add_common_components(spec)
-    for calculation in calculations:
-        _add_calculation(spec, plugin, calculation)
+    outputs: dict[str, str] = {}
+    with _BUILDING:
+        _FIELD_NAMES.clear()
+        for calculation in calculations:
+            _add_calculation(spec, plugin, calculation, outputs)
     _add_service_paths(spec)
     return spec.to_dict()
 
 
+#: The component of each (calculation prefix, field name, shape) of the document being built:
+#: ``Field_{name}`` / ``ColumnField_{name}`` for the first calculation with that field, and every
+#: other whose field is the same (the gas and inlet fields, stage-efficiency's flow fields);
+#: ``{prefix}Field_{name}`` for a field of the same name and another schema. Filled by
+#: _field_components, read by _field_component; build_spec holds _BUILDING meanwhile.
+_FIELD_NAMES: dict[tuple[str, str, str], str] = {}
+_BUILDING = threading.Lock()
+
+
 def _field_components(spec: APISpec, plugin, prefix: str, calculation: Calculation) -> None:
-    """One component per input field and shape, so the mode schemas only reference them."""
-    shapes = (("", calculation._case_schema), ("Column", calculation._columns_schema))
-    for shape, schema in shapes if calculation.columns else shapes[:1]:
-        for name, field in schema.fields.items():
-            spec.components.schema(_field_component(prefix, name, shape),
-                                   component=plugin.converter.field2property(field))
+    """One component per input field, so the mode schemas only reference them; a column field
+    (one value for every case, or one per case) refers to the one-case field. A field that an
+    earlier calculation has already is that one's component."""
+    written = spec.components.schemas
+    for name, field in calculation._case_schema.fields.items():
+        prop = plugin.converter.field2property(field)
+        shared = f"Field_{name}"
+        component = shared if written.get(shared, prop) == prop else f"{prefix}Field_{name}"
+        _FIELD_NAMES[prefix, name, ""] = component
+        if component not in written:
+            spec.components.schema(component, component=prop)
+    if calculation.columns:
+        for name in calculation._columns_schema.fields:
+            one = _FIELD_NAMES[prefix, name, ""]
+            component = "Column" + one if one.startswith("Field_") else f"{prefix}ColumnField_{name}"
+            _FIELD_NAMES[prefix, name, "Column"] = component
+            if component not in written:
+                ref = _ref(one)
+                spec.components.schema(component, component={
+                    "oneOf": [ref, {"type": "array", "items": ref, "minItems": 1}]})
 
 
 def _field_component(prefix: str, name: str, shape: str) -> str:
-    return f"{prefix}{shape}Field_{name}"
-
-
-def _request_schema(prefix: str, calculation: Calculation, shape: str) -> dict:
-    """One object of every field, with one small ``oneOf`` per choice (``allOf`` of them)."""
-    schema = calculation._columns_schema if shape else calculation._case_schema
-    body = {"type": "object",
-            "properties": {name: _ref(_field_component(prefix, name, shape)) for name in schema.fields},
-            "required": [name for name, f in schema.fields.items() if f.required], "additionalProperties": False}
-    constraints = [_choice_schema(calculation, choice, shape) for choice in calculation.choices]
-    constraints += [need for choice in calculation.choices for alternative in choice.alternatives
-                    for need in _needs_schemas(calculation, choice, alternative)]
-    if constraints:
-        body["allOf"] = constraints
-    dependent = _dependent_required(calculation)
-    if dependent:
-        body["dependentRequired"] = dependent
-    return body
-
-
-def _dependent_required(calculation: Calculation) -> dict[str, list[str]]:
-    """Fields given together, and fields given only with another."""
-    dependent = {f: [g for g in group if g != f] for group in calculation.together for f in group}
-    for field_name, needed in calculation.requires:
-        dependent.setdefault(field_name, []).append(needed)
-    return dependent
-
-
-def _choice_schema(calculation: Calculation, choice: Choice, shape: str) -> dict:
-    return {"description": f"`{choice.name}`: {choice.description}; give exactly one of these.",
-            "oneOf": [_alternative_schema(calculation, choice, alternative, shape)
-                      for alternative in choice.alternatives]}
-
-
-def _alternative_schema(calculation: Calculation, choice: Choice, alternative: Alternative, shape: str) -> dict:
-    """The alternative's own fields required, the other alternatives' fields absent and the option
-    values it applies to (in columns one value or a list of them: a batch whose cases differ in an
-    option that an alternative depends on is accepted by the service but not by this schema)."""
-    schema = {"title": alternative.value, "description": f"Give {alternative.description}."}
-    required = list(alternative.required)
-    if alternative.when:
-        fields = calculation._case_schema.fields
-        schema["properties"] = {option: _option_values(list(values), shape)
-                                for option, values in alternative.when.items()}
-        required += [option for option, values in alternative.when.items() if fields[option].load_default not in values]
-    if required:
-        schema["required"] = required
-    others = sorted(choice.fields - set(alternative.fields))
-    if others:
-        schema["not"] = {"anyOf": [{"required": [name]} for name in others]}
-    return schema
-
-
-def _option_values(values: list, shape: str) -> dict:
-    return {"oneOf": [{"enum": values}, {"type": "array", "items": {"enum": values}}]} if shape else {"enum": values}
-
-
-def _needs_schemas(calculation: Calculation, choice: Choice, alternative: Alternative) -> list[dict]:
-    """Where an alternative is taken, one of the alternatives it needs of another choice is too."""
-    schemas = []
-    for other_name, values in alternative.needs.items():
-        other = next(c for c in calculation.choices if c.name == other_name)
-        condition = {"required": list(alternative.required)}
-        others = sorted(choice.fields - set(alternative.fields))
-        if others:
-            condition["not"] = {"anyOf": [{"required": [name]} for name in others]}
-        schemas.append({"if": condition, "then": {
-            "description": f"{alternative.value} needs {other_name} " + " or ".join(values) + ".",
-            "anyOf": [{"required": list(other.alternative(v).required)} for v in values]}})
-    return schemas
+    return _FIELD_NAMES[prefix, name, shape]
 
 
 def _ref(name: str) -> dict:
     return {"$ref": f"#/components/schemas/{name}"}
 
 
-def _add_calculation(spec: APISpec, plugin, calculation: Calculation) -> None:
-    prefix = "".join(part.capitalize() for part in calculation.name.replace("-", "_").split("_"))
-    _field_components(spec, plugin, prefix, calculation)
-    spec.components.schema(f"{prefix}Case", component=_request_schema(prefix, calculation, ""))
-    if calculation.columns:
-        spec.components.schema(f"{prefix}Columns", component=_request_schema(prefix, calculation, "Column"))
-    selection = _selection_schema(calculation)
-    shapes = [
-        _ref(f"{prefix}Case"),
-        {"type": "object", "title": "Rows", "properties": {
-            "cases": {"type": "array", "items": _ref(f"{prefix}Case"), "minItems": 1}, "outputs": selection,
-            "units": UNITS_MEMBER},
-         "required": ["cases"], "additionalProperties": False},
-    ]
-    if calculation.columns:
-        shapes.append({"type": "object", "title": "Columns", "properties": {"columns": _ref(f"{prefix}Columns"),
-                                                                            "outputs": selection,
-                                                                            "units": UNITS_MEMBER},
-                       "required": ["columns"], "additionalProperties": False})
-    spec.components.schema(f"{prefix}Request", component={"oneOf": shapes})
 
-    outputs = {}
+
+def _output_components(spec: APISpec, plugin, prefix: str, calculation: Calculation, known: dict[str, str]) -> dict:
+    """A reference to one component per output, by output name: ``Output_{name}``. An output that an
+    earlier calculation already has (stage-efficiency answers the triangles' outputs) refers to that one."""
+    refs = {}
     for name, field in calculation.outputs().fields.items():
         prop = plugin.converter.field2property(field)
         if "x-unit" in prop:  # the unit of answers asked for with units=us
@@ -190,72 +171,120 @@ def _add_calculation(spec: APISpec, plugin, calculation: Calculation) -> None:
             item = prop.get("type", "number")
             # Entries that may not apply (a rotor-frame value at a station without a rotor) are null.
             item = [item, "null"] if prop.pop("x-null-entries", False) else item
-            outputs[name] = {**prop, "type": ["array", "null"], "items": {"type": item}}
+            prop = {**prop, "type": ["array", "null"], "items": {"type": item}}
         else:
-            outputs[name] = {**prop, "type": [prop.get("type", "number"), "null"]}
+            prop = {**prop, "type": [prop.get("type", "number"), "null"]}
+        key = json.dumps([name, prop], sort_keys=True)
+        if key not in known:
+            # The first calculation to answer an output names it; another with the same name
+            # but another meaning is told apart by its calculation.
+            taken = f"Output_{name}" in known.values()
+            known[key] = f"{prefix}Output_{name}" if taken else f"Output_{name}"
+            spec.components.schema(known[key], component=prop)
+        refs[name] = _ref(known[key])
+    return refs
+
+
+def _add_calculation(spec: APISpec, plugin, calculation: Calculation, known_outputs: dict[str, str]) -> None:
+    prefix = "".join(part.capitalize() for part in calculation.name.replace("-", "_").split("_"))
+    _field_components(spec, plugin, prefix, calculation)
+    for shape, suffix in (("", "Case"), ("Column", "Columns")) if calculation.columns else (("", "Case"),):
+        spec.components.schema(f"{prefix}{suffix}", component=request_schema(
+            calculation, shape, lambda name, shape=shape: _ref(_field_component(prefix, name, shape))))
+    spec.components.schema(f"{prefix}OutputSelection", component=_selection_schema(calculation))
+    selection = _ref(f"{prefix}OutputSelection")
+    # Rows and columns are components of their own (not inline titled objects): client generators
+    # name a model after it, and two calculations' inline "Rows" would be two models of one name.
+    spec.components.schema(f"{prefix}RowsRequest", component={
+        "type": "object", "description": "Rows: a list of cases.", "properties": {
+            "cases": {"type": "array", "items": _ref(f"{prefix}Case"), "minItems": 1},
+            "outputs": selection, "units": _ref("Units")},
+        "required": ["cases"], "additionalProperties": False})
+    shapes = [_ref(f"{prefix}Case"), _ref(f"{prefix}RowsRequest")]
+    if calculation.columns:
+        spec.components.schema(f"{prefix}ColumnsRequest", component={
+            "type": "object", "description": "Columns: each field one value for every case, or a list of one "
+                                             "value per case.",
+            "properties": {"columns": _ref(f"{prefix}Columns"), "outputs": selection, "units": _ref("Units")},
+            "required": ["columns"], "additionalProperties": False})
+        shapes.append(_ref(f"{prefix}ColumnsRequest"))
+    spec.components.schema(f"{prefix}Request", component={"oneOf": shapes})
+
+    outputs = _output_components(spec, plugin, prefix, calculation, known_outputs)
     checks = {"type": "object", "description": "Rules of thumb the case was judged against.",
               "additionalProperties": _ref("Check")}
+    assumed = assumed_schema(calculation)
     spec.components.schema(f"{prefix}Result", component={
-        "type": "object", "properties": {**outputs, "checks": checks}, "additionalProperties": False})
-    responses = [
-        _ref(f"{prefix}Result"),
-        {"type": "object", "title": "Rows", "required": ["results", "errors"], "additionalProperties": False,
-         "properties": {"results": {"type": "array", "items": _ref(f"{prefix}Result")},
-                        "errors": {"type": "array", "items": _ref("CaseError")}}},
-    ]
+        "type": "object", "description": "The answer of one case.",
+        "properties": {**outputs, "checks": checks, **assumed}, "additionalProperties": False})
+    spec.components.schema(f"{prefix}RowsResponse", component={
+        "type": "object", "description": "The answer of rows: one result per case, in order.",
+        "required": ["results", "errors"], "additionalProperties": False,
+        "properties": {"results": {"type": "array", "items": _ref(f"{prefix}Result")},
+                       "errors": {"type": "array", "items": _ref("CaseError")}}})
+    # The one-case result last: none of its members is required, so a client that tries the
+    # shapes in order would take any answer for it.
+    responses = [_ref(f"{prefix}RowsResponse")]
     if calculation.columns:
-        column_outputs = {name: {"type": "array", "items": prop, "description": prop.get("description", "")}
-                          for name, prop in outputs.items()}
+        column_outputs = {name: {"type": "array", "items": ref} for name, ref in outputs.items()}
         spec.components.schema(f"{prefix}ResultColumns", component={
-            "type": "object", "properties": {**column_outputs, "checks": {
-                "type": "object", "additionalProperties": _ref("CheckColumns")}},
+            "type": "object", "description": "Each output as a list of one value per case.",
+            "properties": {**column_outputs, "checks": {
+                "type": "object", "additionalProperties": _ref("CheckColumns")}, **assumed_schema(calculation, True)},
             "additionalProperties": False})
-        responses.append(
-            {"type": "object", "title": "Columns", "required": ["columns", "errors"], "additionalProperties": False,
-             "properties": {"columns": _ref(f"{prefix}ResultColumns"),
-                            "errors": {"type": "array", "items": _ref("CaseError")}}})
+        spec.components.schema(f"{prefix}ColumnsResponse", component={
+            "type": "object", "description": "The answer of columns.", "required": ["columns", "errors"],
+            "additionalProperties": False,
+            "properties": {"columns": _ref(f"{prefix}ResultColumns"),
+                           "errors": {"type": "array", "items": _ref("CaseError")}}})
+        responses.append(_ref(f"{prefix}ColumnsResponse"))
+    responses.append(_ref(f"{prefix}Result"))
     spec.components.schema(f"{prefix}Response", component={"oneOf": responses})
 
-    problem = {"content": {"application/problem+json": {"schema": _ref("Problem")}}}
     content = {"application/json": {"schema": _ref(f"{prefix}Response")}, "text/csv": CSV_ANSWER}
     drawing = {}
     if calculation.render_svg is not None:
         content["image/svg+xml"] = {"schema": {
             "type": "string", "description": "With `Accept: image/svg+xml` and one case: an SVG drawing of it."}}
-        drawing = {"406": {"description": "An SVG drawing was asked for rows or columns (it shows one case).",
-                           **problem}}
-    spec.path(path=calculation.path, operations={"get": _get_operation(plugin, prefix, calculation), "post": {
+        drawing = {"406": "DrawingOfOneCase"}
+    spec.path(path=calculation.path, operations={"get": _get_operation(prefix, calculation), "post": {
         "operationId": calculation.name.replace("-", "_"),
         "tags": [calculation.name],
         "summary": calculation.summary,
         "description": calculation.description + "\n\n" + CAUTION,
         "security": [{"ApiKey": []}, {"BearerKey": []}],
-        "parameters": [_output_parameter(calculation, "Outputs and checks to answer (as the body's `outputs`)."),
-                       UNITS_PARAMETER],
-        "requestBody": {"required": True, "description": SELECTION_NOTE, "content": {
+        "parameters": [_output_parameter(prefix, "Outputs and checks to answer (as the body's `outputs`)."),
+                       "units"],  # units: components/parameters/units
+        "requestBody": {"required": True, "description": "One case, rows or columns (see Requests).", "content": {
             "application/json": {"schema": _ref(f"{prefix}Request")},
-            "text/csv": {"schema": {"type": "string", "description": CSV_REQUEST}}}},
+            "text/csv": {"schema": {"type": "string", "description": "Rows as CSV (see CSV)."}}}},
         "responses": {
             "200": {"description": "Results, in the shape of the request.", "content": content},
-            "400": {"description": "The body is not valid JSON.", **problem},
-            "401": {"description": "An API key is required and was not given.", **problem, "headers": {
-                "WWW-Authenticate": {"description": "The scheme to authenticate with.",
-                                     "schema": {"type": "string", "const": f'Bearer realm="{REALM}"'}}}},
-            "403": {"description": "The API key is not valid (every key sent must be).", **problem},
-            "408": {"description": "The request did not arrive within the receive timeout "
-                                   "(MEANLINE_RECEIVE_TIMEOUT).", **problem},
-            "413": {"description": "The body, the number of cases, or the memory the cases would take "
-                                   "(MEANLINE_MAX_MEMORY; the detail says how many cases fit) is over the limit.",
-                    **problem},
-            **drawing,
-            "415": {"description": "The body is neither JSON nor CSV (Content-Type), or is encoded "
-                                   "(Content-Encoding).", **problem},
-            "422": {"description": "Invalid input (every offending field named by JSON Pointer), or one "
-                                   "case that is physically impossible.", **problem},
-            "503": {"description": "The server stopped the request: over the time limit (MEANLINE_TIMEOUT), "
-                                   "or shutting down.", **problem},
+            **{status: name for status, name in sorted({**POST_PROBLEMS, **drawing}.items())},
         },
     }})
+
+
+#: The problem answers shared by the operations: components/responses (apispec writes an
+#: operation's response given by name as a reference to it), by status.
+PROBLEMS = {
+    "InvalidJson": "The body is not valid JSON.",
+    "KeyInQuery": "An api_key query parameter where keys in the query are not allowed.",
+    "KeyMissing": "An API key is required and was not given.",
+    "KeyInvalid": "The API key is not valid (every key sent must be).",
+    "DrawingOfOneCase": "An SVG drawing was asked for rows or columns (it shows one case).",
+    "ReceiveTimeout": "The request did not arrive within the receive timeout (MEANLINE_RECEIVE_TIMEOUT).",
+    "TooLarge": "The body, the number of cases, or the memory the cases would take (MEANLINE_MAX_MEMORY; the "
+                "detail says how many cases fit) is over the limit.",
+    "UnsupportedBody": "The body is neither JSON nor CSV (Content-Type), or is encoded (Content-Encoding).",
+    "InvalidInput": "Invalid input (every offending field named by JSON Pointer, and in the GET form by its "
+                    "parameter), or one case that is physically impossible.",
+    "Stopped": "The server stopped the request: over the time limit (MEANLINE_TIMEOUT), or shutting down.",
+}
+POST_PROBLEMS = {"400": "InvalidJson", "401": "KeyMissing", "403": "KeyInvalid", "408": "ReceiveTimeout",
+                 "413": "TooLarge", "415": "UnsupportedBody", "422": "InvalidInput", "503": "Stopped"}
+GET_PROBLEMS = {"400": "KeyInQuery", "401": "KeyMissing", "403": "KeyInvalid", "422": "InvalidInput",
+                "503": "Stopped"}
 
 
 def _add_common_components(spec: APISpec) -> None:
@@ -264,11 +293,6 @@ def _add_common_components(spec: APISpec) -> None:
     spec.components.security_scheme("ApiKey", {
         "type": "apiKey", "in": "header", "name": API_KEY_HEADER,
         "description": f"An API key in the {API_KEY_HEADER} header. " + keys_note})
-    spec.components.security_scheme("ApiKeyQuery", {
-        "type": "apiKey", "in": "query", "name": "api_key",
-        "description": "The API key as the query parameter api_key, for spreadsheet cells that cannot send a "
-                       "header: accepted only where the operator sets MEANLINE_API_KEYS_IN_QUERY=1, since a key "
-                       "in a URL is seen by proxies, browser histories and logs. " + keys_note})
     spec.components.security_scheme("BearerKey", {
         "type": "http", "scheme": "bearer",
         "description": "The same API key as a bearer token: `Authorization: Bearer <key>`. " + keys_note})
@@ -295,6 +319,18 @@ def _add_common_components(spec: APISpec) -> None:
                 "otherwise a generated UUID.")},
         },
     })
+    spec.components.schema("Units", component={"type": "string", "enum": ["si", "us"],
+                                                "description": UNITS_DESCRIPTION})
+    spec.components.parameter("units", "query", {
+        "required": False, "description": "The unit system of the answer, as the body's `units`.",
+        "schema": _ref("Units")})
+    problem = {"content": {"application/problem+json": {"schema": _ref("Problem")}}}
+    for name, description in PROBLEMS.items():
+        headers = {}
+        if name == "KeyMissing":
+            headers = {"headers": {"WWW-Authenticate": {"description": "The scheme to authenticate with.", "schema": {
+                "type": "string", "const": f'Bearer realm="{REALM}"'}}}}
+        spec.components.response(name, {"description": description, **problem, **headers})
     spec.components.schema("CaseError", component={
         "type": "object", "required": ["index", "detail"], "additionalProperties": False,
         "description": "A case of a batch that could not be computed; its outputs are null.",
@@ -326,55 +362,27 @@ def _add_common_components(spec: APISpec) -> None:
 
 def _add_service_paths(spec: APISpec) -> None:
     status = {"type": "object", "properties": {"status": {"type": "string"}}, "required": ["status"]}
-    problem = {"content": {"application/problem+json": {"schema": _ref("Problem")}}}
+    # Open to every caller (no key), which `security: []` says; a key in the query is refused here too.
+    common = {"tags": ["service"], "security": []}
+    refused = {"400": "KeyInQuery"}
     spec.path(path="/healthz", operations={"get": {
-        "operationId": "health", "summary": "Liveness: the process answers.", "tags": ["service"],
-        "responses": {"200": {"description": "Alive.", "content": {"application/json": {"schema": status}}}}}})
+        "operationId": "health", "summary": "Liveness: the process answers.", **common,
+        "responses": {"200": {"description": "Alive.", "content": {"application/json": {"schema": status}}},
+                      **refused}}})
     spec.path(path="/readyz", operations={"get": {
-        "operationId": "ready", "summary": "Readiness: the process computes a known case correctly.",
-        "tags": ["service"],
+        "operationId": "ready", "summary": "Readiness: the process computes a known case correctly.", **common,
         "responses": {"200": {"description": "Ready.", "content": {"application/json": {"schema": status}}},
-                      "503": {"description": "Not ready.", **problem}}}})
+                      **refused, "503": {"description": "Not ready.", "content": {
+                          "application/problem+json": {"schema": _ref("Problem")}}}}}})
     spec.path(path="/metrics", operations={"get": {
         "operationId": "metrics", "summary": "Prometheus metrics of all workers, in the text exposition format.",
-        "tags": ["service"],
+        **common,
         "responses": {"200": {"description": "Requests, latency, cases computed and per-case failures by endpoint.",
-                              "content": {"text/plain": {"schema": {"type": "string"}}}}}}})
+                              "content": {"text/plain": {"schema": {"type": "string"}}}}, **refused}}})
     spec.path(path="/v1/openapi.json", operations={"get": {
-        "operationId": "openapi", "summary": "This OpenAPI document.", "tags": ["service"],
+        "operationId": "openapi", "summary": "This OpenAPI document.", **common,
         "responses": {"200": {"description": "The OpenAPI 3.1 document.",
-                              "content": {"application/json": {"schema": {"type": "object"}}}}}}})
-
-
-SELECTION_NOTE = (
-    "One case, rows or columns. Beside the case's fields, the `cases` or the `columns`, `outputs` (a list of "
-    "output names, `checks.NAME`, `checks.NAME.status` or `checks.NAME.value`) restricts the answer to those "
-    "outputs and checks, and `units: \"us\"` answers in US customary units. Any input quantity may be a string "
-    "with its unit (`\"30 mm\"`, `\"14.696 psi\"`), converted to the field's `x-unit`.")
-UNITS_DESCRIPTION = (
-    "`si` (the default) or `us`: every output in US customary units, the unit of each given as `x-unit-us` in "
-    "this document (ft, ft s^-1, degR, lbf in^-2, lb s^-1, Btu lb^-1, hp, ...); check values are dimensionless "
-    "and stay as they are.")
-UNITS_MEMBER = {"type": "string", "enum": ["si", "us"], "description": UNITS_DESCRIPTION}
-UNITS_PARAMETER = {"name": "units", "in": "query", "required": False, "description": UNITS_DESCRIPTION,
-                   "schema": {"type": "string", "enum": ["si", "us"]}}
-CSV_REQUEST = (
-    "Rows as CSV (RFC 4180): a header line of field names, then one case a line; an empty cell leaves the field "
-    "out; a list is one quoted cell of comma-separated numbers. Problems point at `/cases/i/field`: case i is "
-    "line i + 2 of the file.")
-CSV_ANSWER = {"schema": {"type": "string", "description": (
-    "With `Accept: text/csv`: a header line, then one line per case: `case`, each output (a list output as "
-    "`NAME.0`, `NAME.1`, ...), each check's status as `checks.NAME.status`, and `error` (why the case failed, "
-    "else empty).")}}
-GET_NOTE = (
-    "The GET form of one case, for spreadsheet cells (WEBSERVICE) and plain URLs: the query holds the fields of "
-    "a one-case body, one parameter each (a list comma-separated, repeated, or both). A value that is a JSON "
-    "number is that number; any other value is a string (an option, or a quantity with its unit: `30 mm`). "
-    "Validated and computed as the one-case body; each problem entry keeps the pointer into that body and names "
-    "the `parameter`. With one `output` name the answer is `text/plain` holding that value (a list as values "
-    "separated by commas); otherwise the JSON answer of one case, or CSV with `Accept: text/csv`. HEAD answers "
-    "the same headers without the body; OPTIONS lists the methods. An API key may be sent as `api_key` only "
-    "where the operator allows it (MEANLINE_API_KEYS_IN_QUERY=1); elsewhere that parameter is refused (400).")
+                              "content": {"application/json": {"schema": {"type": "object"}}}}, **refused}}})
 
 
 def _selection_schema(calculation: Calculation) -> dict:
@@ -384,35 +392,37 @@ def _selection_schema(calculation: Calculation) -> dict:
         "items": {"type": "string", "enum": list(calculation.outputs().fields)}}
 
 
-def _output_parameter(calculation: Calculation, description: str) -> dict:
+def _output_parameter(prefix: str, description: str) -> dict:
     # The document lists the output names; the checks (their names depend on the input mode) are
     # accepted too, as the description says.
     return {"name": "output", "in": "query", "required": False, "style": "form", "explode": False,
             "description": description + " Comma-separated or repeated: output names, or checks.NAME, "
                                          "checks.NAME.status, checks.NAME.value.",
-            "schema": {"type": "array", "minItems": 1,
-                       "items": {"type": "string", "enum": list(calculation.outputs().fields)}}}
+            "schema": _ref(f"{prefix}OutputSelection")}
 
 
-def _get_operation(plugin, prefix: str, calculation: Calculation) -> dict:
+def _get_operation(prefix: str, calculation: Calculation) -> dict:
     """The GET form: one query parameter per input field, from the same schema fields as the body."""
-    problem = {"content": {"application/problem+json": {"schema": _ref("Problem")}}}
     parameters = []
     for name, field in calculation._case_schema.fields.items():
-        prop = plugin.converter.field2property(field)
-        parameter = {"name": name, "in": "query", "required": bool(field.required),
-                     "description": prop.get("description", ""), "schema": prop}
-        if prop.get("type") == "array" or "oneOf" in prop:
+        # The field's schema (and its description) by reference, as in the body.
+        unit = getattr(field, "unit", None) or getattr(getattr(field, "item", None), "unit", None)
+        parameter = {"name": name, "in": "query", "description": "As in the body" + (f" [{unit}]." if unit else "."),
+                     "schema": _ref(_field_component(prefix, name, ""))}
+        if field.required:
+            parameter["required"] = True
+        if isinstance(field, QuantityList):
             parameter.update(style="form", explode=True)
         parameters.append(parameter)
-    parameters.append(_output_parameter(calculation, "With one name: a text/plain answer of that one value."))
-    parameters.append(UNITS_PARAMETER)
+    parameters.append(_output_parameter(prefix, "With one name: a text/plain answer of that one value."))
+    parameters.append("units")  # components/parameters/units
     return {
         "operationId": calculation.name.replace("-", "_") + "_query",
         "tags": [calculation.name],
         "summary": calculation.summary + " (one case from the query)",
-        "description": GET_NOTE + "\n\n" + CAUTION,
-        # Not ApiKeyQuery: that scheme is off unless the operator enables it (see its description).
+        "description": "One case from the query (see The GET form).\n\n" + CAUTION,
+        # The api_key query parameter is not declared as a scheme: it is off unless the operator
+        # enables it (see The GET form).
         "security": [{"ApiKey": []}, {"BearerKey": []}],
         "parameters": parameters,
         "responses": {
@@ -420,13 +430,34 @@ def _get_operation(plugin, prefix: str, calculation: Calculation) -> dict:
                 "application/json": {"schema": _ref(f"{prefix}Result")},
                 "text/plain": {"schema": {"type": "string", "description": "With one `output`: its value."}},
                 "text/csv": CSV_ANSWER}},
-            "400": {"description": "An api_key parameter where keys in the query are not allowed.", **problem},
-            "401": {"description": "An API key is required and was not given.", **problem, "headers": {
-                "WWW-Authenticate": {"description": "The scheme to authenticate with.",
-                                     "schema": {"type": "string", "const": f'Bearer realm="{REALM}"'}}}},
-            "403": {"description": "The API key is not valid.", **problem},
-            "422": {"description": "Invalid input (every offending parameter named), or a case that is physically "
-                                   "impossible.", **problem},
-            "503": {"description": "The server stopped the request.", **problem},
+            **{status: name for status, name in GET_PROBLEMS.items()},
         },
     }
+
+
+#: Objects and lists are written one member a line down to this depth (a component's or an
+#: operation's members), unless they fit in TEXT_WIDTH characters; deeper ones are one line.
+TEXT_EXPAND_DEPTH = 4
+TEXT_WIDTH = 200
+
+
+def document_text(document: dict) -> str:
+    """The document as committed: one member a line down to a component's or an operation's
+    members (a property, a parameter, a response a line), each of those on one compact line, and
+    anything that fits in ``TEXT_WIDTH`` characters on one line.
+
+    About as readable as indented JSON and under a tenth larger than compact JSON (``indent=2``
+    would add a half).
+    """
+    def write(value, depth: int) -> str:
+        line = json.dumps(value, ensure_ascii=False, separators=(",", ":"))
+        if depth > TEXT_EXPAND_DEPTH or not isinstance(value, dict | list) or len(line) + depth <= TEXT_WIDTH:
+            return line
+        pad = "\n" + " " * (depth + 1)
+        if isinstance(value, dict):
+            members = [json.dumps(key, ensure_ascii=False) + ": " + write(item, depth + 1)
+                       for key, item in value.items()]
+            return "{" + pad + ("," + pad).join(members) + "\n" + " " * depth + "}"
+        return "[" + pad + ("," + pad).join(write(item, depth + 1) for item in value) + "\n" + " " * depth + "]"
+
+    return write(document, 0) + "\n"

@@ -181,52 +181,80 @@ def _overflowed(value) -> bool:
 def _failed_case(case: dict) -> dict:
     """A case's answer as a failed case's: null outputs, checks without value or status."""
     return {name: ({check: {**entry, "value": None, "status": None} for check, entry in value.items()}
-                   if name == "checks" else None) for name, value in case.items()}
+                   if name == "checks" else value if name == "assumed" else None) for name, value in case.items()}
+
+
+#: Members of an answer beside its outputs.
+_NOT_OUTPUTS = ("checks", "assumed")
 
 
 def answer_in_us(calculation, body: dict) -> dict:
     """An answer (any shape, not streamed) with every output in its US customary unit. Check
     values stay as they are: every rule of thumb judges a dimensionless number. A case whose
     conversion overflows fails as a case (a batch) or as the request (one case), as any output
-    that is not finite does."""
+    that is not finite does. The defaults a case took (``assumed``) are dimensionless or options and
+    stay as they are."""
     factors = {name: us_factor(field.metadata["x-unit"]) for name, field in calculation.outputs().fields.items()}
     factors = {name: factor for name, factor in factors.items() if factor != 1.0}
-
-    def convert(case: dict) -> dict:
-        with np.errstate(over="ignore"):
-            return {name: _scaled(value, factors[name]) if name in factors else value for name, value in case.items()}
-
     if "results" in body:
-        results, errors = [], list(body.get("errors", []))
-        for index, case in enumerate(body["results"]):
-            converted = convert(case) if case is not None else None
-            if converted is not None and any(_overflowed(v) for k, v in converted.items() if k != "checks"):
-                converted = _failed_case(case)
-                errors.append({"index": index, "detail": OVERFLOW})
-            results.append(converted)
-        return {**body, "results": results, "errors": sorted(errors, key=lambda e: e["index"])}
+        return _rows_in_us(body, factors)
     if "columns" in body:
-        columns = convert(body["columns"])
-        size = max((len(v) for k, v in columns.items() if k != "checks"), default=0)
-        failed = sorted({i for k, v in columns.items() if k != "checks" for i in range(size) if _overflowed(v[i])})
-        if failed:
-            for name, value in list(columns.items()):
-                if name == "checks":
-                    continue
-                value = value.tolist() if hasattr(value, "tolist") else list(value)
-                columns[name] = [None if i in failed else v for i, v in enumerate(value)]
-            for entry in columns.get("checks", {}).values():
-                for key in ("value", "status"):
-                    values = entry[key].tolist() if hasattr(entry[key], "tolist") else list(entry[key])
-                    entry[key] = [None if i in failed else v for i, v in enumerate(values)]
-        errors = list(body.get("errors", [])) + [{"index": i, "detail": OVERFLOW} for i in failed]
-        return {**body, "columns": columns, "errors": sorted(errors, key=lambda e: e["index"])}
-    converted = convert(body)
-    if any(_overflowed(v) for k, v in converted.items() if k != "checks"):
+        return _columns_in_us(body, factors)
+    converted = _converted(body, factors)
+    if _case_overflowed(converted):
         from service.api.problems import PHYSICALLY_IMPOSSIBLE, Problem
 
         raise Problem(422, "Physically impossible case", OVERFLOW, PHYSICALLY_IMPOSSIBLE)
     return converted
+
+
+def _converted(case: dict, factors: dict[str, float]) -> dict:
+    """A case's (or the columns') outputs times their factors; others as they are."""
+    with np.errstate(over="ignore"):
+        return {name: _scaled(value, factors[name]) if name in factors else value for name, value in case.items()}
+
+
+def _case_overflowed(case: dict) -> bool:
+    return any(_overflowed(value) for name, value in case.items() if name not in _NOT_OUTPUTS)
+
+
+def _with_overflows(body: dict, failed, **shape) -> dict:
+    """``body`` with its answer replaced (``shape``) and one error per failed index, sorted."""
+    errors = list(body.get("errors", [])) + [{"index": i, "detail": OVERFLOW} for i in failed]
+    return {**body, **shape, "errors": sorted(errors, key=lambda e: e["index"])}
+
+
+def _rows_in_us(body: dict, factors: dict[str, float]) -> dict:
+    """A rows answer converted; a case that overflows fails as a case."""
+    results, failed = [], []
+    for index, case in enumerate(body["results"]):
+        converted = _converted(case, factors) if case is not None else None
+        if converted is not None and _case_overflowed(converted):
+            converted = _failed_case(case)
+            failed.append(index)
+        results.append(converted)
+    return _with_overflows(body, failed, results=results)
+
+
+def _columns_in_us(body: dict, factors: dict[str, float]) -> dict:
+    """A columns answer converted; the cases that overflow fail as cases (null in every column)."""
+    columns = _converted(body["columns"], factors)
+    size = max((len(v) for k, v in columns.items() if k not in _NOT_OUTPUTS), default=0)
+    failed = sorted({i for k, v in columns.items() if k not in _NOT_OUTPUTS for i in range(size) if _overflowed(v[i])})
+    if failed:
+        for name, value in list(columns.items()):
+            if name not in _NOT_OUTPUTS:
+                columns[name] = _nulled(value, failed)
+        for entry in columns.get("checks", {}).values():
+            for key in ("value", "status"):
+                entry[key] = _nulled(entry[key], failed)
+    return _with_overflows(body, failed, columns=columns)
+
+
+def _nulled(column, failed: list[int]) -> list:
+    """A column (array or list) as a list, with null at the ``failed`` positions."""
+    values = column.tolist() if hasattr(column, "tolist") else list(column)
+    return [None if i in failed else v for i, v in enumerate(values)]
 
 
 def system(value=missing, pointer: str = "/units", parameter: str | None = None) -> str:

@@ -15,14 +15,17 @@ CSV_HEADERS = {"Accept": "text/csv"}
 
 
 def _flat(case: dict) -> dict:
-    """A JSON case as the columns the CSV answer documents: outputs (lists as NAME.0, NAME.1, ...)
-    and each check's status as checks.NAME.status."""
+    """A JSON case as the columns the CSV answer documents: outputs (lists as NAME.0, NAME.1, ...),
+    the defaults taken as assumed.NAME, and each check's status as checks.NAME.status."""
     flat = {}
 
     def put(prefix, value):
         if isinstance(value, list):
             for i, item in enumerate(value):
                 put(f"{prefix}.{i}", item)
+        elif isinstance(value, dict):
+            for name, item in value.items():
+                put(f"{prefix}.{name}", item)
         else:
             flat[prefix] = value
 

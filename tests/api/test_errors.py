@@ -294,13 +294,15 @@ def test_unknown_field_is_named_in_every_case_that_has_it(client):
 
 
 def _nearest_modes(calc, case: dict) -> tuple[list, int]:
-    """The modes that apply to the case's options with the fewest missing plus surplus fields."""
+    """The forms that apply to the case's options with the fewest missing (and not defaulted) plus
+    surplus fields."""
     fields = calc.schema().fields
     options = {name: case.get(name, fields[name].load_default) for name in calc.option_fields}
     scores = {}
+    defaulted = {name for name in calc.defaults if calc.default(name, options)}
     for mode in calc.forms:
         if mode.applies(options):
-            missing = set(mode.required) - set(case)
+            missing = set(mode.required) - set(case) - defaulted
             surplus = (set(case) & calc.choice_fields) - calc.allowed_fields(mode)
             scores[mode.name] = len(missing) + len(surplus)
     if not scores:  # a required option is missing: no mode can be judged

@@ -10,6 +10,7 @@ from __future__ import annotations
 import itertools
 import json
 import math
+import re
 from pathlib import Path
 
 import openapi_spec_validator
@@ -20,7 +21,9 @@ from referencing.jsonschema import DRAFT202012
 
 from service.__main__ import SPEC_PATH, spec_text
 from service.api.fields import Option, Quantity, QuantityList
+from service.api.problems import PHYSICALLY_IMPOSSIBLE
 from service.api.registry import CALCULATIONS
+from service.api.spec import document_text
 from tests.api.examples import (
     COLUMN_NAMES,
     EXAMPLES,
@@ -61,13 +64,145 @@ def test_service_serves_the_committed_document(client, spec):
 
 def test_every_calculation_is_documented(spec):
     for calc in CALCULATIONS:
-        shapes = [_resolve(spec, v).get("title") for v in _component_of(spec, calc)["oneOf"]]
-        assert shapes == [None, "Rows", "Columns"] if calc.columns else [None, "Rows"], calc.name
+        prefix = _ref_name(spec, calc).removesuffix("Request")
+        # Rows and columns are components of their own, so that client generators name them apart.
+        shapes = [v["$ref"].rsplit("/", 1)[-1] for v in _component_of(spec, calc)["oneOf"]]
+        columns = [f"{prefix}ColumnsRequest"] if calc.columns else []
+        assert shapes == [f"{prefix}Case", f"{prefix}RowsRequest", *columns], calc.name
+        # The one-case result last: it requires no member, so a client trying the shapes in order
+        # would take any answer for it.
+        answers = [v["$ref"].rsplit("/", 1)[-1] for v in _component_of(spec, calc, "200")["oneOf"]]
+        columns = [f"{prefix}ColumnsResponse"] if calc.columns else []
+        assert answers == [f"{prefix}RowsResponse", *columns, f"{prefix}Result"], calc.name
         operation = spec["paths"][calc.path]["post"]
         assert {"200", "400", "413", "415", "422"} <= set(operation["responses"]), calc.name
         for status, response in operation["responses"].items():
             media = "application/json" if status == "200" else "application/problem+json"
-            assert media in response["content"], (calc.name, status)
+            assert media in _resolve(spec, response)["content"], (calc.name, status)
+
+
+#: Issue 17: the whole document (the committed file) under this many bytes.
+MAX_DOCUMENT_BYTES = 150_000
+
+
+def _is_mode_schema(name: str, prefixes) -> bool:
+    """The request's input modes: {prefix}Case, {prefix}Columns and {prefix}Case{mode}/Columns{mode}."""
+    return any(re.fullmatch(f"{p}(Case|Columns)(?!Request|Response)\\w*", name) for p in prefixes)
+
+
+def _prefixes(spec: dict) -> list[str]:
+    return [_ref_name(spec, calc).removesuffix("Request") for calc in CALCULATIONS]
+
+
+@pytest.mark.xfail(strict=False, reason=(
+    "Issue 17: 657,257 bytes committed (2 Dec 2026), of which the input-mode schemas ({prefix}Case*, "
+    "{prefix}Columns*: one schema per combination of modes, 235 of them) take 413,439 and the rest 243,818; "
+    "the modes are being declared per choice on another branch, and even the rest alone is over the limit"))
+def test_the_document_is_small(spec, report_figure):
+    size = (ROOT / SPEC_PATH).stat().st_size
+    prefixes = _prefixes(spec)
+    schemas = spec["components"]["schemas"]
+    rest = {**spec, "components": {**spec["components"], "schemas": {
+        name: schema for name, schema in schemas.items() if not _is_mode_schema(name, prefixes)}}}
+    rest_size = len(document_text(rest).encode())
+    modes = len(schemas) - len(rest["components"]["schemas"])
+    report_figure("OpenAPI document", f"{size:,} bytes, of which the {modes} input-mode schemas "
+                                      f"{size - rest_size:,} and the rest {rest_size:,}")
+    assert size < MAX_DOCUMENT_BYTES, (size, size - rest_size)
+
+
+def _refs(node) -> list[str]:
+    if isinstance(node, dict):
+        return ([node["$ref"]] if isinstance(node.get("$ref"), str) else []) + [
+            r for value in node.values() for r in _refs(value)]
+    if isinstance(node, list):
+        return [r for value in node for r in _refs(value)]
+    return []
+
+
+def test_every_component_is_used(spec):
+    used = set(_refs(spec))
+    for kind, components in spec["components"].items():
+        if kind != "securitySchemes":
+            unused = [n for n in components if f"#/components/{kind}/{n}" not in used]
+            assert not unused, (kind, unused)
+    schemes = {name for operation in _operations(spec) for alternative in operation.get("security", [])
+               for name in alternative}
+    assert schemes == set(spec["components"]["securitySchemes"])
+
+
+def _operations(spec: dict):
+    for item in spec["paths"].values():
+        yield from item.values()
+
+
+@pytest.mark.parametrize("name", NAMES)
+def test_each_output_is_described_once(spec, name):
+    calc = calculation(name)
+    result = _resolve(spec, _component_of(spec, calc, "200")["oneOf"][-1])
+    refs = {output: prop["$ref"] for output, prop in result["properties"].items()
+            if output not in ("checks", "assumed")}
+    assert set(refs) == set(calc.outputs().fields)
+    for output, ref in refs.items():
+        assert re.fullmatch(f"#/components/schemas/(\\w*Output_{output})", ref), (output, ref)
+    if calc.columns:
+        # The columns answer refers to the same components: a list of the one-case value.
+        columns = _resolve(spec, _resolve(spec, _component_of(spec, calc, "200")["oneOf"][1])["properties"]["columns"])
+        assert {o: p for o, p in columns["properties"].items() if o not in ("checks", "assumed")} == {
+            o: {"type": "array", "items": {"$ref": ref}} for o, ref in refs.items()}
+
+
+def test_outputs_shared_by_two_calculations_are_one_component(spec):
+    outputs = {n: s for n, s in spec["components"]["schemas"].items() if "Output_" in n}
+    texts = [json.dumps(s, sort_keys=True) for s in outputs.values()]
+    assert len(set(texts)) == len(texts), "no output schema written twice"
+    triangles, stage = (_resolve(spec, _component_of(spec, calculation(n), "200")["oneOf"][-1])["properties"]
+                        for n in ("triangles", "stage-efficiency"))
+    shared = set(triangles) & set(stage) - {"checks"}
+    # An output of the same name and meaning is the same component; one of the same name and
+    # another meaning (the diffusion factors of the loss correlations) is a component of its own.
+    same = {o for o in shared if triangles[o] == stage[o]}
+    assert len(same) >= 40  # stage-efficiency answers the triangles' outputs (47 today)
+    for output in shared - same:
+        assert _resolve(spec, triangles[output]) != _resolve(spec, stage[output]), output
+
+
+def _field_refs(spec: dict, calc, shape: int) -> dict[str, str]:
+    """The component each input field refers to in the request object of one case (shape 0) or of
+    columns (1)."""
+    request = list(_mode_schemas(spec, calc))[shape]
+    return {field: prop["$ref"] for field, prop in request["properties"].items()}
+
+
+@pytest.mark.parametrize("name", COLUMN_NAMES)
+def test_a_column_field_refers_to_the_one_case_field(spec, name):
+    calc = calculation(name)
+    columns, cases = _field_refs(spec, calc, 1), _field_refs(spec, calc, 0)
+    assert set(columns) == set(cases) == set(calc.schema().fields)
+    for field, ref in columns.items():
+        one = {"$ref": cases[field]}
+        assert _resolve(spec, {"$ref": ref}) == {"oneOf": [one, {"type": "array", "items": one, "minItems": 1}]}
+
+
+def test_a_field_shared_by_two_calculations_is_one_component(spec):
+    fields = [json.dumps(s, sort_keys=True) for n, s in spec["components"]["schemas"].items()
+              if re.fullmatch(r"\w*Field_\w+", n) and "ColumnField_" not in n]
+    assert len(set(fields)) == len(fields), "no field schema written twice"
+    triangles, stage = (_field_refs(spec, calculation(n), 0) for n in ("triangles", "stage-efficiency"))
+    assert triangles["flow_coefficient"] == stage["flow_coefficient"] == "#/components/schemas/Field_flow_coefficient"
+
+
+@pytest.mark.parametrize("name", NAMES)
+def test_the_get_parameters_refer_to_the_body_fields(spec, name):
+    calc = calculation(name)
+    refs = _field_refs(spec, calc, 0)
+    parameters = {p["name"]: p for p in spec["paths"][calc.path]["get"]["parameters"] if "name" in p}
+    for field, parameter in parameters.items():
+        if field in calc.schema().fields:
+            assert parameter["schema"] == {"$ref": refs[field]}, field
+            assert len(parameter["description"]) < 40, field
+            assert parameter.get("required", False) == calc.schema().fields[field].required, field
+    assert set(calc.schema().fields) < set(parameters)
 
 
 # -- helpers -------------------------------------------------------------------------------------
@@ -83,23 +218,40 @@ def _resolve(spec: dict, schema: dict) -> dict:
     return schema
 
 
-def _component_of(spec: dict, calc, status: str = "") -> dict:
+def _content(spec: dict, calc, status: str = "") -> dict:
     operation = spec["paths"][calc.path]["post"]
-    content = operation["responses"][status]["content"] if status else operation["requestBody"]["content"]
-    return _resolve(spec, content["application/json"]["schema"])
+    return _resolve(spec, operation["responses"][status])["content"] if status else operation["requestBody"]["content"]
+
+
+def _component_of(spec: dict, calc, status: str = "") -> dict:
+    return _resolve(spec, _content(spec, calc, status)["application/json"]["schema"])
 
 
 def _mode_schemas(spec: dict, calc):
     """The object schemas of one case and of columns, from the documented request body."""
     case, *batches = (_resolve(spec, v) for v in _component_of(spec, calc)["oneOf"])
     yield case
-    yield from (_resolve(spec, b["properties"]["columns"]) for b in batches if b["title"] == "Columns")
+    yield from (_resolve(spec, b["properties"]["columns"]) for b in batches if "columns" in b["properties"])
+
+
+def _inline(spec: dict, schema):
+    """The schema with every $ref in it followed (as _resolve does)."""
+    if isinstance(schema, list):
+        return [_inline(spec, s) for s in schema]
+    if not isinstance(schema, dict):
+        return schema
+    return {k: _inline(spec, v) for k, v in _resolve(spec, schema).items()}
 
 
 def _input_properties(spec: dict, calc):
+    """Each mode's properties with their references followed. A column field (one value for every
+    case or a list of them) refers to the one-case field: its description and unit are that one's."""
     for mode in _mode_schemas(spec, calc):
         for name, prop in mode["properties"].items():
-            yield name, _resolve(spec, prop)
+            field = _inline(spec, {"$ref": prop["$ref"]}) if "$ref" in prop else {}
+            if "description" not in field and "oneOf" in field:
+                field = {k: field["oneOf"][0][k] for k in ("description", "x-unit") if k in field["oneOf"][0]}
+            yield name, {**field, **_inline(spec, prop)}
 
 
 def _variants(prop: dict):
@@ -121,8 +273,7 @@ def _validator(spec: dict, component: str) -> Draft202012Validator:
 
 
 def _ref_name(spec: dict, calc, status: str = "") -> str:
-    operation = spec["paths"][calc.path]["post"]
-    content = operation["responses"][status]["content"] if status else operation["requestBody"]["content"]
+    content = _content(spec, calc, status)
     return content["application/json" if status in ("", "200") else "application/problem+json"]["schema"][
         "$ref"].rsplit("/", 1)[-1]
 
@@ -147,11 +298,13 @@ def test_every_input_has_a_description_and_every_number_a_unit(spec, name):
 
 @pytest.mark.parametrize("name", NAMES)
 def test_every_output_has_a_description_and_a_unit(spec, name):
-    result = _resolve(spec, _component_of(spec, calculation(name), "200")["oneOf"][0])
+    result = _resolve(spec, _component_of(spec, calculation(name), "200")["oneOf"][-1])
     for field, prop in result["properties"].items():
-        if field != "checks":
+        if field not in ("checks", "assumed"):
+            prop = _resolve(spec, prop)
             assert prop.get("description") and prop.get("x-unit"), (name, field)
-    assert set(result["properties"]) == set(calculation(name).outputs().fields) | {"checks"}
+    assumed = {"assumed"} if calculation(name).defaults else set()
+    assert set(result["properties"]) == set(calculation(name).outputs().fields) | {"checks"} | assumed
 
 
 def _documented_bounds(field) -> dict:
@@ -335,7 +488,8 @@ def test_a_case_of_only_the_documented_required_fields_is_computed(client, spec,
             continue
         valid += 1
         response = post(client, name, case)
-        if response.status_code != 200:
+        # Accepted: computed, or judged physically impossible (defaults may not suit an example's duty).
+        if response.status_code != 200 and response.get_json().get("type") != PHYSICALLY_IMPOSSIBLE:
             failures.append((case, response.status_code, pointers(response.get_json())))
-    assert valid >= len({tuple(a.value for a in f.taken.values() if a.required) for f in calc.forms}) > 0
     assert not failures, failures
+    assert valid >= len({tuple(a.value for a in f.taken.values() if a.required) for f in calc.forms}) > 0

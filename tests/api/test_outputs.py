@@ -15,7 +15,7 @@ def _post(client, name, body, query=""):
 
 def _selection(full_case: dict) -> tuple[list[str], list[str], list[str]]:
     """Two outputs and one check of a computed case, and the names that select them."""
-    outputs = [name for name in full_case if name != "checks"][1:3]
+    outputs = [name for name in full_case if name not in ("checks", "assumed")][1:3]
     checks = list(full_case["checks"])[:1]
     return outputs, checks, outputs + [f"checks.{name}" for name in checks]
 
@@ -23,6 +23,8 @@ def _selection(full_case: dict) -> tuple[list[str], list[str], list[str]]:
 def _restricted_case(case: dict, outputs, checks) -> dict:
     kept = {name: value for name, value in case.items() if name in outputs}
     kept["checks"] = {name: value for name, value in case["checks"].items() if name in checks}
+    if "assumed" in case:  # what the case took as given stays with any selection
+        kept["assumed"] = case["assumed"]
     return kept
 
 
@@ -35,7 +37,7 @@ def test_one_case_and_rows_restricted_equal_the_full_answer_restricted(client, n
         status, restricted = _post(client, name, {**case, "outputs": names})
         assert status == 200, restricted
         assert restricted == _restricted_case(full, outputs, checks)
-        assert set(restricted) == set(outputs) | {"checks"}
+        assert set(restricted) - {"assumed"} == set(outputs) | {"checks"}
     # Rows with a physically impossible case: its outputs are null and its error stays.
     example = EXAMPLES[name]
     rows = {"cases": [example.good, example.bad, example.good]}
@@ -58,7 +60,7 @@ def test_columns_restricted_equal_the_full_answer_restricted(client, name):
         pytest.skip("the good and bad cases name different fields")
     status, full = _post(client, name, {"columns": columns})
     assert status == 200 and full["errors"], full
-    names = [n for n in full["columns"] if n != "checks"][:2]
+    names = [n for n in full["columns"] if n not in ("checks", "assumed")][:2]
     names += [f"checks.{n}" for n in list(full["columns"]["checks"])[:1]]
     status, restricted = _post(client, name, {"columns": columns, "outputs": names})
     assert status == 200, restricted

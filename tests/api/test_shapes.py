@@ -88,7 +88,7 @@ def assert_batch_matches_singles(client, name, cases, rows=None, columns=None):
             if columns is not None:
                 out = columns["columns"]
                 for key, value in single.items():
-                    if key != "checks":
+                    if key not in ("checks", "assumed"):
                         assert_json_close(out[key][i], value, f"/columns/{key}/{i}")
                 for key in set(out) - set(single):
                     assert out[key][i] is None, f"/columns/{key}/{i} should be null: the case has no {key}"
@@ -104,11 +104,11 @@ def assert_batch_matches_singles(client, name, cases, rows=None, columns=None):
             expected_errors.append({"index": i, "detail": problem["detail"]})
             if rows is not None:
                 result = rows["results"][i]
-                assert all(v is None for k, v in result.items() if k != "checks"), result
+                assert all(v is None for k, v in result.items() if k not in ("checks", "assumed")), result
                 assert all(_null_check(c["value"], c["status"]) for c in result["checks"].values())
             if columns is not None:
                 out = columns["columns"]
-                assert all(out[k][i] is None for k in out if k != "checks"), i
+                assert all(out[k][i] is None for k in out if k not in ("checks", "assumed")), i
                 assert all(_null_check(c["value"][i], c["status"][i]) for c in out["checks"].values())
     for body in (rows, columns):
         if body is not None:
@@ -138,11 +138,12 @@ def test_one_case_gives_one_object_of_finite_numbers(client, name, mode, case):
     body = ok_body(post(client, name, case))
     outputs = calculation(name).outputs().fields
     assert not {"results", "columns", "errors"} & set(body)
-    assert set(body) - {"checks"} <= set(outputs)
+    assert set(body) - {"checks", "assumed"} <= set(outputs)
+    assert ("assumed" in body) == bool(calculation(name).defaults)
     # A missing value is always explained by an error; a computed case has none missing. Only a list
     # documented with entries that may not apply (x-null-entries) has nulls, never all of them.
     for key, value in body.items():
-        if key != "checks":
+        if key not in ("checks", "assumed"):
             per_stage = outputs[key].metadata.get("x-per-stage", False)
             assert isinstance(value, list) == per_stage and (not per_stage or value), key
             numbers = value if per_stage else [value]
@@ -265,7 +266,7 @@ def test_columns_broadcast_scalars_and_equal_rows(client, name, mode, case):
     columns = {**case, varied: [c[varied] for c in cases]}  # everything else a scalar
     body = ok_body(post(client, name, {"columns": columns}))
     assert set(body) == {"columns", "errors"}
-    assert all(len(v) == 3 for k, v in body["columns"].items() if k != "checks")
+    assert all(len(v) == 3 for k, v in body["columns"].items() if k not in ("checks", "assumed"))
     rows = ok_body(post(client, name, rows_of(cases)))
     assert_batch_matches_singles(client, name, cases, rows=rows, columns=body)
 
@@ -274,7 +275,7 @@ def test_columns_broadcast_scalars_and_equal_rows(client, name, mode, case):
 def test_columns_of_scalars_only_are_one_case(client, name):
     case = EXAMPLES[name].good
     body = ok_body(post(client, name, {"columns": case}))
-    assert all(len(v) == 1 for k, v in body["columns"].items() if k != "checks")
+    assert all(len(v) == 1 for k, v in body["columns"].items() if k not in ("checks", "assumed"))
     assert_batch_matches_singles(client, name, [case], columns=body)
 
 
@@ -391,7 +392,7 @@ def _output_kinds(name):
 
 def _assert_kinds(values: dict, integers: set, floats: set):
     for key, value in values.items():
-        if key == "checks" or value is None:
+        if key in ("checks", "assumed") or value is None:
             continue
         if isinstance(value, list):  # a per-stage output
             for item in value:
@@ -415,7 +416,7 @@ def test_documented_integers_are_written_as_integers_and_numbers_as_floats(clien
     if name in COLUMN_NAMES:
         columns = ok_body(post(client, name, columns_of([example.good, example.bad])))["columns"]
         for key, values in columns.items():
-            if key != "checks":
+            if key not in ("checks", "assumed"):
                 for value in values:
                     _assert_kinds({key: value}, integers, floats)
 
@@ -436,8 +437,8 @@ def test_integer_and_float_inputs_give_the_same_answer(client):
     assert_json_close(ok_body(post(client, "triangles", as_integers)),
                       ok_body(post(client, "triangles", as_floats)), rtol=0.0)
     # A whole-valued float is a valid blade count and counts the same as the integer.
-    case = mode_case(calculation("zweifel"), next(m for m in calculation("zweifel").forms
-                                                  if m.name == "purpose=blade_count,chord=axial_chord,definition=incompressible"))
+    zweifel = calculation("zweifel")
+    case = mode_case(zweifel, find_mode(zweifel, "purpose=blade_count", "chord=axial_chord", "incompressible"))
     assert_json_close(ok_body(post(client, "zweifel", {**case, "blade_count": 60.0})),
                       ok_body(post(client, "zweifel", {**case, "blade_count": 60})), rtol=0.0)
 
@@ -532,7 +533,8 @@ def _stand_in():
                            failures=[("longer than 100", failed)], checks={"per_stage": check})
 
     return Calculation("stand-in", "", "", StandInInput, outputs,
-                       (Choice("only", "stages and length", (Alternative("only", "stages and length", required=("stages", "length")),)),),
+                       (Choice("only", "stages and length",
+                               (Alternative("only", "stages and length", required=("stages", "length")),)),),
                        compute)
 
 

@@ -24,7 +24,7 @@ def test_mean_values_equal_the_answer_without_the_annulus(client, stage, vortex)
     mean = ok_body(post(client, "triangles", stage))
     both = ok_body(post(client, "triangles", {**stage, "hub_radius": 0.4, "tip_radius": 0.5, "vortex": vortex}))
     for name, value in mean.items():
-        if name != "checks":
+        if name not in ("checks", "assumed"):
             assert both[name] == value, name
     assert set(mean["checks"]) < set(both["checks"])
     rotor_in, rotor_out = (1, 2) if stage["machine"] == "compressor" else (2, 3)
