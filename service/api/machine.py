@@ -124,8 +124,9 @@ _SPAN_WORDS = {
 def _span_list(name: str, end: str):
     words, unit = _SPAN_WORDS[name]
     where = "at every station" if name.startswith("station_") else "of every row"
-    return _list(f"{words} {where} at the {end}: each station a free vortex about its mean radius "
-                 f"(r V_theta and V_x uniform along the span). [{unit}]", unit,
+    # The same words at either end, so that the document describes the pair once.
+    return _list(f"{words} {where} at the hub (`_hub`) or the tip (`_tip`): each station a free vortex about its "
+                 f"mean radius (r V_theta and V_x uniform along the span). [{unit}]", unit,
                  null_entries=name in ("station_beta", "station_relative_mach"))
 
 
@@ -224,8 +225,8 @@ MachineOutput = Schema.from_dict(
         "flowpath_tip_radius": _list("Flowpath outline: tip radius at each point of flowpath_x. [m]", "m"),
         "stage_rotor_tip_relative_mach": _list("Relative Mach number at each rotor's inlet tip (free vortex). [-]",
                                                "-"),
-        **{f"stage_reaction_{end}": _list(f"Enthalpy reaction of each stage along the {end} line (free vortex). [-]",
-                                          "-") for end in machine_span.SPAN_ENDS},
+        **{f"stage_reaction_{end}": _list("Enthalpy reaction of each stage along the hub (`_hub`) or the tip "
+                                          "(`_tip`) line (free vortex). [-]", "-") for end in machine_span.SPAN_ENDS},
         **{f"{name}_{end}": _span_list(name, end) for name in (*machine_span.STATION_OUTPUTS, *machine_span.ROW_OUTPUTS)
            for end in machine_span.SPAN_ENDS},
     },

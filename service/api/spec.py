@@ -77,6 +77,12 @@ def _number_schema(field: Quantity) -> dict:
     return schema
 
 
+def _us_unit(unit: str) -> dict:
+    """``x-unit-us``, where the US customary unit differs from the SI one (not for a ratio or an angle)."""
+    us = units.us_unit(unit)
+    return {"x-unit-us": us} if us != unit else {}
+
+
 def case_field_property(self, field, ret, **kwargs) -> dict:
     """apispec attribute function: the JSON Schema of the service's own input fields."""
     if not isinstance(field, Quantity | Option | QuantityList):
@@ -92,7 +98,7 @@ def case_field_property(self, field, ret, **kwargs) -> dict:
     else:
         schema = {"type": "array", "items": _number_schema(field.item), "minItems": 1}
     unit = getattr(field, "unit", None) or getattr(getattr(field, "item", None), "unit", None)
-    return {**schema, "x-unit-us": units.us_unit(unit)} if unit else schema
+    return {**schema, **_us_unit(unit)} if unit else schema
 
 
 def build_spec(calculations: list[Calculation], version: str) -> dict:
@@ -166,7 +172,7 @@ def _output_components(spec: APISpec, plugin, prefix: str, calculation: Calculat
     for name, field in calculation.outputs().fields.items():
         prop = plugin.converter.field2property(field)
         if "x-unit" in prop:  # the unit of answers asked for with units=us
-            prop["x-unit-us"] = units.us_unit(prop["x-unit"])
+            prop.update(_us_unit(prop["x-unit"]))
         if prop.pop("x-per-stage", False):
             item = prop.get("type", "number")
             # Entries that may not apply (a rotor-frame value at a station without a rotor) are null.
@@ -174,12 +180,15 @@ def _output_components(spec: APISpec, plugin, prefix: str, calculation: Calculat
             prop = {**prop, "type": ["array", "null"], "items": {"type": item}}
         else:
             prop = {**prop, "type": [prop.get("type", "number"), "null"]}
-        key = json.dumps([name, prop], sort_keys=True)
+        # A hub output and its tip output, described alike, are one component.
+        base = name.removesuffix("_hub").removesuffix("_tip")
+        shared = f"{base}_hub_or_tip" if base != name else name
+        key = json.dumps([shared, prop], sort_keys=True)
         if key not in known:
             # The first calculation to answer an output names it; another with the same name
             # but another meaning is told apart by its calculation.
-            taken = f"Output_{name}" in known.values()
-            known[key] = f"{prefix}Output_{name}" if taken else f"Output_{name}"
+            taken = f"Output_{shared}" in known.values()
+            known[key] = f"{prefix}Output_{shared}" if taken else f"Output_{shared}"
             spec.components.schema(known[key], component=prop)
         refs[name] = _ref(known[key])
     return refs
@@ -226,12 +235,14 @@ def _add_calculation(spec: APISpec, plugin, calculation: Calculation, known_outp
     # shapes in order would take any answer for it.
     responses = [_ref(f"{prefix}RowsResponse")]
     if calculation.columns:
-        column_outputs = {name: {"type": "array", "items": ref} for name, ref in outputs.items()}
+        # Each output is the one-case output's list over the cases: said once, not per output.
         spec.components.schema(f"{prefix}ResultColumns", component={
-            "type": "object", "description": "Each output as a list of one value per case.",
-            "properties": {**column_outputs, "checks": {
-                "type": "object", "additionalProperties": _ref("CheckColumns")}, **assumed_schema(calculation, True)},
-            "additionalProperties": False})
+            "type": "object", "description": f"Each output of {prefix}Result (the same names, units and meanings) "
+                                             "as a list of one value per case, null where the case failed; a list "
+                                             "output as a list of lists, each case's at its own length.",
+            "properties": {"checks": {"type": "object", "additionalProperties": _ref("CheckColumns")},
+                           **assumed_schema(calculation, True)},
+            "additionalProperties": {"type": "array", "items": {}}})
         spec.components.schema(f"{prefix}ColumnsResponse", component={
             "type": "object", "description": "The answer of columns.", "required": ["columns", "errors"],
             "additionalProperties": False,

@@ -47,7 +47,7 @@ def _alternative_schema(calculation: Calculation, choice: Choice, alternative: A
     """The alternative's own fields required, the other alternatives' fields absent and the option
     values it applies to (in columns one value or a list of them: a batch whose cases differ in an
     option that an alternative depends on is accepted by the service but not by this schema)."""
-    schema = {"title": alternative.value, "description": f"Give {alternative.description}."}
+    schema = {"title": alternative.value}
     required = list(alternative.required)
     if alternative.when:
         fields = calculation._case_schema.fields

@@ -2,9 +2,10 @@
 
 The API tests check the shared mechanism (request shapes, validation, errors, layouts) on every
 registered calculation. To cover a new endpoint, add one :class:`Example` to ``EXAMPLES``:
-``base`` holds the fields every input mode needs, ``values`` a valid value for every field that
-some mode requires, and ``good``/``bad`` a pair of cases with the same fields, the second one
-physically impossible. The tests build one case per input mode from these; a calculation that
+``good``/``bad`` a pair of cases with the same fields, the second one physically impossible;
+``base`` the fields every input mode needs beyond those the schema requires (which are taken from
+``good``), and ``values`` a valid value for every field that some mode requires and ``good`` does
+not give. The tests build one case per input mode from these; a calculation that
 does not offer the columns shape (``Calculation.columns``) is tested in one case and rows, and
 must refuse columns.
 
@@ -34,11 +35,11 @@ TRACEBACK_MARKERS = re.compile(r"Traceback|File \"|\.py\b|site-packages|most rec
 class Example:
     """Inputs of one calculation for the API tests (see the module docstring)."""
 
-    base: dict
-    values: dict
     good: dict
     bad: dict
     bad_reason: str  # a fragment of the per-case error the bad case must give
+    base: dict = field(default_factory=dict)  # fields every mode needs beyond the schema's required ones
+    values: dict = field(default_factory=dict)  # a value of every field some mode requires, beyond good's
     variants: tuple = ()  # further valid cases with other option values
     sweep_extra: dict = field(default_factory=dict)  # fields the property test adds to every case
 
@@ -205,19 +206,35 @@ def find_mode(calc: Calculation, *parts: str) -> Form:
     return next(m for m in calc.forms if all(m.includes(part) for part in parts))
 
 
+def base_case(calc: Calculation) -> dict:
+    """The fields every mode needs: each field the schema requires, from the good case, and the base."""
+    example = EXAMPLES[calc.name]
+    required = {name: example.good[name] for name, f in calc._case_schema.fields.items()
+                if f.required and name in example.good}
+    return {**required, **example.base}
+
+
+def field_values(calc: Calculation) -> dict:
+    """A valid value of every field the example gives: the good case's, overridden by base and values."""
+    example = EXAMPLES[calc.name]
+    return {**example.good, **example.base, **example.values}
+
+
 def mode_case(calc: Calculation, mode: Form) -> dict:
     """A valid case of one input mode: the base fields, the mode's fields and its options."""
-    example = EXAMPLES[calc.name]
-    case = dict(example.base)
-    case.update({name: example.values[name] for name in mode.required})
+    case = base_case(calc)
+    values = field_values(calc)
+    case.update({name: values[name] for name in mode.required})
     for option, allowed in mode.when.items():
         case[option] = allowed[0]
     return case
 
 
 def all_mode_cases():
-    """(calculation name, mode name, case) for every mode of every calculation."""
-    return [(calc.name, mode.name, mode_case(calc, mode)) for calc in CALCULATIONS for mode in calc.forms]
+    """(calculation name, mode name, case) for every mode of every calculation with an example (one
+    without is named by tests/api/test_shapes.py::test_every_calculation_has_examples)."""
+    return [(calc.name, mode.name, mode_case(calc, mode)) for calc in CALCULATIONS if calc.name in EXAMPLES
+            for mode in calc.forms]
 
 
 def valid_cases(name: str) -> list[dict]:

@@ -21,6 +21,7 @@ from tests.api.examples import (
     COLUMN_NAMES,
     EXAMPLES,
     INVALID_INPUT,
+    base_case,
     calculation,
     find_mode,
     mode_case,
@@ -320,7 +321,7 @@ def _field_removals():
         for mode in calc.forms:
             case = mode_case(calc, mode)
             for field in case:
-                if field in EXAMPLES[name].base and mode is not calc.forms[0]:
+                if field in base_case(calc) and mode is not calc.forms[0]:
                     continue
                 items.append(pytest.param(name, mode.name, field, case, id=f"{name}-{mode.name}-{field}"))
     return items
@@ -426,12 +427,14 @@ def test_pointers_name_the_offending_value_in_the_request(client, name):
     good = EXAMPLES[name].good
     schema_fields = calculation(name).schema().fields
     numeric = [f for f in good if isinstance(schema_fields[f], Quantity)]
+    # Out of range (every number has a lower bound above -5e3) and not a number; one field of a
+    # calculation with a single number in its good case is only made text.
     bad = {**good, numeric[0]: -5.0e3, numeric[-1]: "text"}
     body = {"cases": [good, bad, good]}
     problem = invalid(post(client, name, body))
     assert pointers(problem) == sorted(f"/cases/1/{f}" for f in {numeric[0], numeric[-1]})
     sent = {resolve_pointer(body, p) for p in pointers(problem)}
-    assert sent == {-5.0e3, "text"}
+    assert sent == ({-5.0e3, "text"} if len(set(numeric)) > 1 else {"text"})
 
 
 def test_null_optional_field_is_treated_alike_in_every_shape(client):

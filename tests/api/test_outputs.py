@@ -14,8 +14,10 @@ def _post(client, name, body, query=""):
 
 
 def _selection(full_case: dict) -> tuple[list[str], list[str], list[str]]:
-    """Two outputs and one check of a computed case, and the names that select them."""
-    outputs = [name for name in full_case if name not in ("checks", "assumed")][1:3]
+    """Two outputs (the only one, if one) and one check (if any) of a computed case, and the names
+    that select them."""
+    computed = [name for name in full_case if name not in ("checks", "assumed")]
+    outputs = computed[1:3] or computed[:1]
     checks = list(full_case["checks"])[:1]
     return outputs, checks, outputs + [f"checks.{name}" for name in checks]
 

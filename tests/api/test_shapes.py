@@ -480,13 +480,17 @@ def _assert_check(check: dict):
 
 @pytest.mark.parametrize("name", NAMES)
 def test_every_result_carries_its_checks(client, name):
+    """Every check a result carries is well formed. A calculation need not judge any rule of thumb;
+    one whose good example is judged carries checks in every valid case but at most one (a rule may
+    not apply: no blade speed, no loading)."""
     judged = 0
     for case in valid_cases(name):
         body = ok_body(post(client, name, case))
-        judged += bool(body["checks"])  # a rule may not apply (no blade speed, no loading)
+        judged += bool(body["checks"])
         for check in body["checks"].values():
             _assert_check(check)
-    assert judged >= len(valid_cases(name)) - 1
+    if ok_body(post(client, name, EXAMPLES[name].good))["checks"]:
+        assert judged >= len(valid_cases(name)) - 1
     if name not in COLUMN_NAMES:
         return
     columns = ok_body(post(client, name, columns_of(two_good_cases(name))))["columns"]

@@ -7,8 +7,10 @@ values, bad batches. Whatever comes in, the answer must be the documented proble
 valid: never a 500, a traceback, a hang, or a non-finite number in a 200.
 
 The calculations come from service.api.registry.CALCULATIONS. Each is broken from a valid case:
-its own in tests/corpus/valid_cases.json, or, for a calculation that has none there yet, one
-built from its schema (every required field at a value inside its documented range).
+its own in tests/corpus/valid_cases.json, or, for a calculation that has none there, the valid
+cases of its entry in tests/api/examples.py (every input mode, the variants and the good case).
+A case built from the schema alone (every required field inside its documented range) is only
+checked to be schema-valid: it may be physically impossible.
 """
 
 from __future__ import annotations
@@ -27,6 +29,7 @@ from service import create_app
 from service.api.fields import Option, Quantity, QuantityList
 from service.api.problems import INVALID_INPUT, PHYSICALLY_IMPOSSIBLE
 from service.api.registry import CALCULATIONS
+from tests.api import examples
 
 CORPUS_DIR = Path(__file__).resolve().parents[1] / "corpus"
 CORPUS = json.loads((CORPUS_DIR / "bad_input.json").read_text())
@@ -92,7 +95,13 @@ def _schema_case(calculation) -> dict:
 
 
 def valid_cases(calculation) -> list[dict]:
-    return [dict(case) for case in VALID_CASES.get(calculation.name, [])] or [_schema_case(calculation)]
+    if calculation.name in VALID_CASES:
+        cases = VALID_CASES[calculation.name]
+    elif calculation.name in examples.EXAMPLES:
+        cases = examples.valid_cases(calculation.name)
+    else:  # no example yet: tests/api/test_shapes.py::test_every_calculation_has_examples says so
+        cases = [_schema_case(calculation)]
+    return [dict(case) for case in cases]
 
 
 # -- selectors: {number}, {angle}, ... resolved against a calculation's valid case --------------------
@@ -412,14 +421,10 @@ def test_an_edit_equal_in_python_but_not_in_json_is_sent(edit, written):
 
 @pytest.mark.parametrize("calculation", CALCULATIONS, ids=lambda c: c.name)
 def test_every_valid_case_is_valid(calculation):
-    """The bases themselves: a 200 each, so that every 4xx above is the edit's doing. A base built
-    from the schema is schema-valid but may be physically impossible: add one to valid_cases.json."""
+    """The bases themselves: a 200 each, so that every 4xx above is the edit's doing."""
     for case in valid_cases(calculation):
         response = APP.test_client().post(calculation.path, json=case)
-        if calculation.name in VALID_CASES:
-            assert response.status_code == 200, response.get_data(as_text=True)[:500]
-        else:
-            assert response.status_code == 200 or _strict_json(response.get_data())["type"] == PHYSICALLY_IMPOSSIBLE
+        assert response.status_code == 200, response.get_data(as_text=True)[:500]
 
 
 def test_the_corpus_is_large_and_every_case_applies_somewhere(report_figure):
@@ -434,7 +439,7 @@ def test_the_corpus_is_large_and_every_case_applies_somewhere(report_figure):
 
 @pytest.mark.parametrize("calculation", CALCULATIONS, ids=lambda c: c.name)
 def test_a_case_built_from_the_schema_is_schema_valid(calculation):
-    """The fallback base for a calculation without a hand-written one is accepted as input."""
+    """A case of the first input mode built from the schema alone is accepted as input."""
     response = APP.test_client().post(calculation.path, json=_schema_case(calculation))
     assert response.status_code == 200 or _strict_json(response.get_data())["type"] == PHYSICALLY_IMPOSSIBLE
 
