@@ -19,9 +19,13 @@ from service.api.common import (
     stage_count_choice,
 )
 from service.api.declarations import Alternative, Calculation, Choice, Default
-from service.api.fields import Quantity, QuantityPerStage
+from service.api.fields import Option, Quantity, QuantityPerStage
 from service.core import flowpath, gas, machine_defaults, machine_span, zweifel
 from service.core import machine as design
+from service.core import machine_efficiency as estimated
+
+#: How the stages' efficiencies are found.
+EFFICIENCIES = ("given", "estimated")
 
 
 def _defaulted(description: str, name: str) -> str:
@@ -36,8 +40,30 @@ def _defaulted(description: str, name: str) -> str:
 class MachineInput(StageSplitInputs):
     mass_flow = Quantity("Mass flow; at least 1e-6 kg/s. [kg s^-1]", "kg s^-1", minimum=1e-6, required=True)
     shaft_speed = shaft_speed_field("Shaft speed. [rev min^-1]", required=True)
-    polytropic_efficiency = Quantity("Polytropic (small-stage) efficiency of every stage. [-]", "-",
-                                     **EFFICIENCY_LIMITS, required=True)
+    efficiency = Option(
+        "How each stage's efficiency is found: `given` (default: polytropic_efficiency, the same in every stage) "
+        "or `estimated` (each stage's from the loss model on its own triangles and rows, iterated with the split "
+        "to a fixed point; see the description).", EFFICIENCIES, load_default="given")
+    polytropic_efficiency = Quantity(
+        "Polytropic (small-stage) efficiency of every stage (efficiency `given`, required); with efficiency "
+        f"`estimated` the starting value of the first pass, which decides the stage count (default "
+        f"{estimated.DEFAULT_STARTING_EFFICIENCY}). [-]", "-", **EFFICIENCY_LIMITS)
+    loss_model = Option(
+        "efficiency `estimated`: the loss correlations, `lieblein_howell` (compressor, the default there) or "
+        "`soderberg` (turbine, the default there), as in stage-efficiency. kacker_okapuu is not offered: it "
+        "needs chart readings at every row's own geometry that a machine design cannot supply.",
+        tuple(estimated.MACHINE_LOSS_MODELS.values()))
+    tip_clearance_to_height = Quantity(
+        "efficiency `estimated`, compressor: rotor tip clearance over blade height for the tip-clearance loss "
+        f"(default {estimated.DEFAULT_TIP_CLEARANCE_TO_HEIGHT}, common practice). [-]", "-", minimum=0.0,
+        maximum=1.0, exclusive_maximum=True)
+    dynamic_viscosity = positive(
+        "efficiency `estimated`, turbine: dynamic viscosity of the gas for each row's Soderberg Reynolds number "
+        "(default: air by Sutherland's law at the row's exit static temperature). [Pa s]", "Pa s")
+    thickness_to_chord = Quantity(
+        "efficiency `estimated`, turbine: blade thickness over chord, judged against Soderberg's range 0.15-0.25 "
+        "(a warn check; it does not change the loss). [-]", "-", minimum=0.0, maximum=1.0,
+        exclusive_minimum=True, exclusive_maximum=True)
     mean_radius = length("Mean radius, held constant through the machine. [m]")
     hub_radius = length("Hub radius, held constant through the machine. [m]")
     tip_radius = length("Tip (casing) radius, held constant through the machine. [m]")
@@ -115,13 +141,27 @@ MachineOutput = Schema.from_dict(
         "work": output("Total specific work, positive for both machines. [J kg^-1]", "J kg^-1"),
         "power": output("Shaft power, positive for both machines (absorbed or delivered). [W]", "W"),
         "isentropic_efficiency": output("Overall isentropic (total-to-total) efficiency. [-]", "-"),
-        "polytropic_efficiency": output("Polytropic efficiency (as given). [-]", "-"),
+        "polytropic_efficiency": output(
+            "Polytropic efficiency: as given, or (efficiency `estimated`) the whole machine's equivalent, the one "
+            "polytropic efficiency giving the same outlet total temperature at the overall pressure ratio. [-]", "-"),
+        "iterations": integer_output(
+            "efficiency `estimated`: passes of the split and layout with estimated stage efficiencies until the "
+            f"outlet state and every stage's efficiency changed by less than {estimated.TOLERANCE:g} (at most "
+            f"{estimated.MAX_ITERATIONS}). [-]"),
         "axial_length": output("Axial length: the rows' axial chords and the gaps between them. [m]", "m"),
         "stage_pressure_ratio": _list("Pressure ratio of each stage (turbine: expansion ratio). [-]", "-"),
         "stage_total_temperature_change": _list("Total temperature rise (compressor) or drop (turbine) of each "
                                                 "stage. [K]", "K"),
         "stage_work": _list("Specific work of each stage, positive. [J kg^-1]", "J kg^-1"),
-        "stage_isentropic_efficiency": _list("Isentropic (total-to-total) efficiency of each stage. [-]", "-"),
+        "stage_isentropic_efficiency": _list(
+            "Isentropic (total-to-total) efficiency of each stage: from the polytropic efficiency given, or "
+            "(efficiency `estimated`) the loss model's on the stage's own triangles and rows. [-]", "-"),
+        "stage_total_to_static_efficiency": _list(
+            "efficiency `estimated`: the loss model's total-to-static efficiency of each stage. [-]", "-"),
+        "row_loss_coefficient": _list(
+            "efficiency `estimated`: the loss model's loss coefficient of every row, 1 to 2n in flow order "
+            "(soderberg: enthalpy loss over the exit kinetic energy; lieblein_howell: stagnation-pressure loss "
+            "over the inlet dynamic pressure). [-]", "-"),
         "stage_loading_coefficient": _list("Loading coefficient of each stage at its blade speed. [-]", "-"),
         "stage_flow_coefficient": _list("Flow coefficient of each stage. [-]", "-"),
         "stage_reaction": _list("Reaction of each stage: the rotor's static enthalpy change over the stage's, from the "
@@ -207,9 +247,22 @@ ROWS = Choice("row_sizing", "how the rows are sized", (
                 when={"machine": ("compressor",)}),
 ))
 
+EFFICIENCY = Choice("stage_efficiency", "how each stage's efficiency is found", (
+    Alternative("given", "efficiency given (the default) with polytropic_efficiency",
+                required=("polytropic_efficiency",), when={"efficiency": ("given",)}),
+    # One alternative for both machines: the loss fields of the other machine's model are refused by the core
+    # (a per-case reason naming the field), since a second machine-dependent choice defeats the schema fuzzer.
+    Alternative("estimated", "efficiency estimated",
+                optional=("polytropic_efficiency", "loss_model", "tip_clearance_to_height", "dynamic_viscosity",
+                          "thickness_to_chord"), when={"efficiency": ("estimated",)}),
+))
+
 _OPTIONAL = ("mean_radius", "hub_radius", "tip_radius", "stages", "max_loading_coefficient",
              "max_stage_pressure_ratio", "weights", "inlet_swirl", "outlet_swirl", "target_diffusion_factor",
              "solidity", "axial_gap", "rotor_loss_fraction")
+
+
+_ESTIMATED = ("polytropic_efficiency", "tip_clearance_to_height", "dynamic_viscosity", "thickness_to_chord")
 
 
 def _compute(options: dict, inputs: dict):
@@ -218,6 +271,13 @@ def _compute(options: dict, inputs: dict):
     given = {name: inputs[name] for name in _OPTIONAL if inputs.get(name) is not None}
     if machine == "turbine":
         given["zweifel_coefficient"] = inputs["zweifel_coefficient"]
+    if options["efficiency"] == "estimated":
+        given.update({name: inputs[name] for name in _ESTIMATED if inputs.get(name) is not None})
+        return estimated.evaluate_machine_design_estimated(
+            machine, inputs["mass_flow"], inputs["total_temperature"], inputs["total_pressure"],
+            inputs["pressure_ratio"], inputs["shaft_speed"], inputs["flow_coefficient"], inputs["reaction"],
+            inputs["rotor_aspect_ratio"], inputs["stator_aspect_ratio"], loss_model=options.get("loss_model"),
+            cp=cp, gamma=gamma, rule=options["rule"], **given)
     return design.evaluate_machine_design(
         machine, inputs["mass_flow"], inputs["total_temperature"], inputs["total_pressure"],
         inputs["pressure_ratio"], inputs["shaft_speed"], inputs["polytropic_efficiency"],
@@ -267,6 +327,18 @@ CALCULATION = Calculation(
         "stagger = mean of the row-frame flow angles, true chord = axial chord / cos(stagger); axial gap a "
         "fraction of the axial chord. A station whose static temperature reaches zero, whose hub radius or blade "
         "height is at or below zero, or whose axial Mach number reaches 1 fails the case, naming the station. "
+        "With efficiency `estimated` each stage's isentropic efficiency comes from the loss model (loss_model, as "
+        "stage-efficiency: lieblein_howell for a compressor, soderberg for a turbine) applied to the stage's own "
+        "station values (row-frame angles and speeds with the annulus's radius change, static temperatures, Mach "
+        "numbers, densities, work) and rows (aspect ratios; the solidity or pitch the row target asks for before "
+        "the blade count is rounded; soderberg's Reynolds number from the row's exit density, speed, hydraulic "
+        "diameter and viscosity); the split and layout are repeated with those efficiencies until the outlet "
+        f"total temperature and pressure (relative) and every stage's efficiency change by less than "
+        f"{estimated.TOLERANCE:g} between passes, at most {estimated.MAX_ITERATIONS} passes, else the case fails "
+        "saying so. The first pass, at polytropic_efficiency (default "
+        f"{estimated.DEFAULT_STARTING_EFFICIENCY}), decides the stage count, which is then held. Correlation "
+        "inputs outside their fitted range are `warn` checks named loss_<check>, one value per stage. "
+        "Preliminary-design estimates, within a few points of efficiency at best. "
         "Send `Accept: image/svg+xml` with one case for a drawing of the meridional flowpath and its rows. One "
         "case, rows or columns; in columns, per-stage inputs may be a list of lists (one per case, of different "
         "lengths) and every per-stage, per-station and per-row output is a list of lists, one per case at its "
@@ -274,7 +346,7 @@ CALCULATION = Calculation(
     ),
     schema=MachineInput,
     outputs=MachineOutput,
-    choices=(RADIUS, stage_count_choice(blade_speed=False), WORK_SPLIT, ROWS),
+    choices=(RADIUS, stage_count_choice(blade_speed=False), WORK_SPLIT, ROWS, EFFICIENCY),
     compute=_compute,
     defaults=DEFAULTS,
     columns=True,

@@ -458,9 +458,11 @@ def _input_failures(p, machine):
 
 def _split(machine, rule, p, count_name, count_value, weights, held, max_stages):
     blade = blade_speed(p["radius"], p["shaft_speed"]) if held == "mean" else None
+    efficiency = {name: p[name] for name in ("polytropic_efficiency", "stage_isentropic_efficiency")
+                  if p.get(name) is not None}
     return split.evaluate_stage_split(
         machine, rule, p["pressure_ratio"], p["total_temperature"], p["total_pressure"], p["cp"], p["gamma"],
-        polytropic_efficiency=p["polytropic_efficiency"], **{count_name: count_value}, blade_speed=blade,
+        **efficiency, **{count_name: count_value}, blade_speed=blade,
         weights=weights, mass_flow=p["mass_flow"], max_stages=max_stages)
 
 
@@ -505,7 +507,7 @@ def evaluate_machine_design(
     stages=None, max_loading_coefficient=None, max_stage_pressure_ratio=None, rule="equal_work", weights=None,
     inlet_swirl=None, outlet_swirl=None, zweifel_coefficient=zweifel.OPTIMUM_ZWEIFEL_COEFFICIENT,
     target_diffusion_factor=None, solidity=None, axial_gap=flowpath.DEFAULT_AXIAL_GAP,
-    rotor_loss_fraction=DEFAULT_ROTOR_LOSS_FRACTION, max_stages=MAX_STAGES,
+    rotor_loss_fraction=DEFAULT_ROTOR_LOSS_FRACTION, max_stages=MAX_STAGES, stage_isentropic_efficiency=None,
 ):
     """A multistage compressor or turbine laid out at the mean line from the cycle's duty.
 
@@ -523,8 +525,8 @@ def evaluate_machine_design(
         Overall ``p0_out / p0_in`` (compressor) or ``p0_in / p0_out`` (turbine); above one. [-]
     shaft_speed : array_like
         Shaft speed. [rev min^-1]
-    polytropic_efficiency : array_like
-        Polytropic efficiency of every stage, in (0, 1]. [-]
+    polytropic_efficiency : array_like or None
+        Polytropic efficiency of every stage, in (0, 1]; None with ``stage_isentropic_efficiency``. [-]
     flow_coefficient, reaction : array_like
         ``V_x / U`` and the reaction of every stage: per case (0-D or 1-D: one value for every
         stage) or per stage (2-D, ``(cases, k)``, front to rear, ``k`` the stage count). [-]
@@ -561,13 +563,18 @@ def evaluate_machine_design(
         The rotor's share of each stage's entropy rise (default 0.5). [-]
     max_stages : int
         Largest stage count given or solved. [-]
+    stage_isentropic_efficiency : array_like, optional
+        In place of ``polytropic_efficiency``: the total-to-total isentropic efficiency of every stage,
+        per case (0-D or 1-D) or per stage (``(cases, k)``, front to rear, NaN padding a shorter case's
+        row), in (0, 1]; needs ``stages`` (:func:`service.core.split.evaluate_stage_split`). [-]
 
     Returns
     -------
     CaseResults
         Overall, shape ``(cases,)``: ``stage_count`` (int64, 0 where the case failed),
         ``outlet_total_temperature`` [K], ``outlet_total_pressure`` [Pa], ``work`` [J kg^-1], ``power`` [W]
-        (both positive for both machines), ``isentropic_efficiency``, ``polytropic_efficiency`` [-],
+        (both positive for both machines), ``isentropic_efficiency``, ``polytropic_efficiency`` (the one
+        given, or the whole machine's equivalent) [-],
         ``axial_length`` [m]. Per stage ``(cases, n)``: ``stage_pressure_ratio``,
         ``stage_isentropic_efficiency``, ``stage_loading_coefficient``, ``stage_flow_coefficient``,
         ``stage_reaction`` [-], ``stage_total_temperature_change`` [K], ``stage_work`` [J kg^-1],
@@ -608,6 +615,9 @@ def evaluate_machine_design(
     held = held_name.removesuffix("_radius")
     count_name, count_value = _exactly_one(stages=stages, max_loading_coefficient=max_loading_coefficient,
                                            max_stage_pressure_ratio=max_stage_pressure_ratio)
+    _exactly_one(polytropic_efficiency=polytropic_efficiency, stage_isentropic_efficiency=stage_isentropic_efficiency)
+    if stage_isentropic_efficiency is not None and count_name != "stages":
+        raise ValueError("stage_isentropic_efficiency needs stages")
     if machine == "compressor":
         _exactly_one(target_diffusion_factor=target_diffusion_factor, solidity=solidity)
     elif target_diffusion_factor is not None or solidity is not None or outlet_swirl is not None:
@@ -621,7 +631,10 @@ def evaluate_machine_design(
         "solidity": solidity, "axial_gap": axial_gap, "rotor_loss_fraction": rotor_loss_fraction,
         count_name: count_value,
     }
-    p, m = _cases(per_case, {"flow_coefficient": flow_coefficient, "reaction": reaction}, weights)
+    per_stage = {"flow_coefficient": flow_coefficient, "reaction": reaction}
+    if stage_isentropic_efficiency is not None:
+        per_stage["stage_isentropic_efficiency"] = stage_isentropic_efficiency
+    p, m = _cases(per_case, per_stage, weights)
     if weights is not None:
         weights = np.atleast_2d(np.asarray(weights, dtype=float))
         weights = np.broadcast_to(weights, (m, weights.shape[1]))

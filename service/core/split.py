@@ -359,23 +359,33 @@ def _total_change_isentropic(machine, pressure_ratio, shares, efficiency, k):
     isentropic stage's ``Pi^k - 1`` (compressor; preheat only adds) or ``eta (1 - Pi^-k)``
     (turbine; reheat only adds), and at most ``Pi^(k/eta) - 1`` (compressor) or
     ``1 - Pi^(-k eta)`` (turbine), since a stage of isentropic efficiency ``eta`` has a
-    polytropic efficiency at least (compressor) or at most (turbine) ``eta``.
+    polytropic efficiency at least (compressor) or at most (turbine) ``eta``. With one
+    efficiency per stage, ``efficiency`` of shape ``(cases, width)``, the same bounds hold with
+    the lowest stage efficiency in the compressor's upper and the turbine's lower bound and the
+    highest in the turbine's upper bound.
     """
     log_ratio = np.log(pressure_ratio)
     before = np.cumsum(shares, axis=1) - shares
+    if efficiency.ndim == 2:
+        # One efficiency per stage: the bounds of the stages' lowest and highest efficiency hold.
+        used = shares > 0
+        low_eta = np.min(np.where(used, efficiency, np.inf), axis=1)
+        high_eta = np.max(np.where(used, efficiency, -np.inf), axis=1)
+    else:
+        low_eta = high_eta = efficiency
     if machine == "compressor":
         lower = np.expm1(k * log_ratio)
-        upper = np.expm1(k * log_ratio / efficiency)
+        upper = np.expm1(k * log_ratio / low_eta)
     else:
-        lower = -efficiency * np.expm1(-k * log_ratio)
-        upper = -np.expm1(-k * efficiency * log_ratio)
+        lower = -low_eta * np.expm1(-k * log_ratio)
+        upper = -np.expm1(-k * high_eta * log_ratio)
     # Widened so an efficiency of one (lower == upper) still brackets the root.
     lower, upper = lower * (1.0 - 1e-6), upper * (1.0 + 1e-6)
 
     def residual(x, case):
         x = x[..., None]
         w, c = shares[case], before[case]
-        eta, kk = efficiency[case, None], k[case, None]
+        eta, kk = (efficiency[case] if efficiency.ndim == 2 else efficiency[case, None]), k[case, None]
         with np.errstate(invalid="ignore", divide="ignore"):
             if machine == "compressor":
                 log_stage = np.log1p(eta * w * x / (1.0 + x * c)) / kk
@@ -395,8 +405,20 @@ def _total_change_isentropic(machine, pressure_ratio, shares, efficiency, k):
     return np.where(result.success, result.x, np.nan)
 
 
+def _per_stage_columns(efficiency, cases, width):
+    """A per-stage efficiency (cases, k) as (cases, width): cut or padded with NaN."""
+    efficiency = np.broadcast_to(efficiency, (cases, efficiency.shape[-1]))
+    out = np.full((cases, width), np.nan)
+    columns = min(width, efficiency.shape[1])
+    out[:, :columns] = efficiency[:, :columns]
+    return out
+
+
 def _split(machine, rule, efficiency_model, pressure_ratio, stage_count, efficiency, gamma, weights):
     """Stage pressure ratios and total temperature ratios, (cases, width), NaN where undefined.
+
+    ``efficiency`` is per case, ``(cases,)``, or (stage isentropic only) per stage,
+    ``(cases, k)``, NaN past a case's stage count.
 
     Returns ``(ratio, tau, log_ratio, tau_minus_one)``: the last two are exact where the first two,
     rounded to floats near one, have lost the digits of ``Pi - 1`` and ``tau - 1``.
@@ -406,13 +428,25 @@ def _split(machine, rule, efficiency_model, pressure_ratio, stage_count, efficie
     _check_option("efficiency_model", efficiency_model, EFFICIENCY_MODELS)
     if (rule == "weights") != (weights is not None):
         raise ValueError("weights must be given with rule 'weights', and only with it")
-    (pressure_ratio, efficiency, gamma, stage_count), weights = _cases_and_weights(
-        weights, pressure_ratio, efficiency, gamma, stage_count)
+    per_stage = np.ndim(efficiency) == 2
+    if per_stage:
+        if efficiency_model != "stage_isentropic":
+            raise ValueError("a per-stage efficiency must be a stage isentropic efficiency")
+        efficiency = np.asarray(efficiency, dtype=float)
+        (pressure_ratio, gamma, stage_count, _), weights = _cases_and_weights(
+            weights, pressure_ratio, gamma, stage_count, np.zeros(efficiency.shape[0]))
+    else:
+        (pressure_ratio, efficiency, gamma, stage_count), weights = _cases_and_weights(
+            weights, pressure_ratio, efficiency, gamma, stage_count)
     stage_count = np.where(np.isfinite(stage_count), stage_count, 0).astype(np.int64)
     k = _exponent(gamma)
     shares, defined = _work_shares(rule, stage_count, weights)
+    if per_stage:
+        efficiency = _per_stage_columns(efficiency, pressure_ratio.shape[0], shares.shape[1])
+        with np.errstate(invalid="ignore"):
+            defined = defined & np.all((efficiency > 0) | (shares <= 0), axis=1)
     with np.errstate(invalid="ignore", divide="ignore", over="ignore"):
-        eta, kk = efficiency[:, None], k[:, None]
+        eta, kk = (efficiency if per_stage else efficiency[:, None]), k[:, None]
         if rule == "equal_pressure_ratio":
             log_ratio = np.where(shares > 0, (np.log(pressure_ratio) / stage_count)[:, None], np.nan)
             if efficiency_model == "polytropic":
@@ -820,7 +854,9 @@ def evaluate_stage_split(
         Ratio of specific heats. [-]
     polytropic_efficiency, stage_isentropic_efficiency : array_like
         Exactly one: the polytropic efficiency, or the total-to-total isentropic efficiency
-        of every stage; in (0, 1]. [-]
+        of every stage; in (0, 1]. The stage isentropic efficiency may also be given per
+        stage, shape ``(cases, k)`` or ``(1, k)``, front to rear, NaN padding the end of a
+        shorter case's row; then ``stages`` must be given and match each row's count. [-]
     stages, max_loading_coefficient, max_stage_pressure_ratio : array_like
         Exactly one: the stage count; or the largest stage ``Delta h0 / U^2`` (needs
         ``blade_speed``); or the largest stage pressure ratio (turbine: expansion ratio).
@@ -878,16 +914,26 @@ def evaluate_stage_split(
                               max_stage_pressure_ratio=max_stage_pressure_ratio)
     if count_name == "max_loading_coefficient" and blade_speed is None:
         raise ValueError("max_loading_coefficient needs blade_speed")
+    per_stage = np.ndim(efficiency_value) == 2
+    if per_stage and (efficiency_name != "stage_isentropic_efficiency" or count_name != "stages"):
+        raise ValueError("a per-stage efficiency, shape (cases, k), must be stage_isentropic_efficiency with stages")
     given = {
         "pressure_ratio": pressure_ratio, "total_temperature": total_temperature,
         "total_pressure": total_pressure,
-        "cp": cp, "gamma": gamma, efficiency_name: efficiency_value, count_name: count_value,
+        "cp": cp, "gamma": gamma, efficiency_name: None if per_stage else efficiency_value, count_name: count_value,
         "blade_speed": blade_speed, "mass_flow": mass_flow,
     }
+    if per_stage:
+        efficiency_value = np.asarray(efficiency_value, dtype=float)
+        # The per-stage efficiency's rows are cases too: broadcast with the others.
+        given["_efficiency_rows"] = np.zeros(efficiency_value.shape[0])
     given = {name: value for name, value in given.items() if value is not None}
     arrays, weights = _cases_and_weights(weights, *given.values())
     inputs = dict(zip(given, arrays, strict=True))
     n = inputs["pressure_ratio"].shape[0]
+    if per_stage:
+        del inputs["_efficiency_rows"]
+        inputs[efficiency_name] = np.broadcast_to(efficiency_value, (n, efficiency_value.shape[1])).astype(float)
 
     failures = _input_failures(inputs, efficiency_name, count_name, weights, max_stages)
     good = np.ones(n, dtype=bool)
@@ -974,8 +1020,22 @@ def _input_failures(inputs, efficiency_name, count_name, weights, max_stages):
         ("total_pressure must be positive", outside("total_pressure", 0.0)),
         ("cp must be positive", outside("cp", 0.0)),
         ("gamma must be above 1", outside("gamma", 1.0)),
-        (f"{efficiency_name} must be in (0, 1]", outside(efficiency_name, 0.0, 1.0)),
     ]
+    if inputs[efficiency_name].ndim == 2:
+        # One efficiency per stage: as many finite entries as stages, NaN only padding the end.
+        efficiency = inputs[efficiency_name]
+        count, usable = weight_counts(np.where(np.isfinite(efficiency), 1.0, np.nan))
+        with np.errstate(invalid="ignore"):
+            inside = ~np.isfinite(efficiency) | ((efficiency > 0.0) & (efficiency <= 1.0))
+        wrong_count = ~usable
+        if count_name == "stages":
+            wrong_count |= count != inputs["stages"]
+        failures += [
+            (f"{efficiency_name} must have one entry per stage (NaN only padding the end)", wrong_count),
+            (f"{efficiency_name} must be in (0, 1]", ~np.all(inside, axis=1)),
+        ]
+    else:
+        failures.append((f"{efficiency_name} must be in (0, 1]", outside(efficiency_name, 0.0, 1.0)))
     if "blade_speed" in inputs:
         failures.append(("blade_speed must be positive", outside("blade_speed", 0.0)))
     if "mass_flow" in inputs:

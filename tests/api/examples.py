@@ -132,7 +132,7 @@ EXAMPLES = {
               "flow_coefficient": 0.5, "reaction": 0.6, "rotor_aspect_ratio": 2.5, "stator_aspect_ratio": 3.0},
         values={"mean_radius": 0.3, "hub_radius": 0.25, "tip_radius": 0.42, "stages": 3,
                 "max_loading_coefficient": 0.6, "max_stage_pressure_ratio": 2.0, "weights": [1.0, 1.1, 1.0],
-                "target_diffusion_factor": 0.45, "solidity": 1.2},
+                "target_diffusion_factor": 0.45, "solidity": 1.2, "polytropic_efficiency": 0.9},
         # A flow coefficient of 1.1 at 20,000 rev/min puts the axial velocity near 690 m/s at the
         # 0.3 m mean radius (V_x = phi * 2 pi r N / 60, derived here), far above the speed of
         # sound at 288 K: the annulus chokes at station 1.

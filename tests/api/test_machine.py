@@ -197,3 +197,75 @@ def test_the_json_path_does_not_import_matplotlib():
             "print('matplotlib' in sys.modules)")
     out = subprocess.run([sys.executable, "-c", code], capture_output=True, text=True, check=True)
     assert out.stdout.strip().splitlines()[-1] == "False"  # after the request's log line
+
+
+ESTIMATED = {**COMPRESSOR, "efficiency": "estimated"}
+del ESTIMATED["polytropic_efficiency"]
+
+
+def test_estimated_efficiency_is_the_cores_answer(client):
+    from service.core import machine_efficiency
+
+    answer = _post(client, "/v1/machine-design", {**ESTIMATED, "tip_clearance_to_height": 0.02})
+    core = machine_efficiency.evaluate_machine_design_estimated(
+        "compressor", 25.0, 288.15, 101325.0, 5.0, 12000.0, 0.5, 0.6, 2.5, 3.0, tip_clearance_to_height=0.02,
+        mean_radius=0.3, stages=5, target_diffusion_factor=0.45, cp=1005.0, gamma=1.4)
+    assert answer["iterations"] == core.values["iterations"][0] > 1
+    for name in ("stage_isentropic_efficiency", "row_loss_coefficient", "station_total_pressure",
+                 "outlet_total_temperature", "polytropic_efficiency", "isentropic_efficiency"):
+        assert_allclose(answer[name], core.values[name][0], rtol=1e-12, err_msg=name)
+    assert len(answer["stage_isentropic_efficiency"]) == 5 and len(answer["row_loss_coefficient"]) == 10
+    # The estimate is not the starting value: the overall polytropic efficiency is computed, not echoed.
+    assert answer["polytropic_efficiency"] != 0.9
+    # The given mode answers as before, without the estimated outputs.
+    given = _post(client, "/v1/machine-design", COMPRESSOR)
+    assert "iterations" not in given and given["polytropic_efficiency"] == 0.9
+
+
+def test_estimated_rows_are_the_single_answers(client):
+    cases = [ESTIMATED, {**TURBINE, "efficiency": "estimated", "thickness_to_chord": 0.2}, COMPRESSOR,
+             {**ESTIMATED, "loss_model": "soderberg"}, {**ESTIMATED, "stages": 3, "pressure_ratio": 2.5}]
+    body = _post(client, "/v1/machine-design", {"cases": cases})
+    for i, case in enumerate(cases):
+        response = client.post("/v1/machine-design", json=case)
+        if response.status_code == 200:
+            alone = response.get_json()
+            assert body["results"][i] == alone
+        else:
+            assert response.status_code == 422
+            assert {"index": i, "detail": response.get_json()["detail"]} in body["errors"]
+    assert body["errors"] == [{"index": 3, "detail": "loss_model 'soderberg' is for a turbine, not a compressor"}]
+
+
+def test_correlation_ranges_are_answered_with_a_warn_check(client):
+    # Lieblein's correlation rests on cascades of solidity 0.5-1.5 (NASA SP-36 ch. 6): 1.8 is answered, flagged.
+    case = {**ESTIMATED, "solidity": 1.8}
+    del case["target_diffusion_factor"]
+    answer = _post(client, "/v1/machine-design", case)
+    check = answer["checks"]["loss_rotor_solidity_high"]
+    assert check["status"] == ["warn"] * 5 and check["value"] == [1.8] * 5 and "Lieblein" in check["basis"]
+    assert 0.8 < answer["polytropic_efficiency"] < 1.0
+
+
+@pytest.mark.parametrize(("body", "pointer"), [
+    ({**ESTIMATED, "efficiency": "given"}, "/polytropic_efficiency"),
+    ({**COMPRESSOR, "tip_clearance_to_height": 0.01}, "/tip_clearance_to_height"),
+    ({**COMPRESSOR, "loss_model": "lieblein_howell"}, "/loss_model"),
+    ({**ESTIMATED, "loss_model": "kacker_okapuu"}, "/loss_model"),
+    ({**ESTIMATED, "tip_clearance_to_height": 1.5}, "/tip_clearance_to_height"),
+    ({**ESTIMATED, "efficiency": "guessed"}, "/efficiency"),
+    ({**TURBINE, "efficiency": "estimated", "thickness_to_chord": 0.0}, "/thickness_to_chord"),
+])
+def test_malformed_estimated_inputs_name_the_field(client, body, pointer):
+    problem = _post(client, "/v1/machine-design", body, 422)
+    assert pointer in {e["pointer"] for e in problem["errors"]}
+
+
+def test_a_single_case_with_the_other_machines_loss_model_or_its_fields_is_a_422_saying_so(client):
+    problem = _post(client, "/v1/machine-design", {**ESTIMATED, "loss_model": "soderberg"}, 422)
+    assert problem["detail"] == "loss_model 'soderberg' is for a turbine, not a compressor"
+    problem = _post(client, "/v1/machine-design", {**ESTIMATED, "dynamic_viscosity": 1.8e-5}, 422)
+    assert problem["detail"].startswith("dynamic_viscosity does not apply to a compressor")
+    problem = _post(client, "/v1/machine-design", {**TURBINE, "efficiency": "estimated",
+                                                   "tip_clearance_to_height": 0.01}, 422)
+    assert problem["detail"].startswith("tip_clearance_to_height does not apply to a turbine")

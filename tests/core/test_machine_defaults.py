@@ -12,8 +12,9 @@ from tests.core.helpers import reasons
 #: Inputs of evaluate_machine_design that are the duty, a choice between methods or a limit of the
 #: search, not a blade-sizing input with a designer's default.
 NOT_SIZING = {"machine", "mass_flow", "total_temperature", "total_pressure", "pressure_ratio", "shaft_speed",
-              "polytropic_efficiency", "cp", "gamma", "mean_radius", "hub_radius", "tip_radius", "stages",
-              "max_stage_pressure_ratio", "rule", "weights", "inlet_swirl", "outlet_swirl", "solidity", "max_stages"}
+              "polytropic_efficiency", "stage_isentropic_efficiency", "cp", "gamma", "mean_radius", "hub_radius",
+              "tip_radius", "stages", "max_stage_pressure_ratio", "rule", "weights", "inlet_swirl", "outlet_swirl",
+              "solidity", "max_stages"}
 
 #: Duties only (the smallest request): a compressor of air and a turbine of combustion products, with the
 #: gas presets of DESIGN.md; the numbers are inputs of a run, not check values.

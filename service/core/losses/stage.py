@@ -225,9 +225,10 @@ def evaluate_stage_efficiency(machine, loss_model, flow: Mapping, cp, gamma, rot
     tip_clearance_to_height : array_like, optional
         Rotor tip clearance over blade height (compressor, ``kacker_okapuu``); without it no
         clearance loss. [-]
-    reynolds_number : array_like, optional
-        Soderberg's Reynolds number of both turbine rows (exit velocity, hydraulic diameter).
-        Without it it is found from ``rho1``, ``blade_height`` and the viscosity. [-]
+    reynolds_number : array_like or mapping of str to array_like, optional
+        Soderberg's Reynolds number of both turbine rows (exit velocity, hydraulic diameter), or
+        of each, keyed ``stator`` and ``rotor``. Without it it is found from ``rho1``,
+        ``blade_height`` and the viscosity. [-]
     blade_height : array_like, optional
         Blade height of both turbine rows, for the Reynolds number. [m]
     dynamic_viscosity : array_like, optional
@@ -277,6 +278,8 @@ def evaluate_stage_efficiency(machine, loss_model, flow: Mapping, cp, gamma, rot
     if loss_model == "soderberg":
         if reynolds_number is None:
             reynolds = soderberg_reynolds_numbers(flow, rows, aspect_ratio, blade_height, gamma, dynamic_viscosity)
+        elif isinstance(reynolds_number, Mapping):
+            reynolds = {"stator": reynolds_number["stator"], "rotor": reynolds_number["rotor"]}
         else:
             reynolds = {"stator": reynolds_number, "rotor": reynolds_number}
         values, checks, loss = _soderberg(flow, rows, cp, gamma, aspect_ratio, reynolds, thickness_to_chord)
