@@ -270,27 +270,32 @@ class QuantityList(_CaseField):
         if not isinstance(value, list) or not value:
             raise ValidationError("Must be a non-empty list of numbers.")
         if self._loads_columns() and isinstance(value[0], list):
-            empty = {i: ["Must be a non-empty list of numbers."] for i, v in enumerate(value) if v == []}
-            if empty:  # as one case's empty list is refused (rows are loaded as columns)
-                raise ValidationError(empty)
-            lengths = {len(v) if isinstance(v, list) else -1 for v in value}
-            if -1 in lengths:
-                raise ValidationError("Must be one list of numbers for every case, or a list of such lists "
-                                      "(one per case).")
-            if len(lengths) != 1:
-                raise ValidationError("Every case's list must have the same length.")
-            rows, errors = [], {}
-            for i, case_values in enumerate(value):
-                try:
-                    rows.append(self.item._load_column(case_values))
-                except ValidationError as error:
-                    errors[i] = error.messages
-            if errors:
-                raise ValidationError(errors)
-            return np.vstack(rows)
+            return self._load_lists(value)
         if self._loads_columns():  # one list for every case: (1, k), never taken for a column of cases
             return self.item._load_column(value)[None, :]
         return self.item._load_column(value)
+
+
+    def _load_lists(self, value: list) -> np.ndarray:
+        """A list per case (columns, or rows loaded as columns): ``(cases, k)``, every list of one length."""
+        empty = {i: ["Must be a non-empty list of numbers."] for i, v in enumerate(value) if v == []}
+        if empty:  # as one case's empty list is refused (rows are loaded as columns)
+            raise ValidationError(empty)
+        lengths = {len(v) if isinstance(v, list) else -1 for v in value}
+        if -1 in lengths:
+            raise ValidationError("Must be one list of numbers for every case, or a list of such lists "
+                                  "(one per case).")
+        if len(lengths) != 1:
+            raise ValidationError("Every case's list must have the same length.")
+        rows, errors = [], {}
+        for i, case_values in enumerate(value):
+            try:
+                rows.append(self.item._load_column(case_values))
+            except ValidationError as error:
+                errors[i] = error.messages
+        if errors:
+            raise ValidationError(errors)
+        return np.vstack(rows)
 
 
 class QuantityPerStage(QuantityList):
