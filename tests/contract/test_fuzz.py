@@ -39,6 +39,13 @@ MIN_REQUESTS = 2000
 APP = create_app({"API_KEYS": API_KEY, "MAX_CASES": 1000})
 DOCUMENT = json.loads(APP.test_client().get("/v1/openapi.json").get_data())
 OPERATIONS = {f"{method.upper()} {path}" for path, item in DOCUMENT["paths"].items() for method in item}
+# Schemathesis (hypothesis-jsonschema) cannot combine the machine design's columns request: five
+# choices, four of them tied to option values, over fields that are each a value or a list
+# ("UnsupportedSchema"). It is fuzzed as one case and as rows here; its columns shape is checked
+# against the same cases sent one by one (tests/api/test_batch_equivalence_lists.py). The
+# document the service serves keeps the columns shape.
+_MACHINE_REQUEST = DOCUMENT["components"]["schemas"]["MachineDesignRequest"]
+_MACHINE_REQUEST["oneOf"] = [shape for shape in _MACHINE_REQUEST["oneOf"] if "Columns" not in shape["$ref"]]
 # Loaded as a document and pointed at the app, as schemathesis.openapi.from_wsgi does, but without
 # from_wsgi's habit of leaving out the operation that served the document.
 # The whole-machine layout costs tens of milliseconds a case and its 60-odd input modes give the
