@@ -61,8 +61,10 @@ def request_mix() -> list[Call]:
             number = next(name for name, value in case.items() if isinstance(value, float))
             sweep = [case[number] * (0.95 + 0.1 * k / 49) for k in range(50)]
             documents = [case, {"cases": [case] * 10}]
-            if calculation.columns:  # the stage split and the machine design take no columns
-                documents.append({"columns": {**case, number: sweep}})
+            if calculation.columns:
+                # A list-valued field (per stage) in columns is one list per case.
+                lists = {name: [value] * len(sweep) for name, value in case.items() if isinstance(value, list)}
+                documents.append({"columns": {**case, **lists, number: sweep}})
             for document in documents:
                 calls.append(Call(calculation.path, json.dumps(document).encode(), 200))
         calls.append(Call(calculation.path, b"{}", 422))
