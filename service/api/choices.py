@@ -166,7 +166,7 @@ def _ways_out(calculation: Calculation, choice: Choice, alternative: Alternative
               taken: dict[str, Alternative], present: frozenset) -> list[Alternative]:
     """The alternatives that would meet an unmet need: those needed, or a sibling that takes the
     fields given and has its own needs met."""
-    ways = [choice_of(calculation, other).alternative(v) for other, values in unmet.items() for v in values]
+    ways = [calculation.choice(other).alternative(v) for other, values in unmet.items() for v in values]
     given = present & choice.fields
     for sibling in choice.alternatives:
         if sibling is not alternative and given <= set(sibling.fields) and all(
@@ -175,8 +175,6 @@ def _ways_out(calculation: Calculation, choice: Choice, alternative: Alternative
     return ways
 
 
-def choice_of(calculation: Calculation, name: str) -> Choice:
-    return next(c for c in calculation.choices if c.name == name)
 
 
 def assumed_values(calculation: Calculation, taken: dict[str, Alternative], options: dict, present: frozenset,

@@ -158,3 +158,9 @@ WORK_SPLIT = Choice("work_split", "how the work is shared between the stages", (
                 when={"rule": ("equal_work", "equal_pressure_ratio")}),
     Alternative("weights", "rule weights and weights", required=("weights",), when={"rule": ("weights",)}),
 ))
+
+
+def given(inputs: dict, names) -> dict:
+    """The fields among ``names`` that a case holds a value for (given, or a default), to hand to the
+    core by name."""
+    return {name: inputs[name] for name in names if inputs.get(name) is not None}

@@ -227,8 +227,11 @@ class Calculation:
 
     def allowed_fields(self, form: Form) -> frozenset[str]:
         """The fields a case of ``form`` may give."""
-        return frozenset((set(self._case_schema.fields) - self._choice_fields) | set(form.required)
-                         | set(form.optional))
+        return self.allowed_fields_of(form.taken)
+
+    def choice(self, name: str) -> Choice:
+        """The choice named ``name``."""
+        return next(c for c in self.choices if c.name == name)
 
     def allowed_fields_of(self, taken: Mapping[str, Alternative]) -> frozenset[str]:
         """The fields a case may give with the alternatives ``taken`` (choice name -> alternative)."""

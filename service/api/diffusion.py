@@ -4,7 +4,7 @@ from __future__ import annotations
 
 from marshmallow import Schema
 
-from service.api.common import angle, integer_output, length, output, ratio, shaft_speed_field, speed
+from service.api.common import angle, given, integer_output, length, output, ratio, shaft_speed_field, speed
 from service.api.declarations import Alternative, Calculation, Choice
 from service.api.fields import CaseSchema, Option, Quantity
 from service.core import diffusion
@@ -77,8 +77,8 @@ _ROW = (*SOLIDITY.fields, *RADIUS.fields, "axial_velocity", "inlet_angle", "outl
 
 
 def _compute(options: dict, inputs: dict):
-    given = {name: inputs[name] for name in _ROW if inputs.get(name) is not None}
-    return diffusion.evaluate_diffusion_row(options["row"], span_position=options["span_position"], **given)
+    return diffusion.evaluate_diffusion_row(options["row"], span_position=options["span_position"],
+                                            **given(inputs, _ROW))
 
 
 CALCULATION = Calculation(

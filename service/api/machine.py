@@ -10,6 +10,7 @@ from service.api.common import (
     WORK_SPLIT,
     StageSplitInputs,
     angle,
+    given,
     integer_output,
     length,
     output,
@@ -268,21 +269,21 @@ _ESTIMATED = ("polytropic_efficiency", "tip_clearance_to_height", "dynamic_visco
 def _compute(options: dict, inputs: dict):
     machine = options["machine"]
     cp, gamma = gas.gas_properties(options["gas"], inputs.get("cp"), inputs.get("gamma"))
-    given = {name: inputs[name] for name in _OPTIONAL if inputs.get(name) is not None}
+    fields = given(inputs, _OPTIONAL)
     if machine == "turbine":
-        given["zweifel_coefficient"] = inputs["zweifel_coefficient"]
+        fields["zweifel_coefficient"] = inputs["zweifel_coefficient"]
     if options["efficiency"] == "estimated":
-        given.update({name: inputs[name] for name in _ESTIMATED if inputs.get(name) is not None})
+        fields.update(given(inputs, _ESTIMATED))
         return estimated.evaluate_machine_design_estimated(
             machine, inputs["mass_flow"], inputs["total_temperature"], inputs["total_pressure"],
             inputs["pressure_ratio"], inputs["shaft_speed"], inputs["flow_coefficient"], inputs["reaction"],
             inputs["rotor_aspect_ratio"], inputs["stator_aspect_ratio"], loss_model=options.get("loss_model"),
-            cp=cp, gamma=gamma, rule=options["rule"], **given)
+            cp=cp, gamma=gamma, rule=options["rule"], **fields)
     return design.evaluate_machine_design(
         machine, inputs["mass_flow"], inputs["total_temperature"], inputs["total_pressure"],
         inputs["pressure_ratio"], inputs["shaft_speed"], inputs["polytropic_efficiency"],
         inputs["flow_coefficient"], inputs["reaction"], inputs["rotor_aspect_ratio"], inputs["stator_aspect_ratio"],
-        cp=cp, gamma=gamma, rule=options["rule"], **given,
+        cp=cp, gamma=gamma, rule=options["rule"], **fields,
     )
 
 

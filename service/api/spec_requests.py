@@ -77,7 +77,7 @@ def _needs_schemas(calculation: Calculation, choice: Choice, alternative: Altern
     """Where an alternative is taken, one of the alternatives it needs of another choice is too."""
     schemas = []
     for other_name, values in alternative.needs.items():
-        other = next(c for c in calculation.choices if c.name == other_name)
+        other = calculation.choice(other_name)
         condition = {"required": list(alternative.required)}
         absent = _none_of(sorted(choice.fields - set(alternative.fields)))
         if absent:

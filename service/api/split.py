@@ -8,6 +8,7 @@ from service.api.common import (
     EFFICIENCY_LIMITS,
     WORK_SPLIT,
     StageSplitInputs,
+    given,
     integer_output,
     output,
     positive,
@@ -74,10 +75,10 @@ _GIVEN = ("polytropic_efficiency", "stage_isentropic_efficiency", "stages", "max
 
 def _compute(options: dict, inputs: dict):
     cp, gamma = gas.gas_properties(options["gas"], inputs.get("cp"), inputs.get("gamma"))
-    given = {name: inputs[name] for name in _GIVEN if inputs.get(name) is not None}
+    fields = given(inputs, _GIVEN)
     return split.evaluate_stage_split(
         options["machine"], options["rule"], inputs["pressure_ratio"], inputs["total_temperature"],
-        inputs["total_pressure"], cp, gamma, **given,
+        inputs["total_pressure"], cp, gamma, **fields,
     )
 
 

@@ -7,7 +7,7 @@ import copy
 
 from marshmallow import Schema
 
-from service.api.common import GasInputs, InletStateInputs, machine_field, output, positive
+from service.api.common import GasInputs, InletStateInputs, given, machine_field, output, positive
 from service.api.declarations import Alternative, Calculation, Choice
 from service.api.fields import Option, Quantity
 from service.api.triangles import FLOW, TrianglesInput, TrianglesOutput
@@ -140,10 +140,10 @@ _CHARTS = tuple(f"{row}_{kind}_profile_loss" for row in ("stator", "rotor") for 
 def _compute(options: dict, inputs: dict):
     machine = options["machine"]
     cp, gamma = gas.gas_properties(options.get("gas", "air"), inputs.get("cp"), inputs.get("gamma"))
-    flow = {name: inputs[name] for name in FLOW.fields if inputs.get(name) is not None}
+    flow = given(inputs, FLOW.fields)
     stage = core_stage.evaluate_stage(machine, total_temperature=inputs["total_temperature"],
                                       total_pressure=inputs.get("total_pressure"), cp=cp, gamma=gamma, **flow)
-    geometry = {name: inputs[name] for name in _GEOMETRY if inputs.get(name) is not None}
+    geometry = given(inputs, _GEOMETRY)
     if inputs.get(_CHARTS[0]) is not None:
         geometry["profile_chart_losses"] = {name: inputs[name] for name in _CHARTS}
     return losses.with_stage_efficiency(stage, machine, options["loss_model"], cp, gamma,

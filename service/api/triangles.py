@@ -8,6 +8,7 @@ from service.api.common import (
     GasInputs,
     InletStateInputs,
     angle,
+    given,
     integer_output,
     length,
     machine_field,
@@ -161,9 +162,9 @@ TrianglesOutput = Schema.from_dict(
 
 def _compute(options: dict, inputs: dict):
     cp, gamma = gas.gas_properties(options.get("gas", "air"), inputs.get("cp"), inputs.get("gamma"))
-    given = {name: inputs[name] for name in GIVEN if inputs.get(name) is not None}
+    fields = given(inputs, GIVEN)
     return stage.evaluate_stage_rows(options["machine"], inputs["blade_speed"], cp=cp, gamma=gamma,
-                                     vortex=options.get("vortex", "free"), **given)
+                                     vortex=options.get("vortex", "free"), **fields)
 
 
 def _render_svg(payload: dict, body: dict) -> str:

@@ -9,6 +9,7 @@ from service.api.common import (
     TEMPERATURE_LIMITS,
     GasInputs,
     angle,
+    given,
     integer_output,
     length,
     output,
@@ -97,7 +98,7 @@ def _compute(options: dict, inputs: dict):
     _, gamma = gas.gas_properties(options["gas"], inputs.get("cp"), inputs.get("gamma"))
     sizing = {"zweifel_coefficient": inputs["zweifel_coefficient"], "rounding": options["rounding"]}
     return zweifel.evaluate_zweifel_row(
-        **{name: inputs[name] for name in _ROW if inputs.get(name) is not None}, **sizing,
+        **given(inputs, _ROW), **sizing,
         definition=options["definition"], inlet_total_pressure=inputs.get("total_pressure"), gamma=gamma)
 
 
