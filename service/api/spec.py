@@ -138,44 +138,30 @@ def build_spec(calculations: list[Calculation], version: str) -> dict:
     return spec.to_dict()
 
 
-#: The component of each (calculation prefix, field name, shape) of the document being built:
-#: ``Field_{name}`` / ``ColumnField_{name}`` for the first calculation with that field, and every
-#: other whose field is the same (the gas and inlet fields, stage-efficiency's flow fields);
-#: ``{prefix}Field_{name}`` for a field of the same name and another schema. Filled by
-#: _field_components, read by _field_component; build_spec holds _BUILDING meanwhile.
-_FIELD_NAMES: dict[tuple[str, str, str], str] = {}
+#: The component of each (calculation prefix, field name) of the document being built:
+#: ``Field_{name}`` for the first calculation with that field, and every other whose field is the
+#: same (the gas and inlet fields, stage-efficiency's flow fields); ``{prefix}Field_{name}`` for a
+#: field of the same name and another schema. Filled by _field_components, read by
+#: _field_component; build_spec holds _BUILDING meanwhile.
+_FIELD_NAMES: dict[tuple[str, str], str] = {}
 _BUILDING = threading.Lock()
 
 
 def _field_components(spec: APISpec, plugin, prefix: str, calculation: Calculation) -> None:
-    """One component per input field, so the mode schemas only reference them; a column field
-    (one value for every case, or one per case) refers to the one-case field. A field that an
+    """One component per input field, so the case schema only references it. A field that an
     earlier calculation has already is that one's component."""
     written = spec.components.schemas
     for name, field in calculation._case_schema.fields.items():
         prop = plugin.converter.field2property(field)
         shared = f"Field_{name}"
         component = shared if written.get(shared, prop) == prop else f"{prefix}Field_{name}"
-        _FIELD_NAMES[prefix, name, ""] = component
+        _FIELD_NAMES[prefix, name] = component
         if component not in written:
             spec.components.schema(component, component=prop)
-    if calculation.columns:
-        for name, field in calculation._columns_schema.fields.items():
-            one = _FIELD_NAMES[prefix, name, ""]
-            component = "Column" + one if one.startswith("Field_") else f"{prefix}ColumnField_{name}"
-            _FIELD_NAMES[prefix, name, "Column"] = component
-            if component not in written:
-                ref = _ref(one)
-                # A per-stage field's list of numbers is one number per case (the one-case field
-                # takes a list too, so "one value for every case" is a number only).
-                every = ({**{k: v for k, v in written[one].items() if k != "oneOf"}, **_number_schema(field.item)}
-                         if isinstance(field, QuantityPerStage) else ref)
-                spec.components.schema(component, component={
-                    "oneOf": [every, {"type": "array", "items": ref, "minItems": 1}]})
 
 
-def _field_component(prefix: str, name: str, shape: str) -> str:
-    return _FIELD_NAMES[prefix, name, shape]
+def _field_component(prefix: str, name: str) -> str:
+    return _FIELD_NAMES[prefix, name]
 
 
 def _ref(name: str) -> dict:
@@ -216,9 +202,8 @@ def _output_components(spec: APISpec, plugin, prefix: str, calculation: Calculat
 def _add_calculation(spec: APISpec, plugin, calculation: Calculation, known_outputs: dict[str, str]) -> None:
     prefix = "".join(part.capitalize() for part in calculation.name.replace("-", "_").split("_"))
     _field_components(spec, plugin, prefix, calculation)
-    for shape, suffix in (("", "Case"), ("Column", "Columns")) if calculation.columns else (("", "Case"),):
-        spec.components.schema(f"{prefix}{suffix}", component=request_schema(
-            calculation, shape, lambda name, shape=shape: _ref(_field_component(prefix, name, shape))))
+    spec.components.schema(f"{prefix}Case", component=request_schema(
+        calculation, lambda name: _ref(_field_component(prefix, name))))
     spec.components.schema(f"{prefix}OutputSelection", component=_selection_schema(calculation))
     selection = _ref(f"{prefix}OutputSelection")
     # Rows and columns are components of their own (not inline titled objects): client generators
@@ -230,8 +215,15 @@ def _add_calculation(spec: APISpec, plugin, calculation: Calculation, known_outp
         "required": ["cases"], "additionalProperties": False})
     shapes = [_ref(f"{prefix}Case"), _ref(f"{prefix}RowsRequest")]
     if calculation.columns:
+        # The columns take the case's fields, each one value or a list (said once in ColumnValue and
+        # Requests); their choices are the case's, case by case, written once in the case schema.
+        spec.components.schema(f"{prefix}Columns", component={
+            "type": "object", "description": f"The fields of {prefix}Case, each a ColumnValue.",
+            "propertyNames": {"enum": list(calculation._columns_schema.fields)},
+            "additionalProperties": _ref("ColumnValue"),
+            "required": [name for name, f in calculation._columns_schema.fields.items() if f.required]})
         spec.components.schema(f"{prefix}ColumnsRequest", component={
-            "type": "object", "description": COLUMNS_REQUEST,
+            "type": "object", "description": "Columns: the cases' fields as lists (see Requests).",
             "properties": {"columns": _ref(f"{prefix}Columns"), "outputs": selection, "units": _ref("Units")},
             "required": ["columns"], "additionalProperties": False})
         shapes.append(_ref(f"{prefix}ColumnsRequest"))
@@ -360,6 +352,10 @@ def _add_common_components(spec: APISpec) -> None:
             headers = {"headers": {"WWW-Authenticate": {"description": "The scheme to authenticate with.", "schema": {
                 "type": "string", "const": f'Bearer realm="{REALM}"'}}}}
         spec.components.response(name, {"description": description, **problem, **headers})
+    spec.components.schema("ColumnValue", component={
+        "description": COLUMNS_REQUEST, "oneOf": [
+            {"type": ["number", "string"]},
+            {"type": "array", "minItems": 1, "items": {"type": ["number", "string", "array"], "items": {}}}]})
     spec.components.schema("CaseError", component={
         "type": "object", "required": ["index", "detail"], "additionalProperties": False,
         "description": "A case of a batch that could not be computed; its outputs are null.",
@@ -431,18 +427,11 @@ def _output_parameter(prefix: str, description: str) -> dict:
 
 
 def _get_operation(prefix: str, calculation: Calculation) -> dict:
-    """The GET form: one query parameter per input field, from the same schema fields as the body."""
-    parameters = []
-    for name, field in calculation._case_schema.fields.items():
-        # The field's schema (and its description) by reference, as in the body.
-        unit = getattr(field, "unit", None) or getattr(getattr(field, "item", None), "unit", None)
-        parameter = {"name": name, "in": "query", "description": "As in the body" + (f" [{unit}]." if unit else "."),
-                     "schema": _ref(_field_component(prefix, name, ""))}
-        if field.required:
-            parameter["required"] = True
-        if isinstance(field, QuantityList):
-            parameter.update(style="form", explode=True)
-        parameters.append(parameter)
+    """The GET form: the one-case body's fields as query parameters (one exploded object parameter
+    of the case schema, so each field is described once, in the body)."""
+    parameters = [{"name": "case", "in": "query", "required": True, "style": "form", "explode": True,
+                   "description": "The one-case body's fields, one parameter each (see The GET form).",
+                   "schema": _ref(f"{prefix}Case")}]
     parameters.append(_output_parameter(prefix, "With one name: a text/plain answer of that one value."))
     parameters.append("units")  # components/parameters/units
     return {

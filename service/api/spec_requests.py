@@ -12,13 +12,13 @@ from collections.abc import Callable
 from service.api.declarations import Alternative, Calculation, Choice
 
 
-def request_schema(calculation: Calculation, shape: str, field_ref: Callable[[str], dict]) -> dict:
-    """One object of every field, with one small ``oneOf`` per choice (``allOf`` of them)."""
-    schema = calculation._columns_schema if shape else calculation._case_schema
+def request_schema(calculation: Calculation, field_ref: Callable[[str], dict]) -> dict:
+    """The one-case object of every field, with one small ``oneOf`` per choice (``allOf`` of them)."""
+    schema = calculation._case_schema
     body = {"type": "object",
             "properties": {name: field_ref(name) for name in schema.fields},
             "required": [name for name, f in schema.fields.items() if f.required], "additionalProperties": False}
-    constraints = [_choice_schema(calculation, choice, shape) for choice in calculation.choices]
+    constraints = [_choice_schema(calculation, choice) for choice in calculation.choices]
     constraints += [need for choice in calculation.choices for alternative in choice.alternatives
                     for need in _needs_schemas(calculation, choice, alternative)]
     if constraints:
@@ -37,22 +37,20 @@ def _dependent_required(calculation: Calculation) -> dict[str, list[str]]:
     return dependent
 
 
-def _choice_schema(calculation: Calculation, choice: Choice, shape: str) -> dict:
+def _choice_schema(calculation: Calculation, choice: Choice) -> dict:
     return {"description": f"`{choice.name}`: {choice.description}; give exactly one of these.",
-            "oneOf": [_alternative_schema(calculation, choice, alternative, shape)
+            "oneOf": [_alternative_schema(calculation, choice, alternative)
                       for alternative in choice.alternatives]}
 
 
-def _alternative_schema(calculation: Calculation, choice: Choice, alternative: Alternative, shape: str) -> dict:
+def _alternative_schema(calculation: Calculation, choice: Choice, alternative: Alternative) -> dict:
     """The alternative's own fields required, the other alternatives' fields absent and the option
-    values it applies to (in columns one value or a list of them: a batch whose cases differ in an
-    option that an alternative depends on is accepted by the service but not by this schema)."""
+    values it applies to."""
     schema = {"title": alternative.value}
     required = list(alternative.required)
     if alternative.when:
         fields = calculation._case_schema.fields
-        schema["properties"] = {option: _option_values(list(values), shape)
-                                for option, values in alternative.when.items()}
+        schema["properties"] = {option: {"enum": list(values)} for option, values in alternative.when.items()}
         required += [option for option, values in alternative.when.items() if fields[option].load_default not in values]
     if required:
         schema["required"] = required
@@ -67,10 +65,6 @@ def _none_of(names: list[str]) -> dict:
     if len(names) == 1:
         return {"required": names}
     return {"anyOf": [{"required": [name]} for name in names]} if names else {}
-
-
-def _option_values(values: list, shape: str) -> dict:
-    return {"oneOf": [{"enum": values}, {"type": "array", "items": {"enum": values}}]} if shape else {"enum": values}
 
 
 def _needs_schemas(calculation: Calculation, choice: Choice, alternative: Alternative) -> list[dict]:

@@ -183,48 +183,44 @@ def test_outputs_shared_by_two_calculations_are_one_component(spec):
         assert _resolve(spec, triangles[output]) != _resolve(spec, stage[output]), output
 
 
-def _field_refs(spec: dict, calc, shape: int) -> dict[str, str]:
-    """The component each input field refers to in the request object of one case (shape 0) or of
-    columns (1)."""
-    request = list(_mode_schemas(spec, calc))[shape]
-    return {field: prop["$ref"] for field, prop in request["properties"].items()}
+def _field_refs(spec: dict, calc) -> dict[str, str]:
+    """The component each input field refers to in the request object of one case."""
+    case = next(_mode_schemas(spec, calc))
+    return {field: prop["$ref"] for field, prop in case["properties"].items()}
 
 
 @pytest.mark.parametrize("name", COLUMN_NAMES)
-def test_a_column_field_refers_to_the_one_case_field(spec, name):
+def test_the_columns_take_the_case_fields_each_one_value_or_a_list(spec, name):
+    """The columns are described once, by reference to the case: its field names, each a ColumnValue."""
     calc = calculation(name)
-    columns, cases = _field_refs(spec, calc, 1), _field_refs(spec, calc, 0)
-    assert set(columns) == set(cases) == set(calc.schema().fields)
-    fields = calc.schema().fields
-    for field, ref in columns.items():
-        one = {"$ref": cases[field]}
-        # A per-stage field's list of numbers in columns is one number per case: one value for
-        # every case is then a number only (the one-case field takes a list too).
-        resolved = _resolve(spec, one)
-        every = ({**{k: v for k, v in resolved.items() if k != "oneOf"}, **resolved["oneOf"][0]}
-                 if isinstance(fields[field], QuantityPerStage) else one)
-        assert _resolve(spec, {"$ref": ref}) == {"oneOf": [every, {"type": "array", "items": one, "minItems": 1}]}
+    case, columns = _mode_schemas(spec, calc)
+    assert set(columns["propertyNames"]["enum"]) == set(case["properties"]) == set(calc.schema().fields)
+    assert columns["additionalProperties"] == {"$ref": "#/components/schemas/ColumnValue"}
+    assert columns["required"] == case["required"]
+    validator = _validator(spec, _component_of(spec, calc)["oneOf"][-1]["$ref"].rsplit("/", 1)[-1])
+    example = EXAMPLES[name].good
+    assert not list(validator.iter_errors({"columns": {k: [v, v] for k, v in example.items()}}))
+    assert list(validator.iter_errors({"columns": {**example, "no_such_field": 1}}))
 
 
 def test_a_field_shared_by_two_calculations_is_one_component(spec):
     fields = [json.dumps(s, sort_keys=True) for n, s in spec["components"]["schemas"].items()
               if re.fullmatch(r"\w*Field_\w+", n) and "ColumnField_" not in n]
     assert len(set(fields)) == len(fields), "no field schema written twice"
-    triangles, stage = (_field_refs(spec, calculation(n), 0) for n in ("triangles", "stage-efficiency"))
+    triangles, stage = (_field_refs(spec, calculation(n)) for n in ("triangles", "stage-efficiency"))
     assert triangles["flow_coefficient"] == stage["flow_coefficient"] == "#/components/schemas/Field_flow_coefficient"
 
 
 @pytest.mark.parametrize("name", NAMES)
-def test_the_get_parameters_refer_to_the_body_fields(spec, name):
+def test_the_get_query_is_the_one_case_body(spec, name):
+    """The GET form's fields are one exploded object parameter of the case schema: each field
+    described once, in the body."""
     calc = calculation(name)
-    refs = _field_refs(spec, calc, 0)
-    parameters = {p["name"]: p for p in spec["paths"][calc.path]["get"]["parameters"] if "name" in p}
-    for field, parameter in parameters.items():
-        if field in calc.schema().fields:
-            assert parameter["schema"] == {"$ref": refs[field]}, field
-            assert len(parameter["description"]) < 40, field
-            assert parameter.get("required", False) == calc.schema().fields[field].required, field
-    assert set(calc.schema().fields) < set(parameters)
+    parameters = spec["paths"][calc.path]["get"]["parameters"]
+    case = [p for p in parameters if p.get("name") == "case"]
+    assert case == [{"name": "case", "in": "query", "required": True, "style": "form", "explode": True,
+                     "description": case[0]["description"], "schema": _component_of(spec, calc)["oneOf"][0]}]
+    assert not set(calc.schema().fields) & {p.get("name") for p in parameters}
 
 
 # -- helpers -------------------------------------------------------------------------------------
@@ -266,14 +262,9 @@ def _inline(spec: dict, schema):
 
 
 def _input_properties(spec: dict, calc):
-    """Each mode's properties with their references followed. A column field (one value for every
-    case or a list of them) refers to the one-case field: its description and unit are that one's."""
-    for mode in _mode_schemas(spec, calc):
-        for name, prop in mode["properties"].items():
-            field = _inline(spec, {"$ref": prop["$ref"]}) if "$ref" in prop else {}
-            if "description" not in field and "oneOf" in field:
-                field = {k: field["oneOf"][0][k] for k in ("description", "x-unit") if k in field["oneOf"][0]}
-            yield name, {**field, **_inline(spec, prop)}
+    """The one-case properties with their references followed (the columns take the same fields)."""
+    for name, prop in next(_mode_schemas(spec, calc))["properties"].items():
+        yield name, _inline(spec, prop)
 
 
 def _variants(prop: dict):
