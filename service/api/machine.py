@@ -126,13 +126,13 @@ def _span_list(name: str, end: str):
     words, unit = _SPAN_WORDS[name]
     where = "at every station" if name.startswith("station_") else "of every row"
     # The same words at either end, so that the document describes the pair once.
-    return _list(f"{words} {where} at the hub (`_hub`) or the tip (`_tip`): each station a free vortex about its "
-                 f"mean radius (r V_theta and V_x uniform along the span). [{unit}]", unit,
+    return _list(f"{words} {where} at the hub (`_hub`) or the tip (`_tip`). [{unit}]", unit,
                  null_entries=name in ("station_beta", "station_relative_mach"))
 
 
-_STATION = "at every station, 1 to 2n+1 in flow order"
-_ROW = "of every row, 1 to 2n in flow order (compressor R1, S1, R2, ...; turbine S1, R1, S2, ...)"
+# The numbering of stations and rows is said once, in the description of the calculation.
+_STATION = "at every station"
+_ROW = "of every row"
 
 MachineOutput = Schema.from_dict(
     {
@@ -314,7 +314,11 @@ CALCULATION = Calculation(
         "held, and every row sized: turbine rows by a Zweifel target (as zweifel), compressor rows by a target "
         "diffusion factor or solidity (as diffusion-factor), stacked along the axis. Stations 1 to 2n+1 in flow "
         "order (compressor: 2i-1 rotor i inlet, 2i rotor i exit, 2i+1 stator i exit; turbine: 2i-1 stator i inlet, "
-        "2i stator exit = rotor i inlet, 2i+1 rotor i exit); rows 1 to 2n between them. Assumptions: constant axial "
+        "2i stator exit = rotor i inlet, 2i+1 rotor i exit); rows 1 to 2n between them (compressor R1, S1, R2, "
+        "...; turbine S1, R1, S2, ...); every `station_*` output has one entry per station and every `row_*` "
+        "output one per row, in that order; an output suffixed `_hub` or `_tip` is at the hub or the tip, each "
+        "station a free vortex about its mean radius (r V_theta and V_x uniform along the span). Assumptions: "
+        "constant axial "
         "velocity through each rotor (V_x = phi U), the stator between stages changing it to the next stage's; "
         "each stage's flow coefficient, loading and kinematic reaction set at its rotor's low-swirl (design) "
         "station (compressor rotor inlet, turbine rotor exit) at that station's blade speed; the blade speed at "

@@ -21,15 +21,17 @@ CAUTION = (
     "to be confirmed by detailed analysis and test, under the codes and the licensed engineering "
     "practice that apply where the machine is built and run."
 )
+# The caution is written once, at the top of the document; each operation points at it.
+CAUTION_POINTER = "Preliminary-design estimates: see the caution at the top of this document."
 SELECTION_NOTE = (
     "One case, rows or columns. Beside the case's fields, the `cases` or the `columns`, `outputs` (a list of "
     "output names, `checks.NAME`, `checks.NAME.status` or `checks.NAME.value`) restricts the answer to those "
     "outputs and checks, and `units: \"us\"` answers in US customary units. Any input quantity may be a string "
     "with its unit (`\"30 mm\"`, `\"14.696 psi\"`), converted to the field's `x-unit`.")
 UNITS_DESCRIPTION = (
-    "`si` (the default) or `us`: every output in US customary units, the unit of each given as `x-unit-us` in "
-    "this document (ft, ft s^-1, degR, lbf in^-2, lb s^-1, Btu lb^-1, hp, ...); check values are dimensionless "
-    "and stay as they are.")
+    "`si` (the default) or `us`: every output in US customary units, by its `x-unit`: "
+    + ", ".join(f"{si} as {us}" for si, (_, us) in units.US_UNITS.items() if us != si)
+    + "; ratios and angles as they are. Check values are dimensionless and stay as they are.")
 CSV_REQUEST = (
     "Rows as CSV (RFC 4180): a header line of field names, then one case a line; an empty cell leaves the field "
     "out; a list is one quoted cell of comma-separated numbers. Problems point at `/cases/i/field`: case i is "
@@ -51,22 +53,6 @@ GET_NOTE = (
     "elsewhere that parameter is refused (400) on every path.")
 
 
-# The notes that hold for every calculation are written once, as sections of the document's
-# description; the operations refer to them by their headings.
-DESCRIPTION = (
-    "Meanline (mean-radius) preliminary-design calculations of axial compressors and turbines. "
-    "SI units throughout, angles in degrees from the axial direction, tangential quantities positive "
-    "in the direction of rotor motion. Every calculation takes one case (an object), rows "
-    "(`{\"cases\": [...]}`) or columns (`{\"columns\": {...}}`, a single value broadcasting to every "
-    "case). In a batch, a physically impossible case gets null outputs and an entry in `errors`; "
-    "malformed input fails the whole request with 422 and a JSON Pointer to every offending field.\n\n"
-    + CAUTION
-    + "\n\n## Requests\n\n" + SELECTION_NOTE
-    + "\n\n## CSV\n\n" + CSV_REQUEST + " " + CSV_ANSWER_NOTE
-    + "\n\n## The GET form\n\n" + GET_NOTE
-)
-CSV_ANSWER = {"schema": {"type": "string", "description": "With `Accept: text/csv`: one line per case (see CSV)."}}
-
 COLUMNS_REQUEST = (
     "Each field one value, which broadcasts to every case, or a list with one entry per case; all such lists "
     "have one length, the case count. A field that takes a list in one case (one number per stage, such as "
@@ -83,6 +69,22 @@ COLUMNS_ANSWER = (
 )
 
 
+# The notes that hold for every calculation are written once, as sections of the document's
+# description; the operations refer to them by their headings.
+DESCRIPTION = (
+    "Meanline (mean-radius) preliminary-design calculations of axial compressors and turbines. "
+    "SI units throughout, angles in degrees from the axial direction, tangential quantities positive "
+    "in the direction of rotor motion. Every calculation takes one case (an object), rows "
+    "(`{\"cases\": [...]}`) or columns (`{\"columns\": {...}}`, a single value broadcasting to every "
+    "case). In a batch, a physically impossible case gets null outputs and an entry in `errors`; "
+    "malformed input fails the whole request with 422 and a JSON Pointer to every offending field.\n\n"
+    + CAUTION
+    + "\n\n## Requests\n\n" + SELECTION_NOTE + " " + COLUMNS_ANSWER
+    + "\n\n## CSV\n\n" + CSV_REQUEST + " " + CSV_ANSWER_NOTE
+    + "\n\n## The GET form\n\n" + GET_NOTE
+)
+CSV_ANSWER = {"schema": {"type": "string", "description": "With `Accept: text/csv`: one line per case (see CSV)."}}
+
 def _number_schema(field: Quantity) -> dict:
     schema = {"type": "integer" if field.integer else "number"}
     if field.minimum is not None:
@@ -90,12 +92,6 @@ def _number_schema(field: Quantity) -> dict:
     if field.maximum is not None:
         schema["exclusiveMaximum" if field.exclusive_maximum else "maximum"] = field.maximum
     return schema
-
-
-def _us_unit(unit: str) -> dict:
-    """``x-unit-us``, where the US customary unit differs from the SI one (not for a ratio or an angle)."""
-    us = units.us_unit(unit)
-    return {"x-unit-us": us} if us != unit else {}
 
 
 def case_field_property(self, field, ret, **kwargs) -> dict:
@@ -112,8 +108,7 @@ def case_field_property(self, field, ret, **kwargs) -> dict:
         schema = {"oneOf": [item, {"type": "array", "items": item, "minItems": 1}]}
     else:
         schema = {"type": "array", "items": _number_schema(field.item), "minItems": 1}
-    unit = getattr(field, "unit", None) or getattr(getattr(field, "item", None), "unit", None)
-    return {**schema, **_us_unit(unit)} if unit else schema
+    return schema
 
 
 def build_spec(calculations: list[Calculation], version: str) -> dict:
@@ -135,7 +130,25 @@ def build_spec(calculations: list[Calculation], version: str) -> dict:
         for calculation in calculations:
             _add_calculation(spec, plugin, calculation, outputs)
     _add_service_paths(spec)
-    return spec.to_dict()
+    return _inline_single_use_outputs(spec.to_dict())
+
+
+def _inline_single_use_outputs(document: dict) -> dict:
+    """An output component that one result alone refers to, written in that result instead (a
+    reference and a component name cost more than the schema they stand for)."""
+    schemas = document["components"]["schemas"]
+    text = json.dumps(document)
+    single = {name for name in schemas if "Output_" in name
+              and text.count(json.dumps(f"#/components/schemas/{name}")) == 1}
+    for name, schema in schemas.items():
+        properties = schema.get("properties", {}) if name.endswith("Result") else {}
+        for output, prop in properties.items():
+            target = prop.get("$ref", "").rsplit("/", 1)[-1]
+            if target in single:
+                properties[output] = schemas[target]
+    for name in single:
+        del schemas[name]
+    return document
 
 
 #: The component of each (calculation prefix, field name) of the document being built:
@@ -176,8 +189,6 @@ def _output_components(spec: APISpec, plugin, prefix: str, calculation: Calculat
     refs = {}
     for name, field in calculation.outputs().fields.items():
         prop = plugin.converter.field2property(field)
-        if "x-unit" in prop:  # the unit of answers asked for with units=us
-            prop.update(_us_unit(prop["x-unit"]))
         if prop.pop("x-per-stage", False):
             item = prop.get("type", "number")
             # Entries that may not apply (a rotor-frame value at a station without a rotor) are null.
@@ -204,7 +215,7 @@ def _add_calculation(spec: APISpec, plugin, calculation: Calculation, known_outp
     _field_components(spec, plugin, prefix, calculation)
     spec.components.schema(f"{prefix}Case", component=request_schema(
         calculation, lambda name: _ref(_field_component(prefix, name))))
-    spec.components.schema(f"{prefix}OutputSelection", component=_selection_schema(calculation))
+    spec.components.schema(f"{prefix}OutputSelection", component=_selection_schema(prefix))
     selection = _ref(f"{prefix}OutputSelection")
     # Rows and columns are components of their own (not inline titled objects): client generators
     # name a model after it, and two calculations' inline "Rows" would be two models of one name.
@@ -254,7 +265,7 @@ def _add_calculation(spec: APISpec, plugin, calculation: Calculation, known_outp
                            **assumed_schema(calculation, True)},
             "additionalProperties": {"type": "array", "items": {}}})
         spec.components.schema(f"{prefix}ColumnsResponse", component={
-            "type": "object", "description": COLUMNS_ANSWER, "required": ["columns", "errors"],
+            "type": "object", "description": "The answer of columns (see Requests).", "required": ["columns", "errors"],
             "additionalProperties": False,
             "properties": {"columns": _ref(f"{prefix}ResultColumns"),
                            "errors": {"type": "array", "items": _ref("CaseError")}}})
@@ -272,7 +283,7 @@ def _add_calculation(spec: APISpec, plugin, calculation: Calculation, known_outp
         "operationId": calculation.name.replace("-", "_"),
         "tags": [calculation.name],
         "summary": calculation.summary,
-        "description": calculation.description + "\n\n" + CAUTION,
+        "description": calculation.description + "\n\n" + CAUTION_POINTER,
         "security": [{"ApiKey": []}, {"BearerKey": []}],
         "parameters": [_output_parameter(prefix, "Outputs and checks to answer (as the body's `outputs`)."),
                        "units"],  # units: components/parameters/units
@@ -410,11 +421,11 @@ def _add_service_paths(spec: APISpec) -> None:
                               "content": {"application/json": {"schema": {"type": "object"}}}}, **refused}}})
 
 
-def _selection_schema(calculation: Calculation) -> dict:
-    return {"type": "array", "minItems": 1, "description": (
-        "Answer only these outputs and checks: output names, `checks.NAME`, `checks.NAME.status` or "
-        "`checks.NAME.value`."),
-        "items": {"type": "string", "enum": list(calculation.outputs().fields)}}
+def _selection_schema(prefix: str) -> dict:
+    # The output names are the result's property names: not listed a second time.
+    return {"type": "array", "minItems": 1, "items": {"type": "string"}, "description": (
+        f"Answer only these outputs and checks: names of {prefix}Result's outputs, `checks.NAME`, "
+        "`checks.NAME.status` or `checks.NAME.value`.")}
 
 
 def _output_parameter(prefix: str, description: str) -> dict:
@@ -438,7 +449,7 @@ def _get_operation(prefix: str, calculation: Calculation) -> dict:
         "operationId": calculation.name.replace("-", "_") + "_query",
         "tags": [calculation.name],
         "summary": calculation.summary + " (one case from the query)",
-        "description": "One case from the query (see The GET form).\n\n" + CAUTION,
+        "description": "One case from the query (see The GET form). " + CAUTION_POINTER,
         # The api_key query parameter is not declared as a scheme: it is off unless the operator
         # enables it (see The GET form).
         "security": [{"ApiKey": []}, {"BearerKey": []}],

@@ -20,7 +20,7 @@ from referencing import Registry, Resource
 from referencing.jsonschema import DRAFT202012
 
 from service.__main__ import SPEC_PATH, spec_text
-from service.api.fields import Option, Quantity, QuantityList, QuantityPerStage
+from service.api.fields import Option, Quantity, QuantityList
 from service.api.problems import PHYSICALLY_IMPOSSIBLE
 from service.api.registry import CALCULATIONS
 from service.api.spec import document_text
@@ -141,13 +141,18 @@ def _operations(spec: dict):
 def test_each_output_is_described_once(spec, name):
     calc = calculation(name)
     result = _resolve(spec, _component_of(spec, calc, "200")["oneOf"][-1])
-    refs = {output: prop["$ref"] for output, prop in result["properties"].items()
-            if output not in ("checks", "assumed")}
-    assert set(refs) == set(calc.outputs().fields)
-    for output, ref in refs.items():
-        # A hub output and its tip output share one component (described alike).
-        shared = re.sub(r"_(hub|tip)$", "_hub_or_tip", output)
-        assert re.fullmatch(f"#/components/schemas/(\\w*Output_{shared})", ref), (output, ref)
+    outputs = {output: prop for output, prop in result["properties"].items() if output not in ("checks", "assumed")}
+    assert set(outputs) == set(calc.outputs().fields)
+    text = json.dumps(spec)
+    for output, prop in outputs.items():
+        if "$ref" in prop:
+            # A component: shared by two results, or a hub output and its tip output (described alike).
+            shared = re.sub(r"_(hub|tip)$", "_hub_or_tip", output)
+            assert re.fullmatch(f"#/components/schemas/(\\w*Output_{shared})", prop["$ref"]), (output, prop)
+            assert text.count(json.dumps(prop["$ref"])) >= 2, (output, "a component used once is written inline")
+        else:
+            # Written in the result, once: the same schema nowhere else.
+            assert prop["description"] and text.count(json.dumps(prop)) == 1, output
     if calc.columns:
         # The columns answer says once that each output is the one-case output's list over the cases.
         columns = _resolve(spec, _resolve(spec, _component_of(spec, calc, "200")["oneOf"][1])["properties"]["columns"])
