@@ -215,7 +215,7 @@ def _add_calculation(spec: APISpec, plugin, calculation: Calculation, known_outp
     _field_components(spec, plugin, prefix, calculation)
     spec.components.schema(f"{prefix}Case", component=request_schema(
         calculation, lambda name: _ref(_field_component(prefix, name))))
-    spec.components.schema(f"{prefix}OutputSelection", component=_selection_schema(prefix))
+    spec.components.schema(f"{prefix}OutputSelection", component=_selection_schema(calculation))
     selection = _ref(f"{prefix}OutputSelection")
     # Rows and columns are components of their own (not inline titled objects): client generators
     # name a model after it, and two calculations' inline "Rows" would be two models of one name.
@@ -421,11 +421,13 @@ def _add_service_paths(spec: APISpec) -> None:
                               "content": {"application/json": {"schema": {"type": "object"}}}}, **refused}}})
 
 
-def _selection_schema(prefix: str) -> dict:
-    # The output names are the result's property names: not listed a second time.
-    return {"type": "array", "minItems": 1, "items": {"type": "string"}, "description": (
-        f"Answer only these outputs and checks: names of {prefix}Result's outputs, `checks.NAME`, "
-        "`checks.NAME.status` or `checks.NAME.value`.")}
+def _selection_schema(calculation: Calculation) -> dict:
+    # The names are listed (not only said to be the result's): validators and client generators
+    # read an enum, not a sentence.
+    return {"type": "array", "minItems": 1, "description": (
+        "Answer only these outputs and checks: output names, `checks.NAME`, `checks.NAME.status` or "
+        "`checks.NAME.value`."),
+        "items": {"type": "string", "enum": list(calculation.outputs().fields)}}
 
 
 def _output_parameter(prefix: str, description: str) -> dict:

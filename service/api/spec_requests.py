@@ -44,20 +44,60 @@ def _choice_schema(calculation: Calculation, choice: Choice) -> dict:
 
 
 def _alternative_schema(calculation: Calculation, choice: Choice, alternative: Alternative) -> dict:
-    """The alternative's own fields required, the other alternatives' fields absent and the option
-    values it applies to."""
+    """The alternative's own fields required (but those a default fills), the other alternatives'
+    fields absent and the option values it applies to. An alternative taken on its defaults is
+    also kept from the cases that another alternative takes on its option values alone (as the
+    service prefers the alternative that needs the fewest defaults)."""
     schema = {"title": alternative.value}
-    required = list(alternative.required)
+    required = _required(calculation, alternative)
     if alternative.when:
-        fields = calculation._case_schema.fields
         schema["properties"] = {option: {"enum": list(values)} for option, values in alternative.when.items()}
-        required += [option for option, values in alternative.when.items() if fields[option].load_default not in values]
+        required += _options_required(calculation, alternative.when)
     if required:
         schema["required"] = required
-    absent = _none_of(sorted(choice.fields - set(alternative.fields)))
+    absent = [{"required": [name]} for name in sorted(choice.fields - set(alternative.fields))]
+    defaulted = [name for name in alternative.required if name not in required]
+    if defaulted:
+        # Taken on its defaults only where they are left out: given, they are the alternative's own.
+        absent += [{**_option_marker(calculation, other), "not": _none_of(defaulted)} for other in choice.alternatives
+                   if other is not alternative and other.when and set(other.required) <= set(alternative.fields)
+                   and not _disjoint(other.when, alternative.when)]
     if absent:
-        schema["not"] = absent
+        schema["not"] = absent[0] if len(absent) == 1 else {"anyOf": absent}
     return schema
+
+
+def _required(calculation: Calculation, alternative: Alternative) -> list[str]:
+    """The alternative's required fields but those a default fills wherever the alternative applies."""
+    return [name for name in alternative.required if not _defaulted(calculation, name, alternative.when)]
+
+
+def _defaulted(calculation: Calculation, name: str, when) -> bool:
+    defaults = calculation.defaults.get(name, ())
+    if any(not default.when for default in defaults):
+        return True
+    fields = calculation._case_schema.fields
+    options = {option for default in defaults for option in default.when}
+    return bool(defaults) and all(
+        set(when.get(option, fields[option].choices)) <= {v for d in defaults for v in d.when.get(option, ())}
+        for option in options)
+
+
+def _options_required(calculation: Calculation, when) -> list[str]:
+    """The options an alternative's values ask for that their own defaults do not give."""
+    fields = calculation._case_schema.fields
+    return [option for option, values in when.items() if fields[option].load_default not in values]
+
+
+def _option_marker(calculation: Calculation, alternative: Alternative) -> dict:
+    """The schema of the cases whose option values pick ``alternative``."""
+    marker = {"properties": {option: {"enum": list(values)} for option, values in alternative.when.items()}}
+    required = _options_required(calculation, alternative.when)
+    return {**marker, "required": required} if required else marker
+
+
+def _disjoint(when: dict, other: dict) -> bool:
+    return any(not set(values) & set(other[option]) for option, values in when.items() if option in other)
 
 
 def _none_of(names: list[str]) -> dict:
@@ -72,11 +112,11 @@ def _needs_schemas(calculation: Calculation, choice: Choice, alternative: Altern
     schemas = []
     for other_name, values in alternative.needs.items():
         other = calculation.choice(other_name)
-        condition = {"required": list(alternative.required)}
+        condition = {"required": _required(calculation, alternative)}
         absent = _none_of(sorted(choice.fields - set(alternative.fields)))
         if absent:
             condition["not"] = absent
-        wanted = [{"required": list(other.alternative(v).required)} for v in values]
+        wanted = [{"required": _required(calculation, other.alternative(v))} for v in values]
         schemas.append({"if": condition, "then": {
             "description": f"{alternative.value} needs {other_name} " + " or ".join(values) + ".",
             **(wanted[0] if len(wanted) == 1 else {"anyOf": wanted})}})
