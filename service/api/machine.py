@@ -287,13 +287,22 @@ def _compute(options: dict, inputs: dict):
     )
 
 
-#: What is assumed where the caller leaves a blade-sizing input out (service.core.machine_defaults).
+_ESTIMATING = {"efficiency": ("estimated",)}
+#: What is assumed where the caller leaves a blade-sizing input out (service.core.machine_defaults),
+#: and, with efficiency estimated, the loss model's inputs that the core fills the same way
+#: (service.core.machine_efficiency; the viscosity, a law rather than a value, is not echoed).
 DEFAULTS = {
-    name: tuple(Default(value, machine_defaults.BASIS[name], when={"machine": (machine,)})
-                for machine, value in per_machine.items() if value is not None)
-    for name, per_machine in machine_defaults.DEFAULTS.items()
-    if name in ("flow_coefficient", "reaction", "max_loading_coefficient", "rotor_aspect_ratio",
-                "stator_aspect_ratio", "target_diffusion_factor")
+    **{name: tuple(Default(value, machine_defaults.BASIS[name], when={"machine": (machine,)})
+                   for machine, value in per_machine.items() if value is not None)
+       for name, per_machine in machine_defaults.DEFAULTS.items()
+       if name in ("flow_coefficient", "reaction", "max_loading_coefficient", "rotor_aspect_ratio",
+                   "stator_aspect_ratio", "target_diffusion_factor")},
+    "polytropic_efficiency": (Default(estimated.DEFAULT_STARTING_EFFICIENCY, "the first pass's starting value",
+                                      when=_ESTIMATING),),
+    "loss_model": tuple(Default(model, "the machine's loss correlations", when={"machine": (machine,), **_ESTIMATING})
+                        for machine, model in estimated.MACHINE_LOSS_MODELS.items()),
+    "tip_clearance_to_height": (Default(estimated.DEFAULT_TIP_CLEARANCE_TO_HEIGHT, "common practice (from memory)",
+                                        when={"machine": ("compressor",), **_ESTIMATING}),),
 }
 
 

@@ -128,10 +128,8 @@ def assumed_schema(calculation: Calculation, columns: bool = False) -> dict:
     if not calculation.defaults:
         return {}
     value = {"type": ["number", "string"]}
-    described = "; ".join(
-        f"{name}: " + ", ".join(f"{d.value:g}" + (f" ({', '.join(v for vs in d.when.values() for v in vs)})"
-                                                   if d.when else "") for d in defaults)
-        for name, defaults in calculation.defaults.items())
+    described = "; ".join(f"{name}: " + ", ".join(_default_text(d) for d in defaults)
+                          for name, defaults in calculation.defaults.items())
     return {"assumed": {
         "type": "object", "additionalProperties": {"oneOf": [value, {"type": "array", "items": {
             "type": ["number", "string", "null"]}}]}
@@ -140,3 +138,9 @@ def assumed_schema(calculation: Calculation, columns: bool = False) -> dict:
                         + "; each common practice, see the field's description), the fields' own defaults and "
                         "the options'. In columns: one value where every case took the same, else one per case "
                         "(null where a case gave the field).")}}
+
+
+def _default_text(default) -> str:
+    value = f"{default.value:g}" if isinstance(default.value, float) else str(default.value)
+    where = ", ".join(v for values in default.when.values() for v in values)
+    return f"{value} ({where})" if where else value

@@ -55,6 +55,28 @@ def test_assumed_lists_exactly_the_fields_left_out(client, machine):
         assert set(answer["assumed"]) == set(minimal["assumed"]) - {name}, name
 
 
+@pytest.mark.parametrize("machine", list(DUTIES))
+def test_an_estimated_efficiency_echoes_the_loss_model_inputs_it_assumed(client, machine):
+    """With efficiency estimated the duty needs no efficiency; the loss model, the starting
+    efficiency and (compressor) the tip clearance it assumed are echoed, and giving them back changes
+    nothing."""
+    duty = {k: v for k, v in DUTIES[machine].items() if k != "polytropic_efficiency"}
+    minimal = ok_body(post(client, "machine-design", {**duty, "efficiency": "estimated"}))
+    expected = {"polytropic_efficiency": 0.9, "loss_model": {"compressor": "lieblein_howell",
+                                                             "turbine": "soderberg"}[machine]}
+    if machine == "compressor":
+        expected["tip_clearance_to_height"] = 0.01
+    assert expected.items() <= minimal["assumed"].items()
+    assert "dynamic_viscosity" not in minimal["assumed"] and "thickness_to_chord" not in minimal["assumed"]
+    explicit = ok_body(post(client, "machine-design", {**duty, "efficiency": "estimated", **minimal["assumed"]}))
+    assert explicit["assumed"] == {}
+    assert {k: v for k, v in explicit.items() if k != "assumed"} == \
+        {k: v for k, v in minimal.items() if k != "assumed"}
+    # With the efficiency given, none of these is assumed.
+    given = ok_body(post(client, "machine-design", DUTIES[machine]))
+    assert not set(expected) & set(given["assumed"])
+
+
 def test_a_choice_given_replaces_its_default_alternative(client):
     case = {**DUTIES["compressor"], "stages": 5, "solidity": 1.1}
     body = ok_body(post(client, "machine-design", case))
