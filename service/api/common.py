@@ -108,6 +108,10 @@ class RequiredInletStateInputs(CaseSchema):
     locals().update(_inlet_state(required=True))
 
 
+#: How a hub or tip output's description ends where it is the mean-line output's at that end.
+AT_EITHER_END = " At the hub (`_hub`) or the tip (`_tip`)."
+
+
 def output(description: str, unit: str) -> fields.Float:
     """An output number, documented with its unit."""
     return fields.Float(metadata={"description": description, "x-unit": unit})

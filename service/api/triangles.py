@@ -5,6 +5,7 @@ from __future__ import annotations
 from marshmallow import Schema
 
 from service.api.common import (
+    AT_EITHER_END,
     GasInputs,
     InletStateInputs,
     angle,
@@ -101,7 +102,7 @@ def _at_end(docs: dict, end: str) -> dict:
     for name, doc in docs.items():
         text, unit = doc.metadata["description"].rsplit(" [", 1), doc.metadata["x-unit"]
         # The same words at either end, so that the document describes the pair once.
-        out[f"{name}_{end}"] = output(f"{text[0]} At the hub (`_hub`) or the tip (`_tip`). [{text[1]}", unit)
+        out[f"{name}_{end}"] = output(f"{text[0]}{AT_EITHER_END} [{text[1]}", unit)
     return out
 
 
