@@ -225,10 +225,23 @@ def broadcast_cases(*arrays) -> list[np.ndarray]:
     callers never write into them.
     """
     arrays = [np.asarray(a, dtype=float) for a in arrays]
-    shape = arrays[0].shape
-    if any(a.shape != shape for a in arrays):
-        shape = np.broadcast_shapes(*(a.shape for a in arrays))
-    return [a if a.shape == shape else np.broadcast_to(a, shape) for a in arrays]
+    shapes = [a.shape for a in arrays]
+    if shapes.count(shapes[0]) == len(shapes):
+        return arrays
+    shape = max(shapes, key=len) if all(a.size == 1 for a in arrays) else np.broadcast_shapes(*shapes)
+    return [to_shape(a, shape) for a in arrays]
+
+
+def to_shape(array, shape: tuple) -> np.ndarray:
+    """``array`` broadcast to ``shape``, read only. One case (shapes such as () and (1,)) takes a
+    reshape, not numpy's general broadcast, which costs ten times as much and is paid a few dozen
+    times a case."""
+    array = np.asarray(array)
+    if array.shape == shape:
+        return array
+    if array.size == 1 and array.ndim <= len(shape) and all(n == 1 for n in shape):
+        return array.reshape(shape)
+    return np.broadcast_to(array, shape)
 
 
 #: The reason of a case whose outputs are not all finite numbers (an overflow the core did not foresee).

@@ -21,7 +21,7 @@ from collections.abc import Mapping
 import numpy as np
 
 from service.core import flowpath, zweifel
-from service.core.cases import CaseResults, broadcast_cases, masked_results
+from service.core.cases import CaseResults, broadcast_cases, masked_results, to_shape
 from service.core.checks import RuleCheck
 from service.core.diffusion import diffusion_factor, row_velocities
 from service.core.losses import ainley, efficiency, howell, lieblein, soderberg
@@ -314,9 +314,9 @@ def evaluate_stage_efficiency(machine, loss_model, flow: Mapping, cp, gamma, rot
     # total pressure); a total-to-total one is not.
     failures.append(("the estimated losses exceed the stage work: no positive efficiency",
                      ~(tt > 0.0) & np.isfinite(tt)))
-    judged = {name: RuleCheck(value=np.array(np.broadcast_to(check.value, shape), order="C"), limit=check.limit,
+    judged = {name: RuleCheck(value=np.array(to_shape(check.value, shape), order="C"), limit=check.limit,
                               comparison=check.comparison, basis=check.basis) for name, check in checks.items()}
-    return masked_results({name: np.broadcast_to(v, shape) for name, v in values.items()}, failures,
+    return masked_results({name: to_shape(v, shape) for name, v in values.items()}, failures,
                           lambda out, failed: judged, shape=shape)
 
 
