@@ -262,11 +262,49 @@ def columns_body(calculation: Calculation, outcomes: list[Outcome], size: int, s
 def _columns_body(calculation: Calculation, outcomes: list[Outcome], size: int, stream: bool) -> dict:
     if len(outcomes) == 1 and len(outcomes[0].index) == size:
         values, checks = outcomes[0].values, outcomes[0].checks
+    elif stream and _in_turn(outcomes, size):
+        # One group computed in chunks: each chunk's per-stage blocks written in turn, not merged.
+        values, checks = _joined_values(outcomes), _joined_checks(outcomes, size)
     else:
         values, checks = _merged_values(outcomes, size), _merged_checks(outcomes, size)
     body = {name: _column_out(calculation, name, array, stream) for name, array in values.items()}
     body["checks"] = {name: _check_column(check, stream) for name, check in checks.items()}
     return body
+
+
+def _in_turn(outcomes: list[Outcome], size: int) -> bool:
+    """Whether the outcomes hold the cases in order, one after the other, and the same outputs and
+    checks."""
+    start = 0
+    for outcome in outcomes:
+        index = outcome.index
+        if len(index) and (index[0] != start or index[-1] != start + len(index) - 1 or (np.diff(index) != 1).any()):
+            return False
+        start += len(index)
+    first = outcomes[0]
+    return start == size and all(outcome.values.keys() == first.values.keys()
+                                 and outcome.checks.keys() == first.checks.keys() for outcome in outcomes)
+
+
+def _joined_values(outcomes: list[Outcome]) -> dict:
+    """The outputs of outcomes that hold the cases in turn: a number per case joined, a per-stage
+    output as the list of the outcomes' blocks (of different widths)."""
+    return {name: np.concatenate([o.values[name] for o in outcomes]) if array.ndim == 1
+            else [o.values[name] for o in outcomes] for name, array in outcomes[0].values.items()}
+
+
+def _joined_checks(outcomes: list[Outcome], size: int) -> dict:
+    """The checks of outcomes that hold the cases in turn, joined as :func:`_joined_values` joins
+    the outputs, the rule's constants as :func:`_merged_constants` finds them."""
+    checks = {}
+    for name, check in outcomes[0].checks.items():
+        parts = [(o.index, o.checks[name]) for o in outcomes]
+        if check["value"].ndim == 1:
+            joined = {key: np.concatenate([c[key] for _, c in parts]) for key in ("value", "status")}
+        else:
+            joined = {key: [c[key] for _, c in parts] for key in ("value", "code")}
+        checks[name] = {**joined, **_merged_constants(parts, size)}
+    return checks
 
 
 def _merged_values(outcomes: list[Outcome], size: int) -> dict[str, np.ndarray]:
@@ -385,10 +423,12 @@ def _ragged_check(value: np.ndarray, status: np.ndarray) -> tuple[list, list]:
     return out_values, out_statuses
 
 
-def _column_out(calculation: Calculation, name: str, array: np.ndarray, stream: bool = False):
+def _column_out(calculation: Calculation, name: str, array, stream: bool = False):
+    if isinstance(array, list):  # the blocks of outcomes in turn (streamed only)
+        return RaggedColumn(array, name in calculation._integer_outputs)
     if array.ndim == 2:
         integer = name in calculation._integer_outputs
-        return RaggedColumn(array, integer) if stream else _ragged(calculation, name, array)
+        return RaggedColumn([array], integer) if stream else _ragged(calculation, name, array)
     if name in calculation._integer_outputs:
         return _whole_numbers(array)
     return array  # orjson writes numpy arrays directly; NaN becomes null
@@ -407,9 +447,12 @@ def _whole_numbers(array: np.ndarray):
 
 
 def _check_column(check: dict, stream: bool) -> dict:
+    if isinstance(check["value"], list):  # the blocks of outcomes in turn (streamed only)
+        value, status = (RaggedCheck(check["value"], check["code"], part) for part in ("value", "status"))
+        return {"value": value, **_rule_constants(check), "status": status}
     if check["value"].ndim != 1:
         if stream:
-            value, status = (RaggedCheck(check["value"], check["code"], part) for part in ("value", "status"))
+            value, status = (RaggedCheck([check["value"]], [check["code"]], part) for part in ("value", "status"))
         else:
             value, status = _ragged_check(check["value"], check["status"])
         return {"value": value, **_rule_constants(check), "status": status}

@@ -74,41 +74,46 @@ def check_text(value: np.ndarray, code: np.ndarray, part: str) -> bytes:
     return text
 
 
-def _pieces(size: int, text_of):
-    """The JSON list of ``size`` cases from the texts of slices (``text_of(start, stop)``)."""
-    if not size:
+def _pieces(blocks: list, text_of):
+    """The JSON list of the cases of consecutive blocks (lists of cases) from the texts of slices of
+    each (``text_of(k, start, stop)`` of block ``k``), each text without its brackets and uncopied."""
+    slices = [(k, start, min(start + CASES_PER_PIECE, len(block)))
+              for k, block in enumerate(blocks) for start in range(0, len(block), CASES_PER_PIECE)]
+    if not slices:
         yield b"[]"
         return
-    for start in range(0, size, CASES_PER_PIECE):
-        stop = min(start + CASES_PER_PIECE, size)
-        text = text_of(start, stop)
-        yield (b"[" if start == 0 else b",") + text[1:-1] + (b"]" if stop == size else b"")
+    for j, (k, start, stop) in enumerate(slices):
+        yield b"[" if j == 0 else b","
+        yield memoryview(text_of(k, start, stop))[1:-1]
+    yield b"]"
 
 
 class RaggedColumn:
-    """A per-stage (per-station, per-row) output of a columns answer, written by :func:`output_text`
-    a slice of cases at a time."""
+    """A per-stage (per-station, per-row) output of a columns answer, given as the blocks of
+    consecutive cases (one per chunk computed), written by :func:`output_text` a slice of cases
+    at a time."""
 
-    def __init__(self, array: np.ndarray, integer: bool):
-        self.array, self.integer = array, integer
+    def __init__(self, blocks: list[np.ndarray], integer: bool):
+        self.blocks, self.integer = blocks, integer
 
     def __len__(self) -> int:
-        return len(self.array)
+        return sum(map(len, self.blocks))
 
     def json_pieces(self):
-        yield from _pieces(len(self.array), lambda start, stop: output_text(self.array[start:stop], self.integer))
+        yield from _pieces(self.blocks, lambda k, start, stop: output_text(self.blocks[k][start:stop], self.integer))
 
 
 class RaggedCheck:
-    """The values or the statuses (``part``) of a per-stage check of a columns answer, written by
-    :func:`check_text` a slice of cases at a time."""
+    """The values or the statuses (``part``) of a per-stage check of a columns answer, given as the
+    blocks of consecutive cases (values and status codes), written by :func:`check_text` a slice of
+    cases at a time."""
 
-    def __init__(self, value: np.ndarray, code: np.ndarray, part: str):
-        self.value, self.code, self.part = value, code, part
+    def __init__(self, values: list[np.ndarray], codes: list[np.ndarray], part: str):
+        self.values, self.codes, self.part = values, codes, part
 
     def __len__(self) -> int:
-        return len(self.value)
+        return sum(map(len, self.values))
 
     def json_pieces(self):
-        yield from _pieces(len(self.value),
-                           lambda start, stop: check_text(self.value[start:stop], self.code[start:stop], self.part))
+        yield from _pieces(self.values, lambda k, start, stop: check_text(self.values[k][start:stop],
+                                                                           self.codes[k][start:stop], self.part))

@@ -45,22 +45,31 @@ def _written(writer) -> bytes:
     return b"".join(writer.json_pieces())
 
 
+def _chunks(block: np.ndarray, cuts: int) -> list[np.ndarray]:
+    """The block as the outcomes of chunks computed in turn give it: consecutive cases, each chunk
+    as wide as its longest list (at least one entry)."""
+    chunks = np.array_split(block, cuts) if len(block) else [block]
+    return [c[:, :max(1, int(liststext.list_lengths(np.isfinite(c)).max(initial=0)))] for c in chunks]
+
+
 @settings(max_examples=150, deadline=None, suppress_health_check=SAME_FIXTURE)
-@given(blocks(numbers), st.booleans())
-def test_an_output_column_is_the_text_of_its_lists(per_piece, block, padded):
+@given(blocks(numbers), st.booleans(), st.integers(1, 4))
+def test_an_output_column_is_the_text_of_its_lists(per_piece, block, padded, cuts):
     if padded:  # the usual layout: NaN after each row's own length
         block[np.arange(block.shape[1])[None, :] >= (np.arange(len(block)) % (block.shape[1] + 1))[:, None]] = np.nan
     calculation = SimpleNamespace(_integer_outputs=frozenset())
     expected = orjson.dumps(_ragged(calculation, "x", block), option=OPTION)
-    assert _written(liststext.RaggedColumn(block, integer=False)) == expected
+    assert _written(liststext.RaggedColumn([block], integer=False)) == expected
+    assert _written(liststext.RaggedColumn(_chunks(block, cuts), integer=False)) == expected
 
 
 @settings(max_examples=100, deadline=None, suppress_health_check=SAME_FIXTURE)
-@given(blocks(whole))
-def test_a_whole_number_column_is_the_text_of_its_lists_of_integers(per_piece, block):
+@given(blocks(whole), st.integers(1, 4))
+def test_a_whole_number_column_is_the_text_of_its_lists_of_integers(per_piece, block, cuts):
     calculation = SimpleNamespace(_integer_outputs=frozenset({"n"}))
     expected = orjson.dumps(_ragged(calculation, "n", block), option=OPTION)
-    assert _written(liststext.RaggedColumn(block, integer=True)) == expected
+    assert _written(liststext.RaggedColumn([block], integer=True)) == expected
+    assert _written(liststext.RaggedColumn(_chunks(block, cuts), integer=True)) == expected
 
 
 @settings(max_examples=150, deadline=None, suppress_health_check=SAME_FIXTURE)
@@ -68,9 +77,13 @@ def test_a_whole_number_column_is_the_text_of_its_lists_of_integers(per_piece, b
 def test_a_per_stage_check_is_the_text_of_its_finite_entries_and_their_statuses(per_piece, data):
     value = data.draw(blocks(numbers))
     code = data.draw(hnp.arrays(np.uint8, value.shape, elements=st.integers(0, len(STATUSES) - 1)))
+    cut = data.draw(st.integers(0, len(value)))
     values, statuses = _ragged_check(value, STATUS_OBJECTS[code])
-    assert _written(liststext.RaggedCheck(value, code, "value")) == orjson.dumps(values, option=OPTION)
-    assert _written(liststext.RaggedCheck(value, code, "status")) == orjson.dumps(statuses, option=OPTION)
+    in_turn = ([value[:cut], value[cut:]], [code[:cut], code[cut:]])  # two chunks' blocks
+    for value_blocks, code_blocks in [([value], [code]), in_turn]:
+        for part, expected in (("value", values), ("status", statuses)):
+            written = _written(liststext.RaggedCheck(value_blocks, code_blocks, part))
+            assert written == orjson.dumps(expected, option=OPTION)
 
 
 def test_rows_without_a_list_and_gaps_are_null():
