@@ -246,10 +246,12 @@ def _check_rows(check: dict) -> list[dict]:
 
 def columns_body(calculation: Calculation, outcomes: list[Outcome], size: int, stream: bool = False) -> dict:
     """The ``columns`` of a columns answer; with ``stream``, each per-stage output a
-    :class:`RaggedColumn`. Made with the cyclic garbage collector paused: the answer's lists hold
-    numbers, strings and other such lists, no reference cycles, but a batch of whole machines makes
-    millions of them, and a collection every few hundred new ones took about a third of the
-    layout's time."""
+    :class:`~service.api.liststext.RaggedColumn` and each per-stage check's values and statuses a
+    :class:`~service.api.liststext.RaggedCheck` (text written as it is sent, from each chunk's
+    blocks in turn where one group was computed in chunks). Made with the cyclic garbage collector
+    paused: the answer's lists hold numbers, strings and other such lists, no reference cycles, but
+    a batch of whole machines not streamed makes millions of them, and a collection every few
+    hundred new ones took about a third of the layout's time."""
     enabled = gc.isenabled()
     gc.disable()
     try:
