@@ -31,9 +31,10 @@ def run_calculation(calculation: Calculation, payload: Any, max_cases: int, stre
     restricted.
 
     With ``stream``, the ``results`` of a rows answer may be a :class:`RowsText`, the ``errors``
-    of a columns answer are an :class:`ErrorsText` and its per-stage outputs
-    :class:`~service.api.layout.RaggedColumn`, which :mod:`service.api.jsonwrite`
-    writes piece by piece (without a dict per case); otherwise the body is plain data that
+    of a columns answer are an :class:`ErrorsText` and its per-stage outputs and checks
+    :class:`~service.api.liststext.RaggedColumn` and :class:`~service.api.liststext.RaggedCheck`,
+    which :mod:`service.api.jsonwrite` writes piece by piece (without a dict or a list per
+    case); otherwise the body is plain data that
     ``orjson.dumps(body, option=OPT_SERIALIZE_NUMPY)`` writes.
 
     Returns

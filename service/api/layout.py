@@ -9,11 +9,12 @@ from __future__ import annotations
 
 import gc
 import math
-from typing import TYPE_CHECKING, Any
+from typing import TYPE_CHECKING
 
 import numpy as np
 import orjson
 
+from service.api.liststext import RaggedCheck, RaggedColumn, list_lengths
 from service.api.outcome import Outcome, outcome_of
 from service.api.problems import PHYSICALLY_IMPOSSIBLE, Problem
 from service.core.cases import LARGEST_WHOLE, CaseResults
@@ -21,6 +22,9 @@ from service.core.checks import STATUSES
 
 if TYPE_CHECKING:
     from service.api.declarations import Calculation
+
+#: The parts of a check that belong to its rule, not to a case.
+RULE_KEYS = ("limit", "fail_limit", "comparison", "basis")
 
 
 class ErrorsText:
@@ -240,37 +244,14 @@ def _check_rows(check: dict) -> list[dict]:
             for v, s in zip(check["value"].tolist(), check["status"].tolist(), strict=True)]
 
 
-class RaggedColumn:
-    """A per-stage (per-station, per-row) output of a columns answer, written a slice of cases at a
-    time: the same bytes as ``orjson.dumps`` of its list of lists (:func:`_ragged`), without every
-    case's list alive at once (a batch of whole machines holds tens of millions of numbers)."""
-
-    CASES_PER_PIECE = 2_048
-
-    def __init__(self, calculation: Calculation, name: str, array: np.ndarray):
-        self.calculation, self.name, self.array = calculation, name, array
-
-    def __len__(self) -> int:
-        return len(self.array)
-
-    def json_pieces(self):
-        size = len(self.array)
-        if not size:
-            yield b"[]"
-            return
-        for start in range(0, size, self.CASES_PER_PIECE):
-            stop = min(start + self.CASES_PER_PIECE, size)
-            text = orjson.dumps(_ragged(self.calculation, self.name, self.array[start:stop]),
-                                option=orjson.OPT_SERIALIZE_NUMPY)
-            yield (b"[" if start == 0 else b",") + text[1:-1] + (b"]" if stop == size else b"")
-
-
 def columns_body(calculation: Calculation, outcomes: list[Outcome], size: int, stream: bool = False) -> dict:
     """The ``columns`` of a columns answer; with ``stream``, each per-stage output a
-    :class:`RaggedColumn`. Made with the cyclic garbage collector paused: the answer's lists hold
-    numbers, strings and other such lists, no reference cycles, but a batch of whole machines makes
-    millions of them, and a collection every few hundred new ones took about a third of the
-    layout's time."""
+    :class:`~service.api.liststext.RaggedColumn` and each per-stage check's values and statuses a
+    :class:`~service.api.liststext.RaggedCheck` (text written as it is sent, from each chunk's
+    blocks in turn where one group was computed in chunks). Made with the cyclic garbage collector
+    paused: the answer's lists hold numbers, strings and other such lists, no reference cycles, but
+    a batch of whole machines not streamed makes millions of them, and a collection every few
+    hundred new ones took about a third of the layout's time."""
     enabled = gc.isenabled()
     gc.disable()
     try:
@@ -282,35 +263,112 @@ def columns_body(calculation: Calculation, outcomes: list[Outcome], size: int, s
 
 def _columns_body(calculation: Calculation, outcomes: list[Outcome], size: int, stream: bool) -> dict:
     if len(outcomes) == 1 and len(outcomes[0].index) == size:
-        outcome = outcomes[0]
-        columns = {name: _column_out(calculation, name, array, stream) for name, array in outcome.values.items()}
-        columns["checks"] = {name: _check_column(check, size) for name, check in outcome.checks.items()}
-        return columns
-    columns: dict[str, Any] = {}
-    checks: dict[str, dict] = {}
-    widths = _widths(outcomes)
-    for outcome in outcomes:
-        for name, array in outcome.values.items():
-            target = columns.get(name)
-            if target is None:
-                target = columns[name] = np.full((size, widths[name]) if name in widths else (size,), np.nan)
-            target[(outcome.index, slice(0, array.shape[1])) if array.ndim == 2 else outcome.index] = array
-        for name, check in outcome.checks.items():
-            _merge_check(checks, name, check, outcome.index, size)
-    body = {name: _column_out(calculation, name, array, stream) for name, array in columns.items()}
-    body["checks"] = {
-        name: {"value": _nan_to_none(merged["value"].tolist()), **_rule_constants(merged),
-               "status": merged["status"].tolist()}
-        for name, merged in checks.items()
-    }
+        values, checks = outcomes[0].values, outcomes[0].checks
+    elif stream and _in_turn(outcomes, size):
+        # One group computed in chunks: each chunk's per-stage blocks written in turn, not merged.
+        values, checks = _joined_values(outcomes), _joined_checks(outcomes, size)
+    else:
+        values, checks = _merged_values(outcomes, size), _merged_checks(outcomes, size)
+    body = {name: _column_out(calculation, name, array, stream) for name, array in values.items()}
+    body["checks"] = {name: _check_column(check, stream) for name, check in checks.items()}
     return body
 
 
-def _widths(outcomes: list[Outcome]) -> dict[str, int]:
-    """Per-stage lists of different lengths: each output's block as wide as its widest outcome's."""
-    widths: dict[str, int] = {}
+def _in_turn(outcomes: list[Outcome], size: int) -> bool:
+    """Whether the outcomes hold the cases in order, one after the other, and the same outputs and
+    checks."""
+    start = 0
+    for outcome in outcomes:
+        index = outcome.index
+        if len(index) and (index[0] != start or index[-1] != start + len(index) - 1 or (np.diff(index) != 1).any()):
+            return False
+        start += len(index)
+    first = outcomes[0]
+    return start == size and all(outcome.values.keys() == first.values.keys()
+                                 and outcome.checks.keys() == first.checks.keys() for outcome in outcomes)
+
+
+def _joined_values(outcomes: list[Outcome]) -> dict:
+    """The outputs of outcomes that hold the cases in turn: a number per case joined, a per-stage
+    output as the list of the outcomes' blocks (of different widths)."""
+    return {name: np.concatenate([o.values[name] for o in outcomes]) if array.ndim == 1
+            else [o.values[name] for o in outcomes] for name, array in outcomes[0].values.items()}
+
+
+def _joined_checks(outcomes: list[Outcome], size: int) -> dict:
+    """The checks of outcomes that hold the cases in turn, joined as :func:`_joined_values` joins
+    the outputs, the rule's constants as :func:`_merged_constants` finds them."""
+    checks = {}
+    for name, check in outcomes[0].checks.items():
+        parts = [(o.index, o.checks[name]) for o in outcomes]
+        if check["value"].ndim == 1:
+            joined = {key: np.concatenate([c[key] for _, c in parts]) for key in ("value", "status")}
+        else:
+            joined = {key: [c[key] for _, c in parts] for key in ("value", "code")}
+        checks[name] = {**joined, **_merged_constants(parts, size)}
+    return checks
+
+
+def _merged_values(outcomes: list[Outcome], size: int) -> dict[str, np.ndarray]:
+    """Every output of the outcomes put in place among the request's cases, NaN where an outcome
+    has no such output; per-stage lists of different lengths as wide as the widest."""
+    widths = _widths(outcome.values for outcome in outcomes)
+    columns: dict[str, np.ndarray] = {}
     for outcome in outcomes:
         for name, array in outcome.values.items():
+            _place(columns, name, array, outcome.index, (size, widths[name]) if name in widths else (size,), np.nan)
+    return columns
+
+
+def _merged_checks(outcomes: list[Outcome], size: int) -> dict[str, dict]:
+    """Every check of the outcomes put in place among the request's cases as :func:`_merged_values`
+    puts the outputs (status None, code 0 where an outcome has no such check), the rule's constants
+    one per case unless every case shares them."""
+    widths = _widths({name: check["value"] for name, check in outcome.checks.items()} for outcome in outcomes)
+    checks: dict[str, dict] = {}
+    for outcome in outcomes:
+        for name, check in outcome.checks.items():
+            shape = (size, widths[name]) if name in widths else (size,)
+            merged = checks.setdefault(name, {"parts": []})
+            _place(merged, "value", check["value"], outcome.index, shape, np.nan)
+            _place(merged, "status", check["status"], outcome.index, shape, None)
+            _place(merged, "code", check["code"], outcome.index, shape, 0)
+            merged["parts"].append((outcome.index, check))
+    for merged in checks.values():
+        merged.update(_merged_constants(merged.pop("parts"), size))
+    return checks
+
+
+def _place(columns: dict, name: str, array: np.ndarray, index: np.ndarray, shape: tuple, fill) -> None:
+    target = columns.get(name)
+    if target is None:
+        dtype = float if fill is np.nan else object if fill is None else array.dtype
+        target = columns[name] = np.full(shape, fill, dtype=dtype)
+    target[(index, slice(0, array.shape[1])) if array.ndim == 2 else index] = array
+
+
+def _merged_constants(parts: list, size: int) -> dict:
+    """The rule's limit, comparison and basis of a check that several outcomes hold: as each holds
+    them (:func:`_rule_constants` judges whether they are shared), put in place among the cases."""
+    constants = {}
+    for key in RULE_KEYS:
+        values = [check[key] for _, check in parts]
+        if (sum(len(index) for index, _ in parts) == size and not any(isinstance(v, np.ndarray) for v in values)
+                and len(set(values)) == 1):
+            # Shared by every case: the value of the case that comes first, as a set of them all keeps it.
+            constants[key] = values[min((index.min(), k) for k, (index, _) in enumerate(parts) if len(index))[1]]
+            continue
+        merged = constants[key] = np.full(size, None, dtype=object)
+        for (index, _), value in zip(parts, values, strict=True):
+            merged[index] = list(value) if isinstance(value, np.ndarray) and value.dtype != object else value
+    return constants
+
+
+def _widths(blocks) -> dict[str, int]:
+    """Per-stage lists of different lengths: each output's block as wide as its widest outcome's."""
+    widths: dict[str, int] = {}
+    for arrays in blocks:
+        for name, array in arrays.items():
             if array.ndim == 2:
                 widths[name] = max(widths.get(name, 0), array.shape[1])
     return widths
@@ -331,38 +389,13 @@ def assumed_columns(outcomes: list[Outcome], size: int) -> dict:
     return columns
 
 
-def _merge_check(checks: dict, name: str, check: dict, index: np.ndarray, size: int) -> None:
-    """One outcome's entries of a check put in place among the whole request's cases."""
-    merged = checks.get(name)
-    if merged is None:
-        merged = checks[name] = {k: np.full(size, None, dtype=object) for k in check}
-    if check["value"].ndim != 1:  # each case's list (ragged), as an object per case
-        value, status = _ragged_check(check["value"], check["status"])
-        check = {**check, "value": _objects(value), "status": _objects(status)}
-    for key, value in check.items():
-        if isinstance(value, np.ndarray):
-            merged[key][index] = value if value.dtype == object else list(value)
-        else:
-            merged[key][index] = value
-
-
-def _objects(values: list) -> np.ndarray:
-    """A list of lists as an object array of one list per entry (numpy would make it 2-D)."""
-    return np.fromiter(values, dtype=object, count=len(values))
-
-
-def _list_lengths(finite: np.ndarray) -> np.ndarray:
-    """Per row of a NaN-padded block: the entries up to its last finite one (0 where none is)."""
-    return np.where(finite.any(axis=1), finite.shape[1] - np.argmax(finite[:, ::-1], axis=1), 0)
-
-
 def _ragged(calculation: Calculation, name: str, array: np.ndarray) -> list:
     """Each case's list of a per-stage (per-station, per-row) output at its own length: what
     :func:`_scalar` gives the case in a rows answer, null for a case without a value, converted a
     block of one length (one stage count) at a time. A NaN inside a list (an entry that does not
     apply) is kept, which orjson writes as null, as it writes the None of :func:`_scalar`."""
     finite = np.isfinite(array)
-    length = _list_lengths(finite)
+    length = list_lengths(finite)
     integer = name in calculation._integer_outputs
     lists: list = [None] * len(array)
     for n in np.unique(length).tolist():
@@ -384,7 +417,7 @@ def _ragged_check(value: np.ndarray, status: np.ndarray) -> tuple[list, list]:
     """Each case's values and statuses of a per-stage (per-row) check: its finite entries, None where
     it has none, as :func:`_check_entry` gives them, converted a block at a time."""
     finite = np.isfinite(value)
-    lengths = _list_lengths(finite).tolist()
+    lengths = list_lengths(finite).tolist()
     out_values = [row[:n] if n else None for row, n in zip(value.tolist(), lengths, strict=True)]
     out_statuses = [row[:n] if n else None for row, n in zip(status.tolist(), lengths, strict=True)]
     for i in np.flatnonzero(finite.sum(axis=1) < np.asarray(lengths)):  # a gap inside: its finite entries
@@ -392,9 +425,12 @@ def _ragged_check(value: np.ndarray, status: np.ndarray) -> tuple[list, list]:
     return out_values, out_statuses
 
 
-def _column_out(calculation: Calculation, name: str, array: np.ndarray, stream: bool = False):
+def _column_out(calculation: Calculation, name: str, array, stream: bool = False):
+    if isinstance(array, list):  # the blocks of outcomes in turn (streamed only)
+        return RaggedColumn(array, name in calculation._integer_outputs)
     if array.ndim == 2:
-        return RaggedColumn(calculation, name, array) if stream else _ragged(calculation, name, array)
+        integer = name in calculation._integer_outputs
+        return RaggedColumn([array], integer) if stream else _ragged(calculation, name, array)
     if name in calculation._integer_outputs:
         return _whole_numbers(array)
     return array  # orjson writes numpy arrays directly; NaN becomes null
@@ -412,9 +448,15 @@ def _whole_numbers(array: np.ndarray):
     return whole.tolist()
 
 
-def _check_column(check: dict, size: int) -> dict:
+def _check_column(check: dict, stream: bool) -> dict:
+    if isinstance(check["value"], list):  # the blocks of outcomes in turn (streamed only)
+        value, status = (RaggedCheck(check["value"], check["code"], part) for part in ("value", "status"))
+        return {"value": value, **_rule_constants(check), "status": status}
     if check["value"].ndim != 1:
-        value, status = _ragged_check(check["value"], check["status"])
+        if stream:
+            value, status = (RaggedCheck([check["value"]], [check["code"]], part) for part in ("value", "status"))
+        else:
+            value, status = _ragged_check(check["value"], check["status"])
         return {"value": value, **_rule_constants(check), "status": status}
     return {"value": check["value"], **_rule_constants(check), "status": check["status"].tolist()}
 
@@ -423,7 +465,7 @@ def _rule_constants(check: dict) -> dict:
     """The rule's limit, comparison and basis: one value when the whole batch shares it (as a
     scalar in request columns broadcasts), otherwise one per case."""
     constants = {}
-    for key in ("limit", "fail_limit", "comparison", "basis"):
+    for key in RULE_KEYS:
         value = check[key]
         if isinstance(value, np.ndarray):
             # None is a value here too (a rule without a fail_limit), not a missing one.

@@ -48,7 +48,8 @@ CHUNK_CASES = {"machine-design": 128, "stage-split": 4_096}
 #: Larger chunks where a given input keeps the core's intermediate arrays small: with the mean radius
 #: held the machine design solves no annulus and its stage-count search lays out no trial machines
 #: (about 20 to 30 kB per case at once, against about 350 to 500 kB with the hub or tip radius held;
-#: Python's tracemalloc, 128 and 1,024 cases of the benchmark's and the README's compressors), and
+#: Python's tracemalloc, 128 and 1,024 cases of the benchmark's and the README's compressors; about
+#: 330 kB for 128 of the benchmark's with the hub held since the annulus scan broadcasts its inputs), and
 #: the 128-case chunks cost twice the core's time of the whole batch (tests/benchmarks, machine-design).
 CHUNK_CASES_GIVEN = {"machine-design": {"mean_radius": 2_048}}
 #: Without MEANLINE_MAX_MEMORY nor a container memory limit: the memory one request may take.

@@ -92,10 +92,11 @@ def _check_of(check, failed: np.ndarray, failed_cases: np.ndarray) -> dict:
     value = np.ascontiguousarray(check.value, dtype=float)
     if failed_cases.size:
         value = _blanked(value, failed_cases, value is not check.value and value.flags.owndata)
-    # Per stage or row too: the shared status strings, whole rows None where a case failed.
-    status = _status_objects(np.broadcast_to(check.status_code, value.shape), failed)
-    return {"value": value, "status": status, "limit": check.limit, "fail_limit": check.fail_limit,
-            "comparison": check.comparison, "basis": check.basis}
+    # Per stage or row too: the shared status strings, whole rows None where a case failed; the
+    # codes beside them for a columns answer, which writes its per-stage statuses from the codes.
+    code = np.broadcast_to(check.status_code, value.shape)
+    return {"value": value, "status": _status_objects(code, failed), "limit": check.limit,
+            "fail_limit": check.fail_limit, "comparison": check.comparison, "basis": check.basis, "code": code}
 
 
 def _blanked(array: np.ndarray, failed_cases: np.ndarray, own: bool) -> np.ndarray:

@@ -130,7 +130,8 @@ def hub_to_tip_ratio_for_flow(held, radius, flow_ratio):
         The held radius of each problem, shape ``(P,)``. [m]
     flow_ratio : callable
         ``flow_ratio(annulus, index) -> numpy.ndarray`` with ``annulus`` the dict of
-        :func:`annulus_from_hub_to_tip_ratio` (arrays shaped like ``index``). [-]
+        :func:`annulus_from_hub_to_tip_ratio`, whose arrays ``index`` (positions of the problems)
+        broadcasts against: of their shape, or a row of one index per problem beside a 2-D grid. [-]
 
     Returns
     -------
@@ -147,11 +148,11 @@ def hub_to_tip_ratio_for_flow(held, radius, flow_ratio):
     """
     (radius,) = broadcast_cases(radius)
     problems = radius.shape[0]
-    index = np.arange(problems)
-    grid = np.broadcast_to(_SCAN[:, None], (_SCAN.size, problems))
-    rows = np.broadcast_to(index, grid.shape)
+    # The scan's grid is (ratios, problems); every problem's inputs are taken once, as a row that
+    # broadcasts down the grid, not gathered again for each ratio.
+    index = np.arange(problems)[None, :]
     with np.errstate(all="ignore"):
-        excess = flow_ratio(annulus_from_hub_to_tip_ratio(held, radius[rows], grid), rows) - 1.0
+        excess = flow_ratio(annulus_from_hub_to_tip_ratio(held, radius[index], _SCAN[:, None]), index) - 1.0
     passes = excess >= 0
     # The first grid point that passes, with a valid point just before it (a proper bracket).
     bracketed = passes[1:] & (excess[:-1] < 0)

@@ -294,9 +294,15 @@ def _reason_codes(failures, size: int) -> tuple[np.ndarray, list]:
     """The core's own reasons as codes; a reason with a number per case gets a code per distinct text."""
     reasons: list = [text for text, _ in failures]
     reason = np.zeros(size, dtype=np.intp)
+    masks = [mask for _, mask in failures]
+    codes = range(1, len(masks) + 1)
+    if masks and all(type(mask) is np.ndarray and mask.shape == (size,) for mask in masks):
+        # A whole machine has a reason per station and row, most of which no case meets: judged in
+        # one call, only the masks that hold a case are written.
+        codes = (np.flatnonzero(np.array(masks, dtype=bool).any(axis=1)) + 1).tolist()
     # The first reason that applies to a case is the one reported, so the masks go in backwards.
-    for code in range(len(failures), 0, -1):
-        reason[np.broadcast_to(failures[code - 1][1], (size,))] = code
+    for code in reversed(codes):
+        reason[np.broadcast_to(masks[code - 1], (size,))] = code
     for code, entry in enumerate(list(reasons), start=1):
         if isinstance(entry, str):
             continue
@@ -312,11 +318,13 @@ def _reason_codes(failures, size: int) -> tuple[np.ndarray, list]:
 def _finite_cases(array: np.ndarray) -> np.ndarray:
     """Per case, whether its outputs are finite; per-stage rows are NaN-padded after the last stage,
     so only an inner NaN or an infinity fails a row."""
-    if array.ndim == 1:
-        return np.isfinite(array)
     finite = np.isfinite(array)
-    has_value = finite.any(axis=1)
-    # A padded row is finite up to its last finite entry and NaN after it.
-    last = np.where(has_value, array.shape[1] - 1 - np.argmax(finite[:, ::-1], axis=1), -1)
-    columns = np.arange(array.shape[1])
-    return has_value & np.all(finite | (columns[None, :] > last[:, None]), axis=1) & ~np.isinf(array).any(axis=1)
+    if array.ndim == 1:
+        return finite
+    if not array.shape[1]:
+        return np.zeros(len(array), dtype=bool)
+    # A padded row is finite from its first entry up to its last finite one (no finite entry after
+    # one that is not), and NaN, not infinite, after it.
+    valid = finite[:, 0] & np.less_equal(finite[:, 1:], finite[:, :-1]).all(axis=1)
+    infinite = np.isinf(array)
+    return valid & ~infinite.any(axis=1) if infinite.any() else valid

@@ -3,17 +3,30 @@
 Properties checked against the definitions in the module's docstrings, not against physics:
 failed cases hold NaN (0 in integer outputs), every output is a full-shape C-contiguous array
 of its own (serialisers read them as flat buffers), the caller's inputs are never written to,
-and a reason with a number per case (NumberedReason) gives every case the text of its own
-number, through prefixes, slices and subsets.
+a reason with a number per case (NumberedReason) gives every case the text of its own
+number, through prefixes, slices and subsets, and every case's failure (failure_codes) is the one
+its docstring defines.
 """
 
 from __future__ import annotations
 
 import numpy as np
 import pytest
+from hypothesis import given, settings
+from hypothesis import strategies as st
 
 from service.core import diffusion, triangles, zweifel
-from service.core.cases import CaseResults, NumberedReason, masked_results, prefixed, reason_for, reason_texts
+from service.core.cases import (
+    LARGEST_WHOLE,
+    NOT_FINITE,
+    CaseResults,
+    NumberedReason,
+    failure_codes,
+    masked_results,
+    prefixed,
+    reason_for,
+    reason_texts,
+)
 
 
 def test_masks_failed_cases_and_broadcasts_scalars():
@@ -131,3 +144,45 @@ def test_merged_results_prefix_the_numbered_reasons_of_the_other():
     texts, which = reason_texts(reason, where)
     assert [texts[k] for k in which] == ["rotor: reaches 0.700", "rotor: reaches 0.800"]
     np.testing.assert_allclose(merged.values["y"], [1.0, np.nan, np.nan], rtol=0, atol=0)
+
+
+def _reason_by_definition(failures, values, absent, whole_outputs, i):
+    """Case i's reason code read off failure_codes' docstring one case at a time (bookkeeping, no
+    physics): the first core reason that applies, else an output that is not finite (a per-stage row
+    may end in NaN padding after its last finite entry; an absent entry does not count), else a
+    whole-number output beyond LARGEST_WHOLE."""
+    for code, (_, mask) in enumerate(failures, start=1):
+        if np.broadcast_to(mask, (len(next(iter(values.values()))),))[i]:
+            return code
+    for name, array in values.items():
+        row = np.atleast_1d(array[i]).copy()
+        if name in absent:
+            row[absent[name][i]] = 0.0
+        finite = np.isfinite(row).tolist()
+        last = max((k for k, f in enumerate(finite) if f), default=-1)
+        padding_only = last >= 0 and all(finite[: last + 1]) and all(np.isnan(row[last + 1:]))
+        whole_too_big = name in whole_outputs and any(abs(v) > LARGEST_WHOLE for v in row[np.isfinite(row)])
+        if not padding_only or whole_too_big:
+            return len(failures) + 1
+    return 0
+
+
+@settings(max_examples=300, deadline=None)
+@given(st.data())
+def test_failure_codes_follow_their_definition(data):
+    size = data.draw(st.integers(1, 6))
+    entry = st.sampled_from([np.nan, np.inf, -np.inf, 1.0, -2.5, 2.0**60])
+    masks = st.lists(st.booleans(), min_size=size, max_size=size).map(np.array) | st.booleans()
+    # Every mask an array of the cases (the usual core) or some of them scalars.
+    failures = [(f"reason {k}", mask) for k, mask in enumerate(data.draw(st.lists(masks, max_size=6)))]
+    width = data.draw(st.integers(1, 4))
+    values = {"x": np.array(data.draw(st.lists(entry, min_size=size, max_size=size))),
+              "rows": np.array(data.draw(st.lists(st.lists(entry, min_size=width, max_size=width),
+                                                  min_size=size, max_size=size)))}
+    absent = {"rows": np.array(data.draw(st.lists(st.lists(st.booleans(), min_size=width, max_size=width),
+                                                  min_size=size, max_size=size)))}
+    values["rows"][absent["rows"]] = np.nan  # as the core leaves an entry that does not apply
+    whole = data.draw(st.sampled_from([frozenset(), frozenset({"x"}), frozenset({"rows"})]))
+    reason, reasons = failure_codes(failures, values, absent, whole)
+    assert reasons == [text for text, _ in failures] + [NOT_FINITE]
+    assert reason.tolist() == [_reason_by_definition(failures, values, absent, whole, i) for i in range(size)]

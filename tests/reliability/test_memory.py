@@ -5,7 +5,8 @@
   exactly that many is computed.
 - The machine design and the stage split are computed a chunk of cases at a time, and their rows
   answers written a slice at a time: the answer is the same, byte for byte, as computed and laid
-  out in one piece (a mixed batch: other stage counts, an option per case, an impossible case).
+  out in one piece (a mixed batch: other stage counts, an option per case, an impossible case);
+  so is a columns answer of the machine design written chunk by chunk.
 - The default bound follows the container's memory limit (cgroup v2 and v1 files).
 The memory actually taken is measured on a real worker in tests/drills/test_memory_drill.py and
 by ``python -m tests.benchmarks.memory``.
@@ -121,6 +122,31 @@ def test_chunked_computation_gives_the_same_answer(monkeypatch, name):
     assert chunked == in_one
     answer = orjson.loads(in_one)
     assert len(answer["results"]) == 11 and [e["index"] for e in answer["errors"]] == [4]
+
+
+def test_a_chunked_columns_answer_is_written_chunk_by_chunk_as_laid_out_whole(monkeypatch):
+    # One group in chunks of 3 (outcomes holding the cases in turn, of different list widths): the
+    # streamed answer writes each chunk's per-stage blocks in turn and is the same text as the
+    # answer laid out whole, and as the answer computed in one chunk.
+    good, bad = MACHINE.good, MACHINE.bad
+    size = 11
+    choked = 5
+    columns = {**good, "stages": [2 + i % 3 for i in range(size)],
+               "total_temperature": [288.15 + i for i in range(size)],
+               **{name: [bad[name] if i == choked else good[name] for i in range(size)]
+                  for name in ("shaft_speed", "flow_coefficient")}}
+    body = {"columns": columns}
+    monkeypatch.setitem(memory.CHUNK_CASES_GIVEN, "machine-design", {})
+    in_one = _answer("machine-design", body, {}, monkeypatch)
+    chunked = _answer("machine-design", body, {"machine-design": 3}, monkeypatch)
+    assert chunked == in_one
+    answer = orjson.loads(chunked)
+    assert [e["index"] for e in answer["errors"]] == [choked]
+    assert [None if v is None else len(v) for v in answer["columns"]["stage_pressure_ratio"]] == \
+        [None if i == choked else 2 + i % 3 for i in range(size)]
+    calculation = next(c for c in CALCULATIONS if c.name == "machine-design")
+    streamed, _ = run_calculation(calculation, json.loads(json.dumps(body)), 1000, stream=True)
+    assert len(streamed["columns"]["stage_pressure_ratio"].blocks) == 4  # written chunk by chunk
 
 
 def test_the_default_bound_follows_the_container_limit(tmp_path):
