@@ -3,7 +3,9 @@
 from __future__ import annotations
 
 import json
+import re
 import threading
+from collections import Counter
 
 from apispec import APISpec
 from apispec.ext.marshmallow import MarshmallowPlugin
@@ -78,9 +80,8 @@ def _inline_single_use_outputs(document: dict) -> dict:
     """An output component that one result alone refers to, written in that result instead (a
     reference and a component name cost more than the schema they stand for)."""
     schemas = document["components"]["schemas"]
-    text = json.dumps(document)
-    single = {name for name in schemas if "Output_" in name
-              and text.count(json.dumps(f"#/components/schemas/{name}")) == 1}
+    uses = Counter(re.findall(r'"#/components/schemas/(\w*Output_\w+)"', json.dumps(document)))
+    single = {name for name, count in uses.items() if count == 1}
     for name, schema in schemas.items():
         properties = schema.get("properties", {}) if name.endswith("Result") else {}
         for output, prop in properties.items():

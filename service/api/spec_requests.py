@@ -48,11 +48,8 @@ def _alternative_schema(calculation: Calculation, choice: Choice, alternative: A
     fields absent and the option values it applies to. An alternative taken on its defaults is
     also kept from the cases that another alternative takes on its option values alone (as the
     service prefers the alternative that needs the fewest defaults)."""
-    schema = {"title": alternative.value}
-    required = _required(calculation, alternative)
-    if alternative.when:
-        schema["properties"] = {option: {"enum": list(values)} for option, values in alternative.when.items()}
-        required += _options_required(calculation, alternative.when)
+    schema = {"title": alternative.value, **_option_marker(calculation, alternative)}
+    required = _required(calculation, alternative) + schema.pop("required", [])
     if required:
         schema["required"] = required
     absent = [{"required": [name]} for name in sorted(choice.fields - set(alternative.fields))]
@@ -63,7 +60,7 @@ def _alternative_schema(calculation: Calculation, choice: Choice, alternative: A
                    if other is not alternative and other.when and set(other.required) <= set(alternative.fields)
                    and not _disjoint(other.when, alternative.when)]
     if absent:
-        schema["not"] = absent[0] if len(absent) == 1 else {"anyOf": absent}
+        schema["not"] = _any_of(absent)
     return schema
 
 
@@ -90,7 +87,9 @@ def _options_required(calculation: Calculation, when) -> list[str]:
 
 
 def _option_marker(calculation: Calculation, alternative: Alternative) -> dict:
-    """The schema of the cases whose option values pick ``alternative``."""
+    """The schema of the cases whose option values pick ``alternative`` (empty if it has none)."""
+    if not alternative.when:
+        return {}
     marker = {"properties": {option: {"enum": list(values)} for option, values in alternative.when.items()}}
     required = _options_required(calculation, alternative.when)
     return {**marker, "required": required} if required else marker
@@ -102,9 +101,11 @@ def _disjoint(when: dict, other: dict) -> bool:
 
 def _none_of(names: list[str]) -> dict:
     """The schema ``not`` takes to keep every one of ``names`` out of an object."""
-    if len(names) == 1:
-        return {"required": names}
-    return {"anyOf": [{"required": [name]} for name in names]} if names else {}
+    return _any_of([{"required": [name]} for name in names]) if names else {}
+
+
+def _any_of(schemas: list[dict]) -> dict:
+    return schemas[0] if len(schemas) == 1 else {"anyOf": schemas}
 
 
 def _needs_schemas(calculation: Calculation, choice: Choice, alternative: Alternative) -> list[dict]:

@@ -73,20 +73,25 @@ def _counting(wsgi_app):
 APP.wsgi_app = _counting(APP.wsgi_app)
 
 
+def _body_schema(path: str) -> dict:
+    # The GET form's query stands for a one-case body: it is judged by the POST body's schema.
+    return DOCUMENT["paths"][path]["post"]["requestBody"]["content"]["application/json"]["schema"]
+
+
+def _validator(schema: dict):
+    return jsonschema.Draft202012Validator({**schema, "components": DOCUMENT["components"]})
+
+
 @functools.cache
 def _request_validator(path: str, method: str):
-    # The GET form's query stands for a one-case body: it is judged by the POST body's schema.
-    content = DOCUMENT["paths"][path]["post"]["requestBody"]["content"]
-    return jsonschema.Draft202012Validator({**content["application/json"]["schema"],
-                                            "components": DOCUMENT["components"]})
+    return _validator(_body_schema(path))
 
 
 @functools.cache
 def _case_validator(path: str):
     """The validator of the one-case body (the first shape of the request's oneOf)."""
-    shapes = DOCUMENT["paths"][path]["post"]["requestBody"]["content"]["application/json"]["schema"]
-    one_case = DOCUMENT["components"]["schemas"][shapes["$ref"].rsplit("/", 1)[-1]]["oneOf"][0]
-    return jsonschema.Draft202012Validator({**one_case, "components": DOCUMENT["components"]})
+    shapes = DOCUMENT["components"]["schemas"][_body_schema(path)["$ref"].rsplit("/", 1)[-1]]
+    return _validator(shapes["oneOf"][0])
 
 
 def _column_cases(columns) -> list:
