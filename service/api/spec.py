@@ -57,9 +57,9 @@ def case_field_property(self, field, ret, **kwargs) -> dict:
 def build_spec(calculations: list[Calculation], version: str) -> dict:
     """The whole OpenAPI document as a dict.
 
-    Every schema is written once and referred to: an input field is one component (its column
-    form refers to it), an output is one component (a result and a columns result refer to it; an
-    output that two calculations share is the first one's), a GET parameter refers to its field.
+    Every schema is written once: an input field or an output that two schemas share (two
+    calculations' cases or results, a hub and a tip output) is one component they refer to (the
+    first calculation's); one that a single case or result has is written in it.
     """
     plugin = MarshmallowPlugin()
     spec = APISpec(title=TITLE, version=version, openapi_version="3.1.0", plugins=[plugin],
@@ -73,21 +73,21 @@ def build_spec(calculations: list[Calculation], version: str) -> dict:
         for calculation in calculations:
             _add_calculation(spec, plugin, calculation, outputs)
     _add_service_paths(spec)
-    return _inline_single_use_outputs(spec.to_dict())
+    return _inline_single_use(spec.to_dict())
 
 
-def _inline_single_use_outputs(document: dict) -> dict:
-    """An output component that one result alone refers to, written in that result instead (a
-    reference and a component name cost more than the schema they stand for)."""
+def _inline_single_use(document: dict) -> dict:
+    """An input field's or an output's component that one schema alone refers to, written in that
+    schema instead (a reference and a component name cost more than the schema they stand for)."""
     schemas = document["components"]["schemas"]
-    uses = Counter(re.findall(r'"#/components/schemas/(\w*Output_\w+)"', json.dumps(document)))
+    uses = Counter(re.findall(r'"#/components/schemas/(\w*(?:Field|Output)_\w+)"', json.dumps(document)))
     single = {name for name, count in uses.items() if count == 1}
     for name, schema in schemas.items():
-        properties = schema.get("properties", {}) if name.endswith("Result") else {}
-        for output, prop in properties.items():
+        properties = schema.get("properties", {}) if name.endswith(("Result", "Case")) else {}
+        for member, prop in properties.items():
             target = prop.get("$ref", "").rsplit("/", 1)[-1]
             if target in single:
-                properties[output] = schemas[target]
+                properties[member] = schemas[target]
     for name in single:
         del schemas[name]
     return document
