@@ -64,7 +64,11 @@ def build_spec(calculations: list[Calculation], version: str) -> dict:
     plugin = MarshmallowPlugin()
     spec = APISpec(title=TITLE, version=version, openapi_version="3.1.0", plugins=[plugin],
                    info={"description": DESCRIPTION},
-                   servers=[{"url": "/", "description": "The service that serves this document."}])
+                   servers=[{"url": "/", "description": "The service that serves this document."}],
+                   # Every calculation takes a key where keys are configured; the service paths say `[]`.
+                   # The api_key query parameter is not declared as a scheme: it is off unless the
+                   # operator enables it (see The GET form).
+                   security=KEY_SCHEMES)
     plugin.converter.add_attribute_function(case_field_property)
     _add_common_components(spec)
     outputs: dict[str, str] = {}
@@ -239,7 +243,6 @@ def _add_calculation(spec: APISpec, plugin, calculation: Calculation, known_outp
         "tags": [calculation.name],
         "summary": calculation.summary,
         "description": calculation.description + "\n\n" + CAUTION_POINTER,
-        "security": [{"ApiKey": []}, {"BearerKey": []}],
         "parameters": [_output_parameter(prefix, "Outputs and checks to answer (as the body's `outputs`)."),
                        "units"],  # units: components/parameters/units
         "requestBody": {"required": True, "description": "One case, rows or columns (see Requests).", "content": {
@@ -252,6 +255,8 @@ def _add_calculation(spec: APISpec, plugin, calculation: Calculation, known_outp
     }})
 
 
+#: The document's security requirement: an API key in its header or as a bearer token.
+KEY_SCHEMES = [{"ApiKey": []}, {"BearerKey": []}]
 POST_PROBLEMS = {"400": "InvalidJson", "401": "KeyMissing", "403": "KeyInvalid", "408": "ReceiveTimeout",
                  "413": "TooLarge", "415": "UnsupportedBody", "422": "InvalidInput", "503": "Stopped"}
 GET_PROBLEMS = {"400": "KeyInQuery", "401": "KeyMissing", "403": "KeyInvalid", "422": "InvalidInput",
@@ -327,12 +332,16 @@ def _add_common_components(spec: APISpec) -> None:
         "properties": check_properties})
     spec.components.schema("CheckColumns", component={
         "type": "object", "required": list(check_properties), "additionalProperties": False,
-        "description": "A rule judged on every case: value and status per case; limit, fail_limit, comparison "
-                       "and basis once when the whole batch shares them, else per case.",
-        "properties": {name: ({"type": "array", "items": {k: v for k, v in prop.items() if k != "description"}}
-                              if name in ("value", "status") else
-                              {"oneOf": [prop, {"type": "array", "items": prop}]})
+        "description": "A Check judged on every case (each member as Check describes it): value and status per "
+                       "case; limit, fail_limit, comparison and basis once when the whole batch shares them, else "
+                       "per case.",
+        "properties": {name: {"type": "array", "items": _undescribed(prop)} if name in ("value", "status") else
+                       {"oneOf": [_undescribed(prop), {"type": "array", "items": _undescribed(prop)}]}
                        for name, prop in check_properties.items()}})
+
+
+def _undescribed(schema: dict) -> dict:
+    return {key: value for key, value in schema.items() if key != "description"}
 
 
 def _add_service_paths(spec: APISpec) -> None:
@@ -373,8 +382,7 @@ def _output_parameter(prefix: str, description: str) -> dict:
     # The document lists the output names; the checks (their names depend on the input mode) are
     # accepted too, as the description says.
     return {"name": "output", "in": "query", "required": False, "style": "form", "explode": False,
-            "description": description + " Comma-separated or repeated: output names, or checks.NAME, "
-                                         "checks.NAME.status, checks.NAME.value.",
+            "description": description + " Comma-separated or repeated.",
             "schema": _ref(f"{prefix}OutputSelection")}
 
 
@@ -384,16 +392,13 @@ def _get_operation(prefix: str, calculation: Calculation) -> dict:
     parameters = [{"name": "case", "in": "query", "required": True, "style": "form", "explode": True,
                    "description": "The one-case body's fields, one parameter each (see The GET form).",
                    "schema": _ref(f"{prefix}Case")}]
-    parameters.append(_output_parameter(prefix, "With one name: a text/plain answer of that one value."))
+    parameters.append(_output_parameter(prefix, "Outputs and checks to answer; one name alone: a text/plain answer of its value."))
     parameters.append("units")  # components/parameters/units
     return {
         "operationId": calculation.name.replace("-", "_") + "_query",
         "tags": [calculation.name],
         "summary": calculation.summary + " (one case from the query)",
         "description": "One case from the query (see The GET form). " + CAUTION_POINTER,
-        # The api_key query parameter is not declared as a scheme: it is off unless the operator
-        # enables it (see The GET form).
-        "security": [{"ApiKey": []}, {"BearerKey": []}],
         "parameters": parameters,
         "responses": {
             "200": {"description": "The answer of the one case.", "content": {

@@ -129,16 +129,17 @@ def assumed_schema(calculation: Calculation, columns: bool = False) -> dict:
     if not calculation.defaults:
         return {}
     value = {"type": ["number", "string"]}
+    if columns:
+        # The defaults are listed once, in the one-case result.
+        return {"assumed": {"type": "object", "additionalProperties": {"oneOf": [value, {
+            "type": "array", "items": {"type": ["number", "string", "null"]}}]}, "description": (
+            "The one-case result's `assumed` of the cases: each default one value where every case took the same, "
+            "else one per case (null where a case gave the field).")}}
     described = "; ".join(f"{name}: " + ", ".join(_default_text(d) for d in defaults)
                           for name, defaults in calculation.defaults.items())
-    return {"assumed": {
-        "type": "object", "additionalProperties": {"oneOf": [value, {"type": "array", "items": {
-            "type": ["number", "string", "null"]}}]}
-        if columns else value,
-        "description": ("Every default the case took for a field it left out: the declared ones (" + described
-                        + "; each common practice, see the field's description), the fields' own defaults and "
-                        "the options'. In columns: one value where every case took the same, else one per case "
-                        "(null where a case gave the field).")}}
+    return {"assumed": {"type": "object", "additionalProperties": value, "description": (
+        "Every default the case took for a field it left out: the declared ones (" + described
+        + "; each common practice, see the field's description), the fields' own defaults and the options'.")}}
 
 
 def _default_text(default) -> str:

@@ -127,7 +127,7 @@ def test_every_component_is_used(spec):
         if kind != "securitySchemes":
             unused = [n for n in components if f"#/components/{kind}/{n}" not in used]
             assert not unused, (kind, unused)
-    schemes = {name for operation in _operations(spec) for alternative in operation.get("security", [])
+    schemes = {name for operation in [spec, *_operations(spec)] for alternative in operation.get("security", [])
                for name in alternative}
     assert schemes == set(spec["components"]["securitySchemes"])
 
