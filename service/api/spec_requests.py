@@ -19,8 +19,6 @@ def request_schema(calculation: Calculation, field_ref: Callable[[str], dict]) -
             "properties": {name: field_ref(name) for name in schema.fields},
             "required": [name for name, f in schema.fields.items() if f.required], "additionalProperties": False}
     constraints = [_choice_schema(calculation, choice) for choice in calculation.choices]
-    constraints += [need for choice in calculation.choices for alternative in choice.alternatives
-                    for need in _needs_schemas(calculation, choice, alternative)]
     if constraints:
         body["allOf"] = constraints
     dependent = _dependent_required(calculation)
@@ -61,6 +59,9 @@ def _alternative_schema(calculation: Calculation, choice: Choice, alternative: A
                    and not _disjoint(other.when, alternative.when)]
     if absent:
         schema["not"] = _any_of(absent)
+    needs = _needs_schemas(calculation, alternative)
+    if needs:
+        schema["allOf"] = needs
     return schema
 
 
@@ -108,19 +109,14 @@ def _any_of(schemas: list[dict]) -> dict:
     return schemas[0] if len(schemas) == 1 else {"anyOf": schemas}
 
 
-def _needs_schemas(calculation: Calculation, choice: Choice, alternative: Alternative) -> list[dict]:
-    """Where an alternative is taken, one of the alternatives it needs of another choice is too."""
+def _needs_schemas(calculation: Calculation, alternative: Alternative) -> list[dict]:
+    """One of the alternatives of another choice that ``alternative`` needs, for each such choice."""
     schemas = []
     for other_name, values in alternative.needs.items():
         other = calculation.choice(other_name)
-        condition = {"required": _required(calculation, alternative)}
-        absent = _none_of(sorted(choice.fields - set(alternative.fields)))
-        if absent:
-            condition["not"] = absent
         wanted = [{"required": _required(calculation, other.alternative(v))} for v in values]
-        schemas.append({"if": condition, "then": {
-            "description": f"{alternative.value} needs {other_name} " + " or ".join(values) + ".",
-            **(wanted[0] if len(wanted) == 1 else {"anyOf": wanted})}})
+        schemas.append({"description": f"{alternative.value} needs {other_name} " + " or ".join(values) + ".",
+                        **_any_of(wanted)})
     return schemas
 
 
