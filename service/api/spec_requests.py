@@ -43,22 +43,25 @@ def _choice_schema(calculation: Calculation, choice: Choice) -> dict:
 
 def _alternative_schema(calculation: Calculation, choice: Choice, alternative: Alternative) -> dict:
     """The alternative's own fields required (but those a default fills), the other alternatives'
-    fields absent and the option values it applies to. An alternative taken on its defaults is
+    fields absent (not among the case's property names) and the option values it applies to. An alternative taken on its defaults is
     also kept from the cases that another alternative takes on its option values alone (as the
     service prefers the alternative that needs the fewest defaults)."""
     schema = {"title": alternative.value, **_option_marker(calculation, alternative)}
     required = _required(calculation, alternative) + schema.pop("required", [])
     if required:
         schema["required"] = required
-    absent = [{"required": [name]} for name in sorted(choice.fields - set(alternative.fields))]
+    others = sorted(choice.fields - set(alternative.fields))
+    if others:
+        schema["propertyNames"] = {"not": {"enum": others}}
     defaulted = [name for name in alternative.required if name not in required]
     if defaulted:
         # Taken on its defaults only where they are left out: given, they are the alternative's own.
-        absent += [{**_option_marker(calculation, other), "not": _none_of(defaulted)} for other in choice.alternatives
-                   if other is not alternative and other.when and set(other.required) <= set(alternative.fields)
-                   and not _disjoint(other.when, alternative.when)]
-    if absent:
-        schema["not"] = _any_of(absent)
+        preferred = [{**_option_marker(calculation, other), "not": _none_of(defaulted)}
+                     for other in choice.alternatives
+                     if other is not alternative and other.when and set(other.required) <= set(alternative.fields)
+                     and not _disjoint(other.when, alternative.when)]
+        if preferred:
+            schema["not"] = _any_of(preferred)
     needs = _needs_schemas(calculation, alternative)
     if needs:
         schema["allOf"] = needs
