@@ -26,7 +26,12 @@ from service.api.spec_texts import (
 )
 from service.core.checks import COMPARISONS, STATUSES
 
-CSV_ANSWER = {"schema": {"type": "string", "description": "With `Accept: text/csv`: one line per case (see CSV)."}}
+#: The text bodies of the calculations, each a component every operation refers to.
+TEXT_BODIES = {
+    "CsvRows": "Rows as CSV (see CSV).",
+    "CsvAnswer": "With `Accept: text/csv`: one line per case (see CSV).",
+    "OutputText": "With one `output`: its value (see The GET form).",
+}
 
 def _number_schema(field: Quantity) -> dict:
     schema = {"type": "integer" if field.integer else "number"}
@@ -232,7 +237,7 @@ def _add_calculation(spec: APISpec, plugin, calculation: Calculation, known_outp
     responses.append(_ref(f"{prefix}Result"))
     spec.components.schema(f"{prefix}Response", component={"oneOf": responses})
 
-    content = {"application/json": {"schema": _ref(f"{prefix}Response")}, "text/csv": CSV_ANSWER}
+    content = {"application/json": {"schema": _ref(f"{prefix}Response")}, "text/csv": {"schema": _ref("CsvAnswer")}}
     drawing = {}
     if calculation.render_svg is not None:
         content["image/svg+xml"] = {"schema": {
@@ -247,7 +252,7 @@ def _add_calculation(spec: APISpec, plugin, calculation: Calculation, known_outp
                        "units"],  # units: components/parameters/units
         "requestBody": {"required": True, "description": "One case, rows or columns (see Requests).", "content": {
             "application/json": {"schema": _ref(f"{prefix}Request")},
-            "text/csv": {"schema": {"type": "string", "description": "Rows as CSV (see CSV)."}}}},
+            "text/csv": {"schema": _ref("CsvRows")}}},
         "responses": {
             "200": {"description": "Results, in the shape of the request.", "content": content},
             **{status: name for status, name in sorted({**POST_PROBLEMS, **drawing}.items())},
@@ -295,6 +300,8 @@ def _add_common_components(spec: APISpec) -> None:
                 "otherwise a generated UUID.")},
         },
     })
+    for name, description in TEXT_BODIES.items():
+        spec.components.schema(name, component={"type": "string", "description": description})
     spec.components.schema("Units", component={"type": "string", "enum": ["si", "us"],
                                                 "description": UNITS_DESCRIPTION})
     spec.components.parameter("units", "query", {
@@ -392,7 +399,8 @@ def _get_operation(prefix: str, calculation: Calculation) -> dict:
     parameters = [{"name": "case", "in": "query", "required": True, "style": "form", "explode": True,
                    "description": "The one-case body's fields, one parameter each (see The GET form).",
                    "schema": _ref(f"{prefix}Case")}]
-    parameters.append(_output_parameter(prefix, "Outputs and checks to answer; one name alone: a text/plain answer of its value."))
+    parameters.append(_output_parameter(prefix, "Outputs and checks to answer; one name alone: a text/plain answer "
+                                                "of its value."))
     parameters.append("units")  # components/parameters/units
     return {
         "operationId": calculation.name.replace("-", "_") + "_query",
@@ -403,8 +411,8 @@ def _get_operation(prefix: str, calculation: Calculation) -> dict:
         "responses": {
             "200": {"description": "The answer of the one case.", "content": {
                 "application/json": {"schema": _ref(f"{prefix}Result")},
-                "text/plain": {"schema": {"type": "string", "description": "With one `output`: its value."}},
-                "text/csv": CSV_ANSWER}},
+                "text/plain": {"schema": _ref("OutputText")},
+                "text/csv": {"schema": _ref("CsvAnswer")}}},
             **{status: name for status, name in GET_PROBLEMS.items()},
         },
     }
