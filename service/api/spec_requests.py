@@ -134,14 +134,7 @@ def assumed_schema(calculation: Calculation, columns: bool = False) -> dict:
             "type": "array", "items": {"type": ["number", "string", "null"]}}]}, "description": (
             "The one-case result's `assumed` of the cases: each default one value where every case took the same, "
             "else one per case (null where a case gave the field).")}}
-    described = "; ".join(f"{name}: " + ", ".join(_default_text(d) for d in defaults)
-                          for name, defaults in calculation.defaults.items())
     return {"assumed": {"type": "object", "additionalProperties": value, "description": (
-        "Every default the case took for a field it left out: the declared ones (" + described
-        + "; each common practice, see the field's description), the fields' own defaults and the options'.")}}
-
-
-def _default_text(default) -> str:
-    value = f"{default.value:g}" if isinstance(default.value, float) else str(default.value)
-    where = ", ".join(v for values in default.when.values() for v in values)
-    return f"{value} ({where})" if where else value
+        "Every default the case took for a field it left out: the declared ones (" + ", ".join(calculation.defaults)
+        + "; each common practice, its value in the field's description), the fields' own defaults and the "
+        "options'.")}}

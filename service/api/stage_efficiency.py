@@ -25,13 +25,9 @@ class StageEfficiencyInput(GasInputs, InletStateInputs):
     locals().update({name: copy.deepcopy(TrianglesInput._declared_fields[name]) for name in FLOW_FIELDS})
     total_temperature = positive("Total (stagnation) temperature at the inlet (station 1). [K]", "K", required=True)
     loss_model = Option(
-        "Correlation set: `soderberg` (turbine stages: Soderberg's loss with its aspect-ratio and Reynolds "
-        "corrections, Dixon & Hall ch. 4), `kacker_okapuu` (turbine stages: Ainley-Mathieson profile loss from "
-        "the caller's chart readings with the Kacker-Okapuu revision, Kacker-Okapuu secondary loss, Denton's "
-        "trailing-edge loss, Dunham-Came tip-clearance loss) or `lieblein_howell` (compressor stages: Lieblein's "
-        "profile loss from "
-        "the wake momentum thickness, NASA SP-36 ch. 6; Howell's annulus and secondary drag, Saravanamuttoo et "
-        "al. ch. 5; Vavra's tip-clearance drag).", losses.LOSS_MODELS, required=True)
+        "Correlation set, each with its sources in the calculation's description: `soderberg` or "
+        "`kacker_okapuu` (turbine stages), `lieblein_howell` (compressor stages).", losses.LOSS_MODELS,
+        required=True)
     rotor_aspect_ratio = positive("Blade height over axial chord of the rotor. [-]", "-", required=True)
     stator_aspect_ratio = positive("Blade height over axial chord of the stator. [-]", "-", required=True)
     rotor_solidity = positive("Solidity (true chord over pitch) of the compressor rotor at the mean radius. [-]",

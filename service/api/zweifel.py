@@ -45,7 +45,8 @@ class ZweifelInput(GasInputs):
     blade_count = Quantity("Number of blades in the row, for analysis. [-]", "-", minimum=1, integer=True)
     pitch = length("Blade pitch at the mean radius, for analysis. [m]")
     definition = Option("Definition of the coefficient: `incompressible` (the usual one: ideal force from the "
-                        "outlet dynamic head) or `compressible`. " + COMPRESSIBLE_NOTE, zweifel.DEFINITIONS,
+                        "outlet dynamic head) or `compressible` (ideal force from the inlet-total to outlet-static "
+                        "pressure difference; see the calculation's description).", zweifel.DEFINITIONS,
                         load_default="incompressible")
     outlet_mach = positive("Outlet Mach number in the row's frame (compressible definition). [-]", "-")
     total_pressure = Quantity("Inlet total pressure in the row's frame, relative for a rotor (compressible "

@@ -109,11 +109,17 @@ def test_the_smallest_request_without_a_radius_names_the_choice(client):
 
 
 def test_the_document_states_each_default():
-    fields = calculation("machine-design").schema().fields
+    calc = calculation("machine-design")
+    fields = calc.schema().fields
     for name in ("flow_coefficient", "reaction", "rotor_aspect_ratio", "stator_aspect_ratio",
                  "target_diffusion_factor", "max_loading_coefficient"):
         description = fields[name].metadata["description"]
         assert "Default where left out" in description and "common practice" in description, name
+    # Every declared default's value is in its field's description (the one place the document gives it).
+    for name, defaults in calc.defaults.items():
+        for default in defaults:
+            value = f"{default.value:g}" if isinstance(default.value, float) else str(default.value)
+            assert value in fields[name].metadata["description"], (name, value)
 
 
 @pytest.fixture(scope="module")
