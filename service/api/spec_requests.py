@@ -2,7 +2,8 @@
 ``assumed`` member of an answer, written from their defaults (see :mod:`service.api.declarations`).
 
 One object of every field; each choice one small ``oneOf`` of its alternatives, each alternative
-saying which fields it requires, which it keeps out, and the option values it applies to.
+saying which fields it requires, which it keeps out, the option values it applies to and what it
+needs of the other choices.
 """
 
 from __future__ import annotations
@@ -43,9 +44,10 @@ def _choice_schema(calculation: Calculation, choice: Choice) -> dict:
 
 def _alternative_schema(calculation: Calculation, choice: Choice, alternative: Alternative) -> dict:
     """The alternative's own fields required (but those a default fills), the other alternatives'
-    fields absent (not among the case's property names) and the option values it applies to. An alternative taken on its defaults is
-    also kept from the cases that another alternative takes on its option values alone (as the
-    service prefers the alternative that needs the fewest defaults)."""
+    fields absent (not among the case's property names), the option values it applies to and the
+    alternatives of other choices it needs. An alternative taken on its defaults is also kept from
+    the cases that another alternative takes on its option values alone (as the service prefers the
+    alternative that needs the fewest defaults)."""
     schema = {"title": alternative.value, **_option_marker(calculation, alternative)}
     required = _required(calculation, alternative) + schema.pop("required", [])
     if required:
