@@ -32,6 +32,9 @@ TEXT_BODIES = {
     "CsvAnswer": "With `Accept: text/csv`: one line per case (see CSV).",
     "OutputText": "With one `output`: its value (see The GET form).",
 }
+#: The document's security requirement: an API key in its header or as a bearer token.
+KEY_SCHEMES = [{"ApiKey": []}, {"BearerKey": []}]
+
 
 def _number_schema(field: Quantity) -> dict:
     schema = {"type": "integer" if field.integer else "number"}
@@ -260,8 +263,6 @@ def _add_calculation(spec: APISpec, plugin, calculation: Calculation, known_outp
     }})
 
 
-#: The document's security requirement: an API key in its header or as a bearer token.
-KEY_SCHEMES = [{"ApiKey": []}, {"BearerKey": []}]
 POST_PROBLEMS = {"400": "InvalidJson", "401": "KeyMissing", "403": "KeyInvalid", "408": "ReceiveTimeout",
                  "413": "TooLarge", "415": "UnsupportedBody", "422": "InvalidInput", "503": "Stopped"}
 GET_PROBLEMS = {"400": "KeyInQuery", "401": "KeyMissing", "403": "KeyInvalid", "422": "InvalidInput",
