@@ -14,8 +14,8 @@ from typing import TYPE_CHECKING
 import numpy as np
 import orjson
 
-from service.api.liststext import RaggedCheck, RaggedColumn, list_lengths
-from service.api.outcome import Outcome, outcome_of
+from service.api.liststext import RaggedCheck, RaggedColumn, StatusColumn, list_lengths
+from service.api.outcome import NO_STATUS, Outcome, outcome_of, status_objects
 from service.api.problems import PHYSICALLY_IMPOSSIBLE, Problem
 from service.core.cases import LARGEST_WHOLE, CaseResults
 from service.core.checks import STATUSES
@@ -302,7 +302,7 @@ def _joined_checks(outcomes: list[Outcome], size: int) -> dict:
     for name, check in outcomes[0].checks.items():
         parts = [(o.index, o.checks[name]) for o in outcomes]
         if check["value"].ndim == 1:
-            joined = {key: np.concatenate([c[key] for _, c in parts]) for key in ("value", "status")}
+            joined = {key: np.concatenate([c[key] for _, c in parts]) for key in ("value", "code")}
         else:
             joined = {key: [c[key] for _, c in parts] for key in ("value", "code")}
         checks[name] = {**joined, **_merged_constants(parts, size)}
@@ -331,8 +331,7 @@ def _merged_checks(outcomes: list[Outcome], size: int) -> dict[str, dict]:
             shape = (size, widths[name]) if name in widths else (size,)
             merged = checks.setdefault(name, {"parts": []})
             _place(merged, "value", check["value"], outcome.index, shape, np.nan)
-            _place(merged, "status", check["status"], outcome.index, shape, None)
-            _place(merged, "code", check["code"], outcome.index, shape, 0)
+            _place(merged, "code", check["code"], outcome.index, shape, NO_STATUS)
             merged["parts"].append((outcome.index, check))
     for merged in checks.values():
         merged.update(_merged_constants(merged.pop("parts"), size))
@@ -456,9 +455,10 @@ def _check_column(check: dict, stream: bool) -> dict:
         if stream:
             value, status = (RaggedCheck([check["value"]], [check["code"]], part) for part in ("value", "status"))
         else:
-            value, status = _ragged_check(check["value"], check["status"])
+            value, status = _ragged_check(check["value"], status_objects(check["code"]))
         return {"value": value, **_rule_constants(check), "status": status}
-    return {"value": check["value"], **_rule_constants(check), "status": check["status"].tolist()}
+    status = StatusColumn(check["code"]) if stream else status_objects(check["code"]).tolist()
+    return {"value": check["value"], **_rule_constants(check), "status": status}
 
 
 def _rule_constants(check: dict) -> dict:

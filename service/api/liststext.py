@@ -14,6 +14,7 @@ from __future__ import annotations
 import numpy as np
 import orjson
 
+from service.api.outcome import status_objects
 from service.core.checks import STATUSES
 
 OPTION = orjson.OPT_SERIALIZE_NUMPY
@@ -117,3 +118,19 @@ class RaggedCheck:
     def json_pieces(self):
         yield from _pieces(self.values, lambda k, start, stop: check_text(self.values[k][start:stop],
                                                                            self.codes[k][start:stop], self.part))
+
+
+class StatusColumn:
+    """The statuses of a check with one value per case in a columns answer, given as their codes
+    (:class:`~service.api.outcome.CheckArrays`), written a slice of cases at a time: not
+    one Python list of them all per check, alive beside the answer's arrays."""
+
+    def __init__(self, codes: np.ndarray):
+        self.codes = codes
+
+    def __len__(self) -> int:
+        return len(self.codes)
+
+    def json_pieces(self):
+        yield from _pieces([self.codes], lambda _, start, stop: orjson.dumps(
+            status_objects(self.codes[start:stop]).tolist()))

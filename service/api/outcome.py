@@ -92,11 +92,11 @@ def _check_of(check, failed: np.ndarray, failed_cases: np.ndarray) -> dict:
     value = np.ascontiguousarray(check.value, dtype=float)
     if failed_cases.size:
         value = _blanked(value, failed_cases, value is not check.value and value.flags.owndata)
-    # Per stage or row too: the shared status strings, whole rows None where a case failed; the
-    # codes beside them for a columns answer, which writes its per-stage statuses from the codes.
-    code = np.broadcast_to(check.status_code, value.shape)
-    return {"value": value, "status": _status_objects(code, failed), "limit": check.limit,
-            "fail_limit": check.fail_limit, "comparison": check.comparison, "basis": check.basis, "code": code}
+    # Per stage or row too, whole rows NO_STATUS where a case failed.
+    code = np.array(np.broadcast_to(check.status_code, value.shape), dtype=np.uint8)
+    code[failed] = NO_STATUS
+    return CheckArrays(value=value, code=code, limit=check.limit, fail_limit=check.fail_limit,
+                       comparison=check.comparison, basis=check.basis)
 
 
 def _blanked(array: np.ndarray, failed_cases: np.ndarray, own: bool) -> np.ndarray:
@@ -113,14 +113,28 @@ def _blanked(array: np.ndarray, failed_cases: np.ndarray, own: bool) -> np.ndarr
     return array
 
 
+#: The status code of a case that failed (the codes below it are positions in STATUSES).
+NO_STATUS = len(STATUSES)
 #: Every status as one shared Python object, and None for a case that failed.
 _STATUS_OBJECTS = np.array([*STATUSES, None], dtype=object)
 
 
-def _status_objects(code: np.ndarray, failed: np.ndarray) -> np.ndarray:
-    """The statuses (positions in STATUSES, as ``RuleCheck.status_code``) as an object array of
-    the shared status strings, None where a case failed: a lookup into :data:`_STATUS_OBJECTS`
-    rather than one new string per case."""
-    code = np.array(code, dtype=np.uint8)
-    code[failed] = len(STATUSES)
+def status_objects(code: np.ndarray) -> np.ndarray:
+    """Status codes as an object array of the shared status strings, None where a case failed: a
+    lookup into :data:`_STATUS_OBJECTS` rather than one new string per case."""
     return _STATUS_OBJECTS[code]
+
+
+class CheckArrays(dict):
+    """A check of some cases: ``value``, ``code`` (a uint8 status code per case, or per stage or row:
+    a position in STATUSES, NO_STATUS where the case failed) and the rule's constants.
+
+    ``check["status"]``, the statuses as shared strings, is made on first use and kept (the rows of
+    an answer read it a case at a time); a columns answer writes its statuses from the codes and
+    never makes it, which spares a pointer per case and check of a large batch."""
+
+    def __missing__(self, key):
+        if key != "status":
+            raise KeyError(key)
+        status = self["status"] = status_objects(self["code"])
+        return status

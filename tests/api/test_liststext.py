@@ -17,6 +17,7 @@ from hypothesis.extra import numpy as hnp
 
 from service.api import liststext
 from service.api.layout import _ragged, _ragged_check
+from service.api.outcome import NO_STATUS
 from service.core.checks import STATUSES
 
 OPTION = orjson.OPT_SERIALIZE_NUMPY
@@ -84,6 +85,14 @@ def test_a_per_stage_check_is_the_text_of_its_finite_entries_and_their_statuses(
         for part, expected in (("value", values), ("status", statuses)):
             written = _written(liststext.RaggedCheck(value_blocks, code_blocks, part))
             assert written == orjson.dumps(expected, option=OPTION)
+
+
+@settings(max_examples=100, deadline=None, suppress_health_check=SAME_FIXTURE)
+@given(hnp.arrays(np.uint8, st.integers(0, 9), elements=st.integers(0, NO_STATUS)))
+def test_a_check_status_column_is_the_text_of_its_statuses(per_piece, code):
+    # A code past the statuses is a case that failed: null, as the layout not streamed writes it.
+    expected = [STATUSES[c] if c < NO_STATUS else None for c in code.tolist()]
+    assert _written(liststext.StatusColumn(code)) == orjson.dumps(expected)
 
 
 def test_rows_without_a_list_and_gaps_are_null():
