@@ -70,7 +70,7 @@ def evaluate(calculation: Calculation, options: dict, data: dict, size: int) -> 
 
 def outcome_of(result: CaseResults, index: np.ndarray, integer_outputs=frozenset(), assumed=None) -> Outcome:
     """Failures as reason codes (judged by the core's :func:`~service.core.cases.failure_codes`),
-    failed cases masked to NaN, statuses as shared objects: whole-array operations, none a loop
+    failed cases masked to NaN, statuses as codes (:class:`CheckArrays`): whole-array operations, none a loop
     over the cases."""
     values, own = {}, set()
     for name, array in result.values.items():
