@@ -301,10 +301,8 @@ def _joined_checks(outcomes: list[Outcome], size: int) -> dict:
     checks = {}
     for name, check in outcomes[0].checks.items():
         parts = [(o.index, o.checks[name]) for o in outcomes]
-        if check["value"].ndim == 1:
-            joined = {key: np.concatenate([c[key] for _, c in parts]) for key in ("value", "code")}
-        else:
-            joined = {key: [c[key] for _, c in parts] for key in ("value", "code")}
+        blocks = {key: [c[key] for _, c in parts] for key in ("value", "code")}
+        joined = {key: np.concatenate(b) for key, b in blocks.items()} if check["value"].ndim == 1 else blocks
         checks[name] = {**joined, **_merged_constants(parts, size)}
     return checks
 

@@ -70,8 +70,8 @@ def evaluate(calculation: Calculation, options: dict, data: dict, size: int) -> 
 
 def outcome_of(result: CaseResults, index: np.ndarray, integer_outputs=frozenset(), assumed=None) -> Outcome:
     """Failures as reason codes (judged by the core's :func:`~service.core.cases.failure_codes`),
-    failed cases masked to NaN, statuses as codes (:class:`CheckArrays`): whole-array operations, none a loop
-    over the cases."""
+    failed cases masked to NaN, statuses as codes (:class:`CheckArrays`): whole-array operations,
+    none a loop over the cases."""
     values, own = {}, set()
     for name, array in result.values.items():
         # An input passed through as an output can be a broadcast view; the writer needs it whole.
